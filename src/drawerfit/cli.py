@@ -1,0 +1,128 @@
+"""The `drawerfit` command: thin click commands over the library.
+
+Heavy libraries (pandas, scipy, ortools, matplotlib, openpyxl) are imported inside the commands,
+so `drawerfit --help` stays fast.  User mistakes become one line on stderr and an exit status
+(2 bad input, 3 no design in stock), never a traceback.
+"""
+
+from __future__ import annotations
+
+import functools
+import json
+import sys
+
+import click
+
+from .parts import DrawerfitError
+from .values import ValueParseError, parse_quantity
+
+EXIT_BAD_INPUT = 2
+EXIT_NO_DESIGN = 3
+
+
+class ValueType(click.ParamType):
+    """A component value on the command line, read by the same parser as the stock loader."""
+
+    name = "value"
+
+    def __init__(self, expect: str | None = None):
+        self.expect = expect
+
+    def convert(self, value, param, ctx):
+        if not isinstance(value, str):
+            return value
+        try:
+            return parse_quantity(value, self.expect)
+        except ValueParseError as exc:
+            self.fail(str(exc), param, ctx)
+
+
+class FractionType(click.ParamType):
+    """A window or tolerance: '1%', '0.5 %' or a fraction such as 0.01."""
+
+    name = "fraction"
+
+    def convert(self, value, param, ctx):
+        from .values import parse_tolerance
+
+        if isinstance(value, float):
+            return value
+        try:
+            return parse_tolerance(value)
+        except ValueParseError as exc:
+            self.fail(str(exc), param, ctx)
+
+
+def user_errors(fn):
+    """Turn DrawerfitError into a clean message and its exit status."""
+
+    @functools.wraps(fn)
+    def wrapper(*args, **kwargs):
+        try:
+            return fn(*args, **kwargs)
+        except DrawerfitError as exc:
+            click.echo(f"drawerfit: {exc}", err=True)
+            sys.exit(exc.exit_status)
+
+    return wrapper
+
+
+def emit_json(data) -> None:
+    click.echo(json.dumps(data, indent=2, ensure_ascii=False, allow_nan=False))
+
+
+@click.group(context_settings={"help_option_names": ["-h", "--help"]})
+@click.version_option(package_name="drawerfit")
+def main() -> None:
+    """Design and fill small transistor stages from the parts you already own."""
+
+
+# --- stock and match (values, loader, equivalents) -------------------------------------------
+
+
+@main.command()
+@click.argument("file", type=click.Path(dir_okay=False))
+@click.option("--json", "as_json", is_flag=True, help="Print the lines and problems as JSON.")
+@click.option("--strict", is_flag=True, help="Fail (exit 2) if any line cannot be read.")
+@user_errors
+def stock(file: str, as_json: bool, strict: bool) -> None:
+    """Load a stock file (CSV or XLSX) and summarise what it holds."""
+    from .commands.stock_cmd import run_stock
+
+    run_stock(file, as_json=as_json, strict=strict)
+
+
+@main.command()
+@click.argument("value", type=ValueType())
+@click.option("--stock", "stock_file", required=True, type=click.Path(dir_okay=False), help="Stock file.")
+@click.option("--within", type=FractionType(), default=None, help="Window around VALUE, e.g. 1% or 0.01.")
+@click.option("--max-parts", type=click.IntRange(1, 3), default=2, show_default=True)
+@click.option("--power", type=ValueType("W"), default=None, help="Power rating the substitute must offer (resistors).")
+@click.option("--voltage", type=ValueType("V"), default=None, help="Voltage rating the substitute must offer (capacitors).")
+@click.option("--units", type=click.IntRange(1), default=1, show_default=True, help="How many are needed.")
+@click.option("--top", type=click.IntRange(1), default=10, show_default=True)
+@click.option("--json", "as_json", is_flag=True)
+@click.option("--strict", is_flag=True, help="Fail (exit 2) if any stock line cannot be read.")
+@user_errors
+def match(value, stock_file, within, max_parts, power, voltage, units, top, as_json, strict) -> None:
+    """Find what in the drawer makes VALUE: single parts, series or parallel pairs, triples."""
+    from .commands.match_cmd import run_match
+
+    run_match(value, stock_file, within=within, max_parts=max_parts, power=power, voltage=voltage,
+              units=units, top=top, as_json=as_json, strict=strict)
+
+
+# --- analyze (stage models) ------------------------------------------------------------------
+
+
+# --- design (optimizer) and demo -------------------------------------------------------------
+
+
+# --- kit and take (parts lists, stock updates) -----------------------------------------------
+
+
+# --- report and export -----------------------------------------------------------------------
+
+
+if __name__ == "__main__":  # pragma: no cover
+    main()

@@ -15,6 +15,9 @@ rs=0, rl=inf, hfe, vbe=0.65, vce_sat=0.2, temp_c=25, vbe_tempco=-2e-3, i_sat=Non
 ``low_corner(dc, *, c1, c2, ce=0) -> Corners``
     The whole-stage -3 dB low corner from the full small-signal transfer function (every
     capacitor in it) and each capacitor's own corner.
+``meets_corner(dc, *, c1, c2, ce=0, f_target) -> bool array``
+    Whether the whole-stage corner is at or below ``f_target``: one transfer evaluation, no
+    root search (|H| rises monotonically with f), for filtering large batches.
 ``evaluate(*, ..., c1, c2, ce=0, bypassed=None) -> Figures``
     Both of the above; ``bypassed`` defaults to ``ce > 0``.
 ``transfer(dc, *, c1, c2, ce=0, f) -> complex array``
@@ -64,7 +67,7 @@ __all__ = [
     "LIMIT_NONE", "LIMIT_CUTOFF", "LIMIT_SATURATION", "LIMIT_NAMES",
     "TOPOLOGIES", "POLARITIES",
     "DCFigures", "Corners", "Figures", "WorstCase",
-    "evaluate_dc", "low_corner", "evaluate", "transfer", "worst_case", "monte_carlo",
+    "evaluate_dc", "low_corner", "meets_corner", "evaluate", "transfer", "worst_case", "monte_carlo",
     "TOLERANCE_KEYS",
 ]
 
@@ -323,47 +326,57 @@ def evaluate_dc(
     return dc
 
 
-def _transfer_at(inp: Mapping[str, object], re_s, active, c1, c2, ce, f):
-    """Source-to-load transfer at frequency ``f`` (arrays broadcast), by impedance reduction.
+class _Kernel:
+    """Per-stage constants of the low-frequency transfer function, computed once per batch.
 
-    Exact for the small-signal model (hybrid-π without Early effect): the collector is an ideal
-    current source β·ib, so the stage reduces to series/parallel impedances.
+    The transfer is found by impedance reduction, exact for the small-signal model (hybrid-π
+    without Early effect: the collector is an ideal current source β·ib).  The load enters as a
+    conductance (0 for no load) so that no infinities reach the complex arithmetic.
     """
-    s = 1j * _TWO_PI * f
-    beta = inp["beta"]
-    rs, rbias, re, rl = inp["rs"], inp["rbias"], inp["re"], inp["rl"]
-    with np.errstate(divide="ignore", invalid="ignore"):
-        z1 = 1.0 / (s * c1)
-        z2 = 1.0 / (s * c2)
-        loaded = np.isfinite(rl)
-        rl_f = np.where(loaded, rl, 1.0)
-        z_out_branch = np.where(loaded, z2 + rl_f, np.inf)
-        divider_out = np.where(loaded, rl_f / (z2 + rl_f), 1.0)
-        rpi = (beta + 1.0) * re_s
-        if inp["topology"] == "emitter-follower":
-            ze = np.where(loaded, re * z_out_branch / (re + z_out_branch), re + 0j)
-            zb = rpi + (beta + 1.0) * ze
-            to_out = (beta + 1.0) * ze / zb  # ve / vb
+
+    def __init__(self, dc: DCFigures, c1, c2, ce):
+        inp = dc.inputs
+        self.follower = inp["topology"] == "emitter-follower"
+        self.active = dc.state == ACTIVE
+        beta = inp["beta"]
+        self.bp1 = beta + 1.0
+        self.beta = beta
+        self.rpi = np.where(self.active, (beta + 1.0) * dc.re_small, 1.0)
+        self.rs = inp["rs"]
+        self.gb = 1.0 / inp["rbias"]
+        rl = inp["rl"]
+        self.gl = np.where(np.isfinite(rl), 1.0 / np.where(np.isfinite(rl), rl, 1.0), 0.0)
+        self.c1 = np.asarray(c1, float)
+        self.c2 = np.asarray(c2, float)
+        self.gre = 1.0 / inp["re"]
+        if not self.follower:
+            self.re = inp["re"]
+            self.re2 = inp["re2"]
+            self.ce = np.asarray(ce, float)
+            self.grc = 1.0 / inp["rc"]
+
+    def __call__(self, f):
+        s = 1j * _TWO_PI * f
+        sc2 = s * self.c2
+        y_out = sc2 * self.gl / (self.gl + sc2)  # admittance of C2 in series with the load
+        div_out = sc2 / (self.gl + sc2)  # load voltage over stage-node voltage
+        if self.follower:
+            ye = self.gre + y_out
+            zb = self.rpi + self.bp1 / ye
+            to_out = self.bp1 / (ye * self.rpi + self.bp1)  # ve / vb
         else:
-            re2, rc = inp["re2"], inp["rc"]
-            zce = np.where(ce > 0, 1.0 / (s * np.where(ce > 0, ce, 1.0)), np.inf)
-            z_re2 = np.where(
-                re2 > 0, np.where(np.isfinite(zce), re2 * zce / (re2 + zce), re2 + 0j), 0j
-            )
-            ze = re + z_re2
-            zb = rpi + (beta + 1.0) * ze
-            zc = np.where(loaded, rc * z_out_branch / (rc + z_out_branch), rc + 0j)
-            to_out = -beta * zc / zb  # vc / vb
-        zin_b = rbias * zb / (rbias + zb)
-        vb_over_vs = zin_b / (rs + z1 + zin_b)
-        h = vb_over_vs * to_out * divider_out
-    return np.where(active, h, 0j)
+            ze = self.re + self.re2 / (1.0 + s * self.ce * self.re2)
+            zb = self.rpi + self.bp1 * ze
+            to_out = -self.beta / (zb * (self.grc + y_out))  # vc / vb
+        zin_b = 1.0 / (self.gb + 1.0 / zb)
+        h = zin_b / (self.rs + 1.0 / (s * self.c1) + zin_b) * to_out * div_out
+        return np.where(self.active, h, 0j)
 
 
 def transfer(dc: DCFigures, *, c1, c2, ce=0.0, f) -> np.ndarray:
     """Complex source-to-load voltage transfer of the stages at frequencies ``f`` (Hz)."""
-    return _transfer_at(dc.inputs, dc.re_small, dc.state == ACTIVE, np.asarray(c1, float),
-                        np.asarray(c2, float), np.asarray(ce, float), np.asarray(f, float))
+    with np.errstate(divide="ignore", invalid="ignore"):
+        return _Kernel(dc, c1, c2, ce)(np.asarray(f, float))
 
 
 def _own_corners(dc: DCFigures, c1, c2, ce):
@@ -382,14 +395,15 @@ def _own_corners(dc: DCFigures, c1, c2, ce):
             np.broadcast_to(f_ce, shape))
 
 
-def low_corner(dc: DCFigures, *, c1, c2, ce=0.0, iterations: int = 48) -> Corners:
+def low_corner(dc: DCFigures, *, c1, c2, ce=0.0, rtol: float = 1e-7) -> Corners:
     """Whole-stage −3 dB low corner and each capacitor's own corner, Hz.
 
     The corner is where |H(f)|² falls to half its mid-band value, H the full transfer function
-    with every capacitor.  |H| rises monotonically with f for these high-pass networks, so the
-    root is bracketed in log f (from the capacitors' own corners) and found by bisection, all
-    candidates at once.  ``iterations`` bisection steps on a bracket of at most 1e6:1 give a
-    relative error below 1e-7.  Stages outside the active region get NaN.
+    with every capacitor (not a sum of poles).  |H| rises monotonically with f for these
+    high-pass networks, so the root of g(t) = ln|H(e^t)|² − ln(|H_mid|²/2) is bracketed in
+    t = ln f from the capacitors' own corners ([max/1e3, sum·1e3]) and found by the Illinois
+    variant of regula falsi, all candidates at once, to a relative error ``rtol`` in f.
+    Stages outside the active region, or whose root is not in the bracket, get NaN.
     """
     c1 = np.asarray(c1, float)
     c2 = np.asarray(c2, float)
@@ -397,23 +411,51 @@ def low_corner(dc: DCFigures, *, c1, c2, ce=0.0, iterations: int = 48) -> Corner
     f_c1, f_c2, f_ce = _own_corners(dc, c1, c2, ce)
     shape = f_c1.shape
     active = np.broadcast_to(dc.state == ACTIVE, shape)
-    inp = dc.inputs
-    re_s = np.broadcast_to(dc.re_small, shape)
-    h_mid = np.broadcast_to(np.abs(dc.gain), shape)
-    target = 0.5 * h_mid**2
     f_max = np.maximum(np.maximum(f_c1, f_c2), f_ce)
     f_sum = f_c1 + f_c2 + f_ce
     good = active & (f_max > 0) & np.isfinite(f_sum)
-    lo = np.log(np.where(good, f_max * 1e-3, 1.0))
-    hi = np.log(np.where(good, np.maximum(f_sum, f_max) * 1e3, 1.0))
-    for _ in range(iterations):
-        mid = 0.5 * (lo + hi)
-        h = _transfer_at(inp, re_s, active, c1, c2, ce, np.exp(mid))
-        below = (h.real**2 + h.imag**2) < target
-        lo = np.where(below, mid, lo)
-        hi = np.where(below, hi, mid)
-    f_low = np.where(good, np.exp(0.5 * (lo + hi)), np.nan)
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        kernel = _Kernel(dc, c1, c2, ce)
+        log_target = np.log(0.5) + 2.0 * np.log(np.abs(np.broadcast_to(dc.gain, shape)))
+
+        def g(t):
+            h = kernel(np.exp(t))
+            return np.log(h.real**2 + h.imag**2) - log_target
+
+        a = np.log(np.where(good, f_max * 1e-3, 1.0))
+        b = np.log(np.where(good, np.maximum(f_sum, f_max) * 1e3, 10.0))
+        ga, gb = g(a), g(b)
+        good = good & (ga < 0) & (gb > 0)
+        ga = np.where(good, ga, -1.0)
+        gb = np.where(good, gb, 1.0)
+        side = np.zeros(shape, dtype=np.int8)
+        for _ in range(100):
+            t = (a * gb - b * ga) / (gb - ga)
+            gt = g(t)
+            left = gt < 0  # root lies in [t, b]
+            # Illinois: halve the stale end's value when the same end is kept twice.
+            gb = np.where(left & (side == 1), 0.5 * gb, gb)
+            ga = np.where(~left & (side == -1), 0.5 * ga, ga)
+            a, ga = np.where(left, t, a), np.where(left, gt, ga)
+            b, gb = np.where(left, b, t), np.where(left, gb, gt)
+            side = np.where(left, 1, -1).astype(np.int8)
+            if np.all(~good | (b - a < rtol) | (np.abs(gt) < 1e-12)):
+                break
+        t = (a * gb - b * ga) / (gb - ga)
+    f_low = np.where(good, np.exp(t), np.nan)
     return Corners(f_low=f_low, f_c1=f_c1, f_c2=f_c2, f_ce=f_ce)
+
+
+def meets_corner(dc: DCFigures, *, c1, c2, ce=0.0, f_target) -> np.ndarray:
+    """True where the whole-stage −3 dB corner is at or below ``f_target`` (Hz).
+
+    One evaluation of the transfer function instead of a root search: |H| rises with f, so
+    f_low ≤ f_target exactly when |H(f_target)|² ≥ |H_mid|²/2.  For filtering many candidates.
+    """
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        h = _Kernel(dc, c1, c2, ce)(np.asarray(f_target, float))
+        mag2 = h.real**2 + h.imag**2
+        return (dc.state == ACTIVE) & (mag2 >= 0.5 * dc.gain**2)
 
 
 _CAP_KEYS = ("c1", "c2", "ce")

@@ -484,7 +484,10 @@ class WorstCase:
     """The lowest and highest value of each numeric figure over the tolerance box.
 
     ``low[name]`` and ``high[name]`` are arrays of the candidates' shape.  ``all_active`` is
-    True where the transistor is in the active region at every vertex.
+    True where the transistor is in the active region at every vertex.  With the capacitors
+    held at their low ends, ``high["f_low"]`` (and the corners') is the true worst case and
+    ``low["f_low"]`` is not a bound; ``low["swing_peak"]`` is exact, ``high["swing_peak"]``
+    may be exceeded inside the box.
     """
 
     low: Mapping[str, np.ndarray]

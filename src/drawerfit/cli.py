@@ -115,6 +115,22 @@ def match(value, stock_file, within, max_parts, power, voltage, units, top, as_j
 # --- analyze (stage models) ------------------------------------------------------------------
 
 
+@main.command()
+@click.argument("spec", type=click.Path(dir_okay=False))
+@click.option("--stock", "stock_file", type=click.Path(dir_okay=False), default=None,
+              help="Stock file, to look up [transistor] label.")
+@click.option("--json", "as_json", is_flag=True, help="Print the figures as JSON (SI units).")
+@click.option("--monte-carlo", "monte_carlo", type=click.IntRange(0, 10_000_000), default=0,
+              show_default=True, help="Random builds to simulate from the tolerances.")
+@click.option("--seed", type=int, default=0, show_default=True, help="Seed for --monte-carlo.")
+@user_errors
+def analyze(spec, stock_file, as_json, monte_carlo, seed) -> None:
+    """Analyse the stage in SPEC (TOML with [parts]): bias, gain, corner, swing, ratings, spread."""
+    from .commands.analyze_cmd import run_analyze
+
+    run_analyze(spec, stock_file=stock_file, as_json=as_json, monte_carlo=monte_carlo, seed=seed)
+
+
 # --- design (optimizer) and demo -------------------------------------------------------------
 
 

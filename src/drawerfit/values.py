@@ -22,6 +22,7 @@ __all__ = [
     "parse_value_and_tolerance",
     "format_si",
     "format_code",
+    "implied_unit",
     "UNIT_SYMBOL",
 ]
 
@@ -87,7 +88,7 @@ class Quantity:
 _NUM = r"(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?"
 _PREFIX_CHARS = "pnuµμmkKMGTf"
 # IEC 60062 letter code: the prefix letter (or R for the unit) stands where the decimal point goes.
-_CODE_RE = re.compile(rf"^(\d*)([{_PREFIX_CHARS}Rr])(\d*)$")
+_CODE_RE = re.compile(rf"^(\d*)([{_PREFIX_CHARS}RrF])(\d*)$")
 # number, optional prefix (or 'meg'), optional unit word.
 _PLAIN_RE = re.compile(
     rf"^({_NUM})(?:(meg|MEG|Meg)|([{_PREFIX_CHARS}]))?([A-Za-zΩΩ%]*)$"
@@ -156,6 +157,8 @@ def _parse_compact(s: str, original: str) -> Quantity:
             continue
         if m.group(3) == "" and m.group(2) not in "Rr":
             continue  # '4k' is plain prefix notation, handled below
+        if m.group(2) == "F" and not (m.group(1) and m.group(3)):
+            continue  # 'F' marks the decimal point only between digits ('1F5'); '10F' is ten farads
         try:
             tail_unit = _unit_of(tail, original)
         except ValueParseError:
@@ -166,6 +169,8 @@ def _parse_compact(s: str, original: str) -> Quantity:
             if tail_unit not in (None, "ohm"):
                 raise ValueParseError(original, "R marks ohms and cannot take another unit")
             return Quantity(float(number), "ohm")
+        if letter == "F":
+            return Quantity(float(number), "F")
         return Quantity(_scaled(number, PREFIX_EXP[letter]), tail_unit)
 
     m = _PLAIN_RE.match(s)
@@ -194,6 +199,25 @@ def _parse_compact(s: str, original: str) -> Quantity:
     if unit == "%":
         return Quantity(_scaled(number, exp - 2), "%")
     return Quantity(_scaled(number, exp), unit)
+
+
+def implied_unit(text: object) -> str | None:
+    """Ohm or farad from how a value is written when it names no unit: the R code or a k/M/G prefix
+    means ohms (nobody stocks kilofarads), a p/n/µ prefix means farads (nor nano-ohms); else None."""
+    try:
+        q = parse_quantity(text)
+    except ValueParseError:
+        return None
+    if q.unit in ("ohm", "F"):
+        return q.unit
+    if q.unit is not None or not isinstance(text, str):
+        return None
+    letters = re.sub(r"[\d.\s,eE+-]", "", text)
+    if letters in ("k", "K", "M", "meg", "MEG", "Meg", "G"):
+        return "ohm"
+    if letters in ("p", "n", "u", "µ", "μ"):
+        return "F"
+    return None
 
 
 def parse_value(text: object, expect: str | None = None) -> float:
@@ -235,7 +259,7 @@ def parse_value_and_tolerance(text: object, expect: str | None = None) -> tuple[
     return parse_value(text, expect), None
 
 
-def _engineering(value: float) -> tuple[float, str]:
+def _engineering(value: float, digits: int = 4) -> tuple[float, str]:
     if value == 0 or not math.isfinite(value):
         return value, ""
     exp3 = int(math.floor(math.log10(abs(value)) / 3.0)) * 3
@@ -243,7 +267,7 @@ def _engineering(value: float) -> tuple[float, str]:
     prefixes = {-15: "f", -12: "p", -9: "n", -6: "µ", -3: "m", 0: "", 3: "k", 6: "M", 9: "G", 12: "T"}
     mant = value / 10.0**exp3
     # rounding can carry into the next decade group (999.96 -> 1000)
-    if abs(round(mant, 3)) >= 1000 and exp3 < 12:
+    if abs(float(f"{mant:.{digits}g}")) >= 1000 and exp3 < 12:
         exp3 += 3
         mant = value / 10.0**exp3
     return mant, prefixes[exp3]
@@ -262,7 +286,7 @@ def format_si(value: float | None, unit: str | None = "ohm", digits: int = 4) ->
         return "—"
     if unit == "%":
         return f"{_trim(value * 100.0, digits)} %"
-    mant, prefix = _engineering(value)
+    mant, prefix = _engineering(value, digits)
     sym = UNIT_SYMBOL.get(unit, unit or "")
     return f"{_trim(mant, digits)} {prefix}{sym}".rstrip()
 
@@ -275,7 +299,7 @@ def format_code(value: float, unit: str = "ohm", ascii_only: bool = False, digit
     """
     if value <= 0 or not math.isfinite(value):
         raise ValueError(f"cannot write {value!r} in the letter code")
-    mant, prefix = _engineering(value)
+    mant, prefix = _engineering(value, digits)
     if unit == "ohm" and prefix == "":
         letter = "R"
     elif unit == "ohm" and prefix == "m":

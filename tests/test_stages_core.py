@@ -295,3 +295,27 @@ def test_worst_case_vertices_against_a_dense_grid():
     for name in ("ie", "ve", "gain", "rin", "rout", "swing_peak", "f_low"):
         assert float(wc.low[name]) == pytest.approx(getattr(grid, name).min(), rel=1e-9), name
         assert float(wc.high[name]) == pytest.approx(getattr(grid, name).max(), rel=1e-9), name
+
+
+def test_worst_case_over_candidate_arrays():
+    # Batch of candidates == each candidate alone; meets_f_target == (worst f_low <= target).
+    rng = np.random.default_rng(5)
+    n = 40
+    r1 = rng.uniform(30e3, 70e3, n)
+    c1 = rng.uniform(0.5e-6, 10e-6, n)
+    kw = {**NOMINAL, "r1": r1, "c1": c1}
+    wc = worst_case(tolerances=TOLS, hfe_min=100, hfe_max=300, temp_min=0, temp_max=50,
+                    f_target=12.0, **kw)
+    fast = worst_case(tolerances=TOLS, hfe_min=100, hfe_max=300, temp_min=0, temp_max=50,
+                      corner=False, **kw)
+    assert "f_low" not in fast.low
+    np.testing.assert_array_equal(fast.low["ie"], wc.low["ie"])
+    active = wc.all_active
+    assert np.array_equal(wc.meets_f_target[active], (wc.high["f_low"] <= 12.0)[active])
+    assert 0 < wc.meets_f_target.sum() < n
+    for i in (0, 17, 39):
+        one = worst_case(tolerances=TOLS, hfe_min=100, hfe_max=300, temp_min=0, temp_max=50,
+                         **{**NOMINAL, "r1": r1[i], "c1": c1[i]})
+        for name in ("ie", "gain", "f_low", "swing_peak"):
+            assert wc.low[name][i] == pytest.approx(float(one.low[name]), rel=1e-6)
+            assert wc.high[name][i] == pytest.approx(float(one.high[name]), rel=1e-6)

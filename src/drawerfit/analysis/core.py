@@ -492,7 +492,10 @@ def evaluate(*, c1, c2, ce=0.0, bypassed=None, **kwargs) -> Figures:
     if bypassed is None:
         bypassed = np.asarray(ce, float) > 0
     dc = evaluate_dc(bypassed=bypassed, **kwargs)
-    corners = low_corner(dc, c1=c1, c2=c2, ce=ce)
+    return _with_corners(dc, low_corner(dc, c1=c1, c2=c2, ce=ce))
+
+
+def _with_corners(dc: DCFigures, corners: Corners) -> Figures:
     shape = corners.f_low.shape
     values = {f.name: getattr(dc, f.name) for f in fields(DCFigures)}
     if shape != dc.shape:
@@ -520,6 +523,7 @@ class WorstCase:
     high: Mapping[str, np.ndarray]
     all_active: np.ndarray
     vertices: int
+    meets_f_target: np.ndarray | None = None  # corner ≤ f_target at every vertex (if asked)
 
 
 def worst_case(
@@ -529,6 +533,9 @@ def worst_case(
     hfe_max,
     temp_min=NOMINAL_TEMP_C,
     temp_max=NOMINAL_TEMP_C,
+    corner: bool = True,
+    f_target=None,
+    names=None,
     **nominal,
 ) -> WorstCase:
     """Lowest and highest figures over part tolerances, the hFE range and the ambient range.
@@ -540,6 +547,13 @@ def worst_case(
     the symmetric swing (a minimum of two monotone limits) the low end is exact.  The loop is
     over the at most 2**7 vertices, each a vectorised call over all candidates.
     ``tolerances`` maps parameter names (``TOLERANCE_KEYS``) to fractions (floats or arrays).
+
+    ``corner=False`` skips the corner search (DC and mid-band figures only, several times
+    faster); ``f_target`` (Hz) adds ``meets_f_target``, True where the whole-stage corner is at or
+    below it at every vertex, from one transfer evaluation per vertex (``meets_corner``), which
+    is how a search should test a corner target.  ``names`` limits the low/high reduction to
+    those figures (a search needs a handful, not all).  A vertex where the stage is not active yields
+    NaN corners, which the low/high reduction skips: check ``all_active``.
     """
     bad = set(tolerances) - set(TOLERANCE_KEYS)
     if bad:
@@ -568,14 +582,27 @@ def worst_case(
     low: dict[str, np.ndarray] = {}
     high: dict[str, np.ndarray] = {}
     all_active = None
+    meets = None
     for v in range(n_vert):
         kw = dict(nominal)
         for bit, (key, ends) in enumerate(axes):
             kw[key] = ends[(v >> bit) & 1]
-        fig = evaluate(**kw)
+        caps = {k: kw.pop(k) for k in _CAP_KEYS if k in kw}
+        bypassed = kw.pop("bypassed", None)
+        if bypassed is None:
+            bypassed = np.asarray(caps.get("ce", 0.0), float) > 0
+        fig = evaluate_dc(bypassed=bypassed, **kw)
+        if corner:
+            cor = low_corner(fig, **caps)
+            fig = _with_corners(fig, cor)
+        if f_target is not None:
+            m = meets_corner(fig, f_target=f_target, **caps)
+            meets = m if meets is None else (meets & m)
         act = fig.state == ACTIVE
         all_active = act if all_active is None else (all_active & act)
-        for name in NUMERIC_FIELDS:
+        for name in (NUMERIC_FIELDS if names is None else names):
+            if not hasattr(fig, name) or getattr(fig, name) is None:
+                continue
             val = getattr(fig, name)
             if name in low:
                 low[name] = np.fmin(low[name], val)
@@ -583,7 +610,8 @@ def worst_case(
             else:
                 low[name] = np.array(val, copy=True)
                 high[name] = np.array(val, copy=True)
-    return WorstCase(low=low, high=high, all_active=all_active, vertices=n_vert)
+    return WorstCase(low=low, high=high, all_active=all_active, vertices=n_vert,
+                     meets_f_target=meets)
 
 
 def monte_carlo(

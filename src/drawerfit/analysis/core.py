@@ -22,8 +22,13 @@ rs=0, rl=inf, hfe, vbe=0.65, vce_sat=0.2, temp_c=25, vbe_tempco=-2e-3, i_sat=Non
     Both of the above; ``bypassed`` defaults to ``ce > 0``.
 ``transfer(dc, *, c1, c2, ce=0, f) -> complex array``
     Source-to-load voltage transfer at frequencies ``f`` (Hz), broadcast against the stage.
-``worst_case(*, tolerances, hfe_min, hfe_max, temp_min, temp_max, **nominal) -> WorstCase``
-    Lowest and highest of every figure over the corners of the tolerance box.
+``worst_case(*, tolerances, hfe_min, hfe_max, temp_min, temp_max, corner=True, f_target=None,
+names=None, **nominal) -> WorstCase``
+    Lowest and highest of every figure over the corners of the tolerance box (``f_target``:
+    also whether the corner meets it at every vertex).
+``worst_case_by_signs(*, tolerances, ..., names, corner=False, f_target=None, **nominal)``
+    The same from (k + 1) + 2·figures evaluations, choosing each figure's extreme vertex from
+    the signs of its changes at the centre of the box: for searches over many candidates.
 ``monte_carlo(n, *, seed, tolerances, hfe_min, hfe_max, temp_min, temp_max, **nominal) -> Figures``
     ``n`` seeded random builds of one nominal stage, evaluated in one vectorised call.
 
@@ -67,7 +72,8 @@ __all__ = [
     "LIMIT_NONE", "LIMIT_CUTOFF", "LIMIT_SATURATION", "LIMIT_NAMES",
     "TOPOLOGIES", "POLARITIES",
     "DCFigures", "Corners", "Figures", "WorstCase",
-    "evaluate_dc", "low_corner", "meets_corner", "evaluate", "transfer", "worst_case", "monte_carlo",
+    "evaluate_dc", "low_corner", "meets_corner", "evaluate", "transfer", "worst_case",
+    "worst_case_by_signs", "monte_carlo",
     "TOLERANCE_KEYS",
 ]
 
@@ -526,35 +532,8 @@ class WorstCase:
     meets_f_target: np.ndarray | None = None  # corner ≤ f_target at every vertex (if asked)
 
 
-def worst_case(
-    *,
-    tolerances: Mapping[str, object],
-    hfe_min,
-    hfe_max,
-    temp_min=NOMINAL_TEMP_C,
-    temp_max=NOMINAL_TEMP_C,
-    corner: bool = True,
-    f_target=None,
-    names=None,
-    **nominal,
-) -> WorstCase:
-    """Lowest and highest figures over part tolerances, the hFE range and the ambient range.
-
-    Vertex enumeration: every resistor with a non-zero tolerance at its two ends, hFE at
-    ``hfe_min`` and ``hfe_max``, temperature at both ends; the capacitors are held at their
-    lowest values (value·(1 − tol)), because every corner falls as capacitance grows.  Exact for
-    figures monotone in each parameter on the box, which the DC and mid-band figures are; for
-    the symmetric swing (a minimum of two monotone limits) the low end is exact.  The loop is
-    over the at most 2**7 vertices, each a vectorised call over all candidates.
-    ``tolerances`` maps parameter names (``TOLERANCE_KEYS``) to fractions (floats or arrays).
-
-    ``corner=False`` skips the corner search (DC and mid-band figures only, several times
-    faster); ``f_target`` (Hz) adds ``meets_f_target``, True where the whole-stage corner is at or
-    below it at every vertex, from one transfer evaluation per vertex (``meets_corner``), which
-    is how a search should test a corner target.  ``names`` limits the low/high reduction to
-    those figures (a search needs a handful, not all).  A vertex where the stage is not active yields
-    NaN corners, which the low/high reduction skips: check ``all_active``.
-    """
+def _box(tolerances, nominal, hfe_min, hfe_max, temp_min, temp_max):
+    """(nominal with capacitors at their low ends, [(parameter, (low end, high end)), ...])."""
     bad = set(tolerances) - set(TOLERANCE_KEYS)
     if bad:
         raise ValueError(f"no tolerance for {sorted(bad)}; use {TOLERANCE_KEYS}")
@@ -573,11 +552,150 @@ def worst_case(
             continue
         base = np.asarray(nominal[key], float)
         axes.append((key, (base * (1.0 - tol), base * (1.0 + tol))))
-    axes.append(("hfe", (hfe_min, hfe_max)))
+    axes.append(("hfe", (np.asarray(hfe_min, float), np.asarray(hfe_max, float))))
     if np.any(np.asarray(temp_min) != np.asarray(temp_max)):
-        axes.append(("temp_c", (temp_min, temp_max)))
+        axes.append(("temp_c", (np.asarray(temp_min, float), np.asarray(temp_max, float))))
     else:
         nominal["temp_c"] = temp_min
+    return nominal, axes
+
+
+def _split_caps(kw):
+    kw = dict(kw)
+    caps = {k: kw.pop(k) for k in _CAP_KEYS if k in kw}
+    bypassed = kw.pop("bypassed", None)
+    if bypassed is None:
+        bypassed = np.asarray(caps.get("ce", 0.0), float) > 0
+    return kw, caps, bypassed
+
+
+def worst_case_by_signs(
+    *,
+    tolerances: Mapping[str, object],
+    hfe_min,
+    hfe_max,
+    temp_min=NOMINAL_TEMP_C,
+    temp_max=NOMINAL_TEMP_C,
+    names=("ie", "vce", "gain", "rin", "rout", "swing_peak"),
+    corner: bool = False,
+    f_target=None,
+    **nominal,
+) -> WorstCase:
+    """The worst case of ``names`` from a few evaluations instead of every vertex: for searches.
+
+    The sign of each figure's change along each parameter is taken at the centre of the box
+    (one extra evaluation per parameter), and each figure is then evaluated at its own lowest
+    and highest vertex (chosen per candidate).  Equal to ``worst_case`` when every figure is
+    monotone in each parameter over the box (tests compare the two).  ``all_active`` is judged
+    at the vertices of lowest IE (cut-off comes first there) and lowest VCE (saturation).
+    ``swing_peak``'s low end is the lower of the two swing limits' low ends; its high end is
+    an upper bound.  ``corner``/``f_target``: the vertex that minimises |H(f)|/|H_mid| (at
+    ``f_target``, else at the centre's corner) gives ``high["f_low"]`` and ``meets_f_target``.
+    ``all_active`` is False also where the centre of the box is not active.
+    Costs (k + 1) + 2·(figures) DC evaluations for k parameters, against 2**k.
+
+    Measured against ``worst_case`` (tests/test_stages_core.py): IE and VCE agree exactly for
+    both stages; the other figures are not monotone in every parameter (R2 raises IE, so re
+    falls, but lowers the divider's impedance; VCE falls as RC grows while RC∥RL rises) and
+    differ by up to a few percent.  A search that uses this to prune should confirm its final
+    answer with ``worst_case``.
+    """
+    nominal, axes = _box(tolerances, nominal, hfe_min, hfe_max, temp_min, temp_max)
+    base, caps, bypassed = _split_caps(nominal)
+    centre = {key: 0.5 * (lo + hi) for key, (lo, hi) in axes}
+    dc_names = set(names) | {"ie", "vce"}
+    if "swing_peak" in dc_names:
+        dc_names |= {"swing_up", "swing_down"}
+    dc_names.discard("swing_peak")
+    dc_names = sorted(dc_names - {"f_low", "f_c1", "f_c2", "f_ce"})
+    want_corner = corner or f_target is not None
+
+    def run(kw):
+        return evaluate_dc(bypassed=bypassed, **{**base, **kw})
+
+    f0 = run(centre)
+    f_probe = None
+    if want_corner:
+        f_probe = (np.asarray(f_target, float) if f_target is not None
+                   else low_corner(f0, **caps).f_low)
+
+    def ratio(dc):
+        with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+            h = _Kernel(dc, caps.get("c1"), caps.get("c2"), caps.get("ce", 0.0))(f_probe)
+            return (h.real**2 + h.imag**2) / dc.gain**2
+
+    r0 = ratio(f0) if want_corner else None
+    signs: dict[tuple[str, str], np.ndarray] = {}
+    for key, (lo, hi) in axes:
+        f1 = run({**centre, key: centre[key] + 1e-4 * (hi - lo)})
+        for name in dc_names:
+            signs[key, name] = np.sign(getattr(f1, name) - getattr(f0, name))
+        if want_corner:
+            signs[key, "ratio"] = np.sign(ratio(f1) - r0)
+
+    def vertex(name, toward):  # toward = -1 for the low vertex, +1 for the high
+        return {key: np.where(toward * signs[key, name] > 0, hi, lo) for key, (lo, hi) in axes}
+
+    low: dict[str, np.ndarray] = {}
+    high: dict[str, np.ndarray] = {}
+    states = []
+    for name in dc_names:
+        f_lo = run(vertex(name, -1))
+        f_hi = run(vertex(name, +1))
+        low[name] = getattr(f_lo, name)
+        high[name] = getattr(f_hi, name)
+        if name in ("ie", "vce"):
+            states.append(f_lo.state == ACTIVE)
+    # Signs taken where the centre is not active say nothing; such a candidate fails anyway.
+    all_active = states[0] & states[1] & (f0.state == ACTIVE)
+    if "swing_peak" in names:
+        low["swing_peak"] = np.maximum(np.minimum(low["swing_up"], low["swing_down"]), 0.0)
+        high["swing_peak"] = np.maximum(np.minimum(high["swing_up"], high["swing_down"]), 0.0)
+    meets = None
+    if want_corner:
+        worst_dc = run(vertex("ratio", -1))
+        if f_target is not None:
+            meets = meets_corner(worst_dc, f_target=f_target, **caps)
+        if corner:
+            cor = low_corner(worst_dc, **caps)
+            high["f_low"] = cor.f_low
+    n_eval = 1 + len(axes) + 2 * len(dc_names) + (1 if want_corner else 0)
+    return WorstCase(low=low, high=high, all_active=all_active, vertices=n_eval,
+                     meets_f_target=meets)
+
+
+def worst_case(
+    *,
+    tolerances: Mapping[str, object],
+    hfe_min,
+    hfe_max,
+    temp_min=NOMINAL_TEMP_C,
+    temp_max=NOMINAL_TEMP_C,
+    corner: bool = True,
+    f_target=None,
+    names=None,
+    **nominal,
+) -> WorstCase:
+    """Lowest and highest figures over part tolerances, the hFE range and the ambient range.
+
+    Vertex enumeration: every resistor with a non-zero tolerance at its two ends, hFE at
+    ``hfe_min`` and ``hfe_max``, temperature at both ends; the capacitors are held at their
+    lowest values (value·(1 − tol)), because every corner falls as capacitance grows.  Exact for
+    figures monotone in each parameter on the box: currents, node voltages, VCE and powers.
+    Gain, impedances, swing and corner are not monotone in every parameter everywhere (R2 raises
+    IE but lowers the divider's impedance); over tolerance-sized boxes their extremes sat at
+    vertices in every case tested against a dense grid, which is evidence, not a proof.  The
+    loop is over the at most 2**7 vertices, each a vectorised call over all candidates.
+    ``tolerances`` maps parameter names (``TOLERANCE_KEYS``) to fractions (floats or arrays).
+
+    ``corner=False`` skips the corner search (DC and mid-band figures only, several times
+    faster); ``f_target`` (Hz) adds ``meets_f_target``, True where the whole-stage corner is at or
+    below it at every vertex, from one transfer evaluation per vertex (``meets_corner``), which
+    is how a search should test a corner target.  ``names`` limits the low/high reduction to
+    those figures (a search needs a handful, not all).  A vertex where the stage is not active yields
+    NaN corners, which the low/high reduction skips: check ``all_active``.
+    """
+    nominal, axes = _box(tolerances, nominal, hfe_min, hfe_max, temp_min, temp_max)
     n_vert = 2 ** len(axes)
     low: dict[str, np.ndarray] = {}
     high: dict[str, np.ndarray] = {}
@@ -587,10 +705,7 @@ def worst_case(
         kw = dict(nominal)
         for bit, (key, ends) in enumerate(axes):
             kw[key] = ends[(v >> bit) & 1]
-        caps = {k: kw.pop(k) for k in _CAP_KEYS if k in kw}
-        bypassed = kw.pop("bypassed", None)
-        if bypassed is None:
-            bypassed = np.asarray(caps.get("ce", 0.0), float) > 0
+        kw, caps, bypassed = _split_caps(kw)
         fig = evaluate_dc(bypassed=bypassed, **kw)
         if corner:
             cor = low_corner(fig, **caps)

@@ -8,7 +8,6 @@ source and load as in the stage.
 
 from __future__ import annotations
 
-import math
 
 from ..constants import NOMINAL_TEMP_C
 from ..stages import Stage, saturation_current_for, topology_module

@@ -64,14 +64,23 @@ wrdata ac.txt vm(out) vr(out) vm(b) mag(vs#branch)
 _PRINTED = re.compile(r"^\s*(?:\w+\.)?(\S+)\s*=\s*([-+0-9.eE]+)\s*$")
 
 
-def simulate(stage, workdir: Path, temp_c: float = 25.0) -> SimResult:
-    """Write the stage's netlist into ``workdir``, run ngspice on it, parse the results."""
+def simulate(stage, workdir: Path, temp_c: float = 25.0, sim_temp_c: float | None = None) -> SimResult:
+    """Write the stage's netlist into ``workdir``, run ngspice on it, parse the results.
+
+    ``sim_temp_c``: run the simulator at another temperature than the one IS was tuned at
+    (``temp_c``), leaving the temperature dependence to ngspice's own transistor model.
+    """
     from drawerfit.report.netlist import stage_netlist
 
     exe = require_ngspice()
     deck = workdir / "stage.cir"
     control = _CONTROL if stage.topology == "common-emitter" else _CONTROL.replace(" v(c)", "")
-    deck.write_text(stage_netlist(stage, temp_c=temp_c, control=control))
+    text = stage_netlist(stage, temp_c=temp_c, control=control)
+    if sim_temp_c is not None:
+        old = f".options TNOM={temp_c:.10g} TEMP={temp_c:.10g}"
+        assert old in text
+        text = text.replace(old, f".options TNOM={temp_c:.10g} TEMP={sim_temp_c:.10g}")
+    deck.write_text(text)
     run = subprocess.run([exe, "-b", deck.name], cwd=workdir, capture_output=True, text=True,
                          timeout=60)
     values = {}

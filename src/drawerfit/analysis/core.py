@@ -49,7 +49,10 @@ Conventions:
   small-signal figures have no meaning; ``gain`` and ``swing_peak`` are 0 there and ``rin`` is
   the divider alone.
 * ``swing_limit``: ``LIMIT_CUTOFF`` (0) or ``LIMIT_SATURATION`` (1), whichever bounds the
-  symmetric peak; ``LIMIT_NONE`` (-1) outside the active region.
+  symmetric peak; ``LIMIT_NONE`` (-1) outside the active region.  ``swing_up`` is the room at
+  the output away from the emitter's rail (upward for NPN, downward for PNP), ``swing_down``
+  toward it; ``swing_peak`` = max(0, min of the two) when active.
+* Powers ``p_r1``, ``p_r2``, ``p_re``, ``p_rc``, ``p_re2``, ``p_q`` are quiescent, in W.
 
 Model: Ebers-Moll transistor without Early effect, base resistance or junction capacitance;
 IC = hFE·IB; VBE fixed (``vbe`` at 25 °C) or, when ``i_sat`` is given, from the diode law

@@ -6,6 +6,9 @@ Targets (issue 3): 10,000 Monte Carlo samples in under a second.
 
 from __future__ import annotations
 
+import os
+import platform
+import sys
 import time
 
 import numpy as np
@@ -28,6 +31,8 @@ TOLS = dict(r1=0.05, r2=0.05, re=0.05, rc=0.05, re2=0.05, c1=0.2, c2=0.2, ce=0.2
 
 
 def main() -> None:
+    print(f"run: python3 {' '.join(sys.argv)}  ({platform.python_version()}, numpy {np.__version__}, "
+          f"{os.cpu_count()} CPUs)")
     core.evaluate(hfe=150, **CE)  # warm-up (imports)
     t = best_of(lambda: core.monte_carlo(10_000, seed=1, tolerances=TOLS, hfe_min=100,
                                          hfe_max=300, temp_min=0, temp_max=50, **CE))

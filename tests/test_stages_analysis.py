@@ -160,3 +160,26 @@ def test_conditions_change_the_worst_case():
     narrow = analyse(s, Conditions(ambient_min=25, ambient_max=25))
     wide = analyse(s, Conditions(ambient_min=-20, ambient_max=70))
     assert float(wide.worst.high["ie"]) > float(narrow.worst.high["ie"])
+
+
+@pytest.mark.parametrize("make", [follower, pnp_ce,
+                                  lambda: follower(RE=Part(47, 0.05, 0.25)),
+                                  lambda: follower(C1=Part(22e-6, 0.2, 6.3, True))])
+def test_vectorised_rating_margins_agree_with_the_checks(make):
+    from drawerfit.analysis.targets import rating_margins
+
+    s = make()
+    a = analyse(s)
+    t = s.transistor
+    m = rating_margins(a.worst.low, a.worst.high, conditions=a.conditions, supply=s.supply,
+                       power_ratings={r: p.rating for r, p in s.parts.items()
+                                      if not r.startswith("C") and p.rating is not None},
+                       voltage_ratings={r: p.rating for r, p in s.parts.items()
+                                        if r.startswith("C") and p.rating is not None},
+                       polarized={r: p.polarized for r, p in s.parts.items() if r.startswith("C")},
+                       pd=t.pd, vceo=t.vceo, ic_max=t.ic_max)
+    checks = {c.name: c for c in a.checks}
+    assert m, "some ratings to compare"
+    for name, margin in m.items():
+        if name in checks:
+            assert (float(margin) >= 0) == checks[name].ok, name

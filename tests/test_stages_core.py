@@ -372,3 +372,22 @@ def test_worst_case_by_signs_equals_vertex_enumeration(topology, polarity):
     np.testing.assert_allclose(fast.high["f_low"][ok], full.high["f_low"][ok], rtol=rtol)
     differ = ok & (fast.meets_f_target != full.meets_f_target)
     assert np.all(np.abs(full.high["f_low"][differ] / 15.0 - 1) < rtol)
+
+
+def test_outer_broadcasting_of_resistors_against_capacitors():
+    # A search may score every divider against every capacitor: shapes (n, 1) × (1, m).
+    r1 = np.array([30e3, 47e3, 68e3])[:, None]
+    c1 = np.array([1e-6, 4.7e-6, 22e-6, 100e-6])[None, :]
+    dc = evaluate_dc(topology="common-emitter", supply=12, r1=r1, r2=10e3, re=220, re2=1e3,
+                     rc=4.7e3, rs=600, rl=10e3, hfe=150, bypassed=True)
+    c = low_corner(dc, c1=c1, c2=10e-6, ce=100e-6)
+    assert c.f_low.shape == (3, 4)
+    ok = meets_corner(dc, c1=c1, c2=10e-6, ce=100e-6, f_target=10.0)
+    assert ok.shape == (3, 4)
+    for i in range(3):
+        for j in range(4):
+            one = evaluate(topology="common-emitter", supply=12, r1=float(r1[i, 0]), r2=10e3, re=220,
+                           re2=1e3, rc=4.7e3, rs=600, rl=10e3, hfe=150, c1=float(c1[0, j]),
+                           c2=10e-6, ce=100e-6)
+            assert c.f_low[i, j] == pytest.approx(float(one.f_low), rel=1e-9)
+            assert ok[i, j] == (float(one.f_low) <= 10.0)

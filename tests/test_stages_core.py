@@ -391,3 +391,22 @@ def test_outer_broadcasting_of_resistors_against_capacitors():
                            c2=10e-6, ce=100e-6)
             assert c.f_low[i, j] == pytest.approx(float(one.f_low), rel=1e-9)
             assert ok[i, j] == (float(one.f_low) <= 10.0)
+
+
+@pytest.mark.parametrize("topology", core.TOPOLOGIES)
+def test_polynomial_magnitude_equals_the_complex_transfer(topology):
+    # Two independent reductions of the same circuit: the corner search's real polynomial
+    # factors against the complex impedance form (itself checked against scipy.signal).
+    rng = np.random.default_rng(3)
+    n = 500
+    dc = evaluate_dc(topology=topology, supply=12, r1=rng.uniform(20e3, 60e3, n), r2=10e3,
+                     re=rng.uniform(100, 1e3, n), re2=rng.uniform(0, 2e3, n), rc=4.7e3,
+                     rs=rng.choice([0.0, 600.0, 10e3], n), rl=rng.choice([47.0, 10e3, np.inf], n),
+                     hfe=rng.uniform(50, 400, n), bypassed=rng.random(n) < 0.5)
+    c1, c2 = rng.uniform(1e-7, 1e-4, n), rng.uniform(1e-6, 1e-3, n)
+    ce = np.where(dc.inputs["bypassed"], rng.uniform(1e-5, 1e-3, n), 0.0)
+    f = np.logspace(-2, 4, 13)[:, None]
+    h = core.transfer(dc, c1=c1, c2=c2, ce=ce, f=f)
+    mag = core._Magnitude(dc, c1, c2, ce)((2 * np.pi * f) ** 2)
+    act = np.broadcast_to(dc.state == ACTIVE, h.shape)
+    np.testing.assert_allclose(mag[act], (np.abs(h) ** 2)[act], rtol=1e-9)

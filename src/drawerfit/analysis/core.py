@@ -413,6 +413,64 @@ def _own_corners(dc: DCFigures, c1, c2, ce):
             np.broadcast_to(f_ce, shape))
 
 
+class _Magnitude:
+    """|H(f)|² of the stage as a ratio of real polynomials in x = ω², factored, per candidate.
+
+    From the same circuit as ``_Kernel``, multiplied through by the capacitor admittances:
+
+    follower:        H = (β+1)·C1·C2·s² / (q0 + q1·s + q2·s²)
+    common emitter:  H = −β·C1·C2·s²·(1 + s·CE·RE2) / ((p0 + p1·s + p2·s²)·(o0 + o1·s))
+
+    so |H|² = N(x)/D(x) with N, D products of small real factors (no complex arithmetic, and
+    no expanded polynomial whose terms could cancel).  Used by the corner search, which
+    evaluates it many times; ``transfer`` keeps the complex form.
+    """
+
+    def __init__(self, dc: DCFigures, c1, c2, ce, take=None, shape=None):
+        inp = dc.inputs
+        self.follower = inp["topology"] == "emitter-follower"
+
+        def arr(x):
+            x = np.asarray(x, float)
+            if take is None or x.ndim == 0:
+                return x
+            return np.broadcast_to(x, shape).reshape(-1)[take]
+
+        beta, rs, rbias, re, rl = (arr(inp[k]) for k in ("beta", "rs", "rbias", "re", "rl"))
+        c1, c2 = arr(c1), arr(c2)
+        rpi = (beta + 1.0) * arr(dc.re_small)
+        gb = 1.0 / rbias
+        gl = np.where(np.isfinite(rl), 1.0 / np.where(np.isfinite(rl), rl, 1.0), 0.0)
+        if self.follower:
+            gre = 1.0 / re
+            a0, a1 = gre * gl, c2 * (gre + gl)  # (emitter admittance)·(gl + s·C2)
+            d0, d1 = rpi * a0 + (beta + 1.0) * gl, rpi * a1 + (beta + 1.0) * c2
+            e0, e1 = gb * d0 + a0, gb * d1 + a1
+            self.q0 = e0
+            self.q1 = c1 * d0 + e1 + c1 * rs * e0
+            self.q2 = c1 * d1 + c1 * rs * e1
+            self.k = ((beta + 1.0) * c1 * c2) ** 2
+        else:
+            re2, grc, ce = arr(inp["re2"]), 1.0 / arr(inp["rc"]), arr(ce)
+            tau = ce * re2  # CE·RE2 (0 without bypass)
+            b0 = rpi + (beta + 1.0) * (re + re2)
+            b1 = tau * (rpi + (beta + 1.0) * re)
+            u0, u1 = gb * b0 + 1.0, gb * b1 + tau
+            self.q0 = u0
+            self.q1 = c1 * b0 + u1 + c1 * rs * u0
+            self.q2 = c1 * b1 + c1 * rs * u1
+            self.o0, self.o1 = grc * gl, c2 * (grc + gl)
+            self.tau2 = tau**2
+            self.k = (beta * c1 * c2) ** 2
+
+    def __call__(self, x):
+        """|H|² at x = ω² (rad²/s²)."""
+        den = (self.q0 - self.q2 * x) ** 2 + self.q1**2 * x
+        if self.follower:
+            return self.k * x * x / den
+        return self.k * x * x * (1.0 + self.tau2 * x) / (den * (self.o0**2 + self.o1**2 * x))
+
+
 def low_corner(dc: DCFigures, *, c1, c2, ce=0.0, rtol: float = 1e-7) -> Corners:
     """Whole-stage −3 dB low corner and each capacitor's own corner, Hz.
 
@@ -420,10 +478,11 @@ def low_corner(dc: DCFigures, *, c1, c2, ce=0.0, rtol: float = 1e-7) -> Corners:
     with every capacitor (not a sum of poles).  |H| rises monotonically with f for these
     high-pass networks, so the root of g(t) = ln|H(e^t)|² − ln(|H_mid|²/2) is bracketed in
     t = ln f and found by the Illinois variant of regula falsi, all candidates at once, to a
-    relative error of about ``rtol`` in f.  The bracket is [max/2, 2·sum] of the capacitors'
-    own corners (where the stage corner lies in practice), widened to [max/1e3, 1e3·sum] for
-    any candidate it does not bracket.  Only active candidates are computed.  Stages outside
-    the active region, or whose root is not in the wide bracket, get NaN.
+    relative error of about ``rtol`` in f; |H|² is evaluated as a ratio of real polynomial
+    factors (``_Magnitude``).  The bracket is [max/2, 2·sum] of the capacitors' own corners
+    (where the stage corner lies in practice), widened to [max/1e3, 1e3·sum] for any candidate
+    it does not bracket.  Only active candidates are computed.  Stages outside the active
+    region, or whose root is not in the wide bracket, get NaN.
     """
     c1 = np.asarray(c1, float)
     c2 = np.asarray(c2, float)
@@ -438,27 +497,27 @@ def low_corner(dc: DCFigures, *, c1, c2, ce=0.0, rtol: float = 1e-7) -> Corners:
     f_low = np.full(shape, np.nan)
     if take.size:
         with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-            kernel = _Kernel(dc, c1, c2, ce).subset(shape, take)
+            mag = _Magnitude(dc, c1, c2, ce, take, shape)
             gain = np.broadcast_to(dc.gain, shape).reshape(-1)[take]
             log_target = np.log(0.5) + 2.0 * np.log(np.abs(gain))
             fmax = f_max.reshape(-1)[take]
             fsum = f_sum.reshape(-1)[take]
-            roots = _illinois(kernel, log_target, np.log(0.5 * fmax), np.log(2.0 * fsum), rtol)
+            roots = _illinois(mag, log_target, np.log(0.5 * fmax), np.log(2.0 * fsum), rtol)
             missed = np.flatnonzero(np.isnan(roots))
             if missed.size:
-                wide = _illinois(kernel.subset(take.shape, missed), log_target[missed],
-                                 np.log(1e-3 * fmax[missed]), np.log(1e3 * fsum[missed]), rtol)
-                roots[missed] = wide
+                sub = _Magnitude(dc, c1, c2, ce, take[missed], shape)
+                roots[missed] = _illinois(sub, log_target[missed], np.log(1e-3 * fmax[missed]),
+                                          np.log(1e3 * fsum[missed]), rtol)
         f_low.reshape(-1)[take] = np.exp(roots)
     return Corners(f_low=f_low, f_c1=f_c1, f_c2=f_c2, f_ce=f_ce)
 
 
-def _illinois(kernel: "_Kernel", log_target, a, b, rtol: float, max_iter: int = 100):
-    """Root in t of ln|H(e^t)|² − log_target on [a, b] (flat arrays); NaN where not bracketed."""
+def _illinois(mag: "_Magnitude", log_target, a, b, rtol: float, max_iter: int = 100):
+    """Root in t = ln f of ln|H|² − log_target on [a, b] (flat arrays); NaN where not bracketed."""
+    w2 = _TWO_PI**2
 
     def g(t):
-        h = kernel(np.exp(t))
-        return np.log(h.real**2 + h.imag**2) - log_target
+        return np.log(mag(w2 * np.exp(2.0 * t))) - log_target
 
     ga, gb = g(a), g(b)
     ok = (ga < 0) & (gb > 0)
@@ -488,8 +547,7 @@ def meets_corner(dc: DCFigures, *, c1, c2, ce=0.0, f_target) -> np.ndarray:
     f_low ≤ f_target exactly when |H(f_target)|² ≥ |H_mid|²/2.  For filtering many candidates.
     """
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-        h = _Kernel(dc, c1, c2, ce)(np.asarray(f_target, float))
-        mag2 = h.real**2 + h.imag**2
+        mag2 = _Magnitude(dc, c1, c2, ce)((_TWO_PI * np.asarray(f_target, float)) ** 2)
         return (dc.state == ACTIVE) & (mag2 >= 0.5 * dc.gain**2)
 
 
@@ -624,8 +682,8 @@ def worst_case_by_signs(
 
     def ratio(dc):
         with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-            h = _Kernel(dc, caps.get("c1"), caps.get("c2"), caps.get("ce", 0.0))(f_probe)
-            return (h.real**2 + h.imag**2) / dc.gain**2
+            mag = _Magnitude(dc, caps.get("c1"), caps.get("c2"), caps.get("ce", 0.0))
+            return mag((_TWO_PI * f_probe) ** 2) / dc.gain**2
 
     r0 = ratio(f0) if want_corner else None
     signs: dict[tuple[str, str], np.ndarray] = {}
@@ -634,7 +692,8 @@ def worst_case_by_signs(
         for name in dc_names:
             signs[key, name] = np.sign(getattr(f1, name) - getattr(f0, name))
         if want_corner:
-            signs[key, "ratio"] = np.sign(ratio(f1) - r0)
+            with np.errstate(invalid="ignore"):  # inactive candidates: NaN, judged by all_active
+                signs[key, "ratio"] = np.sign(ratio(f1) - r0)
 
     def vertex(name, toward):  # toward = -1 for the low vertex, +1 for the high
         return {key: np.where(toward * signs[key, name] > 0, hi, lo) for key, (lo, hi) in axes}

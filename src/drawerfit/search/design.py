@@ -142,7 +142,7 @@ def _choice(problem: DesignProblem, ctx: Context, f: Found) -> DesignChoice:
     tm = {k: float(a[pos]) for k, a in b.ev.target.items()}
     rm = {k: float(a[pos]) for k, a in b.ev.rating.items()}
     for r, m in comp.cap_margins.items():
-        rm[f"voltage {r}"] = m
+        rm[f"{r} voltage"] = m
     key = f.key
     return DesignChoice(
         transistor=f.transistor, model=ctx.tr, roles={r: roles[r] for r in (*ctx.res_roles, *ctx.cap_roles)},

@@ -19,11 +19,11 @@ from ..analysis import core
 from ..stages import TransistorModel
 from .problem import DesignProblem
 
-__all__ = ["Context", "ResistorEval", "evaluate_resistors", "vertex_dc", "cap_node", "RATING_NAMES"]
+__all__ = ["Context", "ResistorEval", "evaluate_resistors", "vertex_dc", "cap_node", "nominal_distance"]
 
 CAP_NODE = {"C1": "v_c1", "C2": "v_c2", "CE": "v_ce"}
 _POWER = {"R1": "p_r1", "R2": "p_r2", "RE": "p_re", "RC": "p_rc", "RE2": "p_re2"}
-RATING_NAMES = ("power R1", "power R2", "power RE", "power RC", "power RE2", "power Q1", "ic_max Q1")
+# The same rules and names as analyse's checks (analysis/targets.rating_margins).
 
 
 def cap_node(role: str) -> str:
@@ -143,12 +143,14 @@ def _rating_margins(ctx: Context, dc, ratings: Mapping[str, np.ndarray]) -> dict
     out = {}
     for role in ctx.res_roles:
         allowed = c.resistor_derating * ratings[role]
-        out[f"power {role}"] = (allowed - getattr(dc, _POWER[role])) / allowed
+        out[f"{role} power"] = (allowed - getattr(dc, _POWER[role])) / allowed
     if tr.pd is not None:
         allowed = c.transistor_derating * tr.pd
-        out["power Q1"] = (allowed - dc.p_q) / allowed
+        out["Q1 power"] = (allowed - dc.p_q) / allowed
+    if tr.vceo is not None:
+        out["Q1 VCEO"] = np.full(dc.ic.shape, (tr.vceo - ctx.problem.supply) / tr.vceo)
     if tr.ic_max is not None:
-        out["ic_max Q1"] = (tr.ic_max - dc.ic) / tr.ic_max
+        out["Q1 IC max"] = (tr.ic_max - 2.0 * dc.ic) / tr.ic_max  # twice IC, as analyse checks it
     return out
 
 

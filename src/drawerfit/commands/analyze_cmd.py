@@ -118,6 +118,8 @@ def summary_lines(result, spec=None, cautions=None) -> list[str]:
                    f"meet every target and rating {mc['meets_all']:.1%}")
         for name, frac in mc["meets"].items():
             out.append(f"  {name}: {frac:.1%}")
+    for ch in result.notes:
+        out.append(f"Note: {ch.name}: {ch.message}")
     if spec is not None and spec.assumptions:
         out.append("Assumed: " + "; ".join(spec.assumptions))
     out.append("")

@@ -87,7 +87,7 @@ class Quantity:
 _NUM = r"(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?"
 _PREFIX_CHARS = "pnuµμmkKMGTf"
 # IEC 60062 letter code: the prefix letter (or R for the unit) stands where the decimal point goes.
-_CODE_RE = re.compile(rf"^(\d*)([{_PREFIX_CHARS}Rr])(\d*)$")
+_CODE_RE = re.compile(rf"^(\d*)([{_PREFIX_CHARS}RrF])(\d*)$")
 # number, optional prefix (or 'meg'), optional unit word.
 _PLAIN_RE = re.compile(
     rf"^({_NUM})(?:(meg|MEG|Meg)|([{_PREFIX_CHARS}]))?([A-Za-zΩΩ%]*)$"
@@ -156,6 +156,8 @@ def _parse_compact(s: str, original: str) -> Quantity:
             continue
         if m.group(3) == "" and m.group(2) not in "Rr":
             continue  # '4k' is plain prefix notation, handled below
+        if m.group(2) == "F" and not (m.group(1) and m.group(3)):
+            continue  # 'F' marks the decimal point only between digits ('1F5'); '10F' is ten farads
         try:
             tail_unit = _unit_of(tail, original)
         except ValueParseError:
@@ -166,6 +168,8 @@ def _parse_compact(s: str, original: str) -> Quantity:
             if tail_unit not in (None, "ohm"):
                 raise ValueParseError(original, "R marks ohms and cannot take another unit")
             return Quantity(float(number), "ohm")
+        if letter == "F":
+            return Quantity(float(number), "F")
         return Quantity(_scaled(number, PREFIX_EXP[letter]), tail_unit)
 
     m = _PLAIN_RE.match(s)
@@ -235,7 +239,7 @@ def parse_value_and_tolerance(text: object, expect: str | None = None) -> tuple[
     return parse_value(text, expect), None
 
 
-def _engineering(value: float) -> tuple[float, str]:
+def _engineering(value: float, digits: int = 4) -> tuple[float, str]:
     if value == 0 or not math.isfinite(value):
         return value, ""
     exp3 = int(math.floor(math.log10(abs(value)) / 3.0)) * 3
@@ -243,7 +247,7 @@ def _engineering(value: float) -> tuple[float, str]:
     prefixes = {-15: "f", -12: "p", -9: "n", -6: "µ", -3: "m", 0: "", 3: "k", 6: "M", 9: "G", 12: "T"}
     mant = value / 10.0**exp3
     # rounding can carry into the next decade group (999.96 -> 1000)
-    if abs(round(mant, 3)) >= 1000 and exp3 < 12:
+    if abs(float(f"{mant:.{digits}g}")) >= 1000 and exp3 < 12:
         exp3 += 3
         mant = value / 10.0**exp3
     return mant, prefixes[exp3]
@@ -262,7 +266,7 @@ def format_si(value: float | None, unit: str | None = "ohm", digits: int = 4) ->
         return "—"
     if unit == "%":
         return f"{_trim(value * 100.0, digits)} %"
-    mant, prefix = _engineering(value)
+    mant, prefix = _engineering(value, digits)
     sym = UNIT_SYMBOL.get(unit, unit or "")
     return f"{_trim(mant, digits)} {prefix}{sym}".rstrip()
 
@@ -275,7 +279,7 @@ def format_code(value: float, unit: str = "ohm", ascii_only: bool = False, digit
     """
     if value <= 0 or not math.isfinite(value):
         raise ValueError(f"cannot write {value!r} in the letter code")
-    mant, prefix = _engineering(value)
+    mant, prefix = _engineering(value, digits)
     if unit == "ohm" and prefix == "":
         letter = "R"
     elif unit == "ohm" and prefix == "m":

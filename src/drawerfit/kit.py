@@ -510,7 +510,14 @@ def _build_json(b: Build, line: KitLine) -> dict:
     unit = UNIT_OF_KIND.get(line.kind)
     return {"units": b.units, "value": _eq_value(eq),
             "value_text": format_si(eq.value, unit) if eq.value is not None else line.label,
-            "arrangement": eq.arrangement, "part_count": int(eq.part_count), "parts": _parts_json(eq)}
+            "arrangement": eq.arrangement, "how": _how(eq, line), "part_count": int(eq.part_count),
+            "parts": _parts_json(eq)}
+
+
+def _how(eq, line: KitLine) -> str:
+    """'4k7 + 2k2', '10k ∥ 10k' in the letter code, or the transistor's label."""
+    describe = getattr(eq, "describe", None)
+    return describe() if describe else line.label
 
 
 def kit_to_json(r: KitResult) -> dict:
@@ -519,7 +526,7 @@ def kit_to_json(r: KitResult) -> dict:
     for f in r.filled:
         first = _build_json(f.builds[0], f.line)
         filled.append({"designator": f.designator, "target": f.line.value, "value": first["value"],
-                       "value_text": first["value_text"], "arrangement": first["arrangement"],
+                       "value_text": first["value_text"], "arrangement": first["arrangement"], "how": first["how"],
                        "part_count": first["part_count"], "parts": first["parts"],
                        "builds": [_build_json(b, f.line) for b in f.builds],
                        "list_row": f.line.row})
@@ -553,7 +560,7 @@ def format_kit(r: KitResult) -> str:
                 where = " + ".join(f"{n}× {_part_text(s)} [{s.location or 'row ' + str(s.source.row)}]"
                                    for s, n in eq.uses)
                 share = "" if b.units == r.units else f"  ({b.units} of {r.units} units)"
-                out.append(f"  {f.designator:<8} {f.line.value_text():>10} -> {val:>10}  {eq.arrangement:<16} {where}{share}")
+                out.append(f"  {f.designator:<8} {f.line.value_text():>10} -> {val:>10}  {_how(eq, f.line):<16} {where}{share}")
     if r.unfilled:
         out.append("")
         out.append("not filled:")

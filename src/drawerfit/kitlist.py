@@ -54,14 +54,19 @@ _DESIG_LETTER = {"R": "resistor", "C": "capacitor", "Q": "transistor"}
 
 
 def _norm(text: str) -> str:
-    return re.sub(r"[\W_]+", "", str(text).lower())
+    from .stock.headers import normalise
+
+    return normalise(text)
 
 
 def match_kit_header(text: object) -> str | None:
-    """The field a parts-list header names, or None."""
+    """The field a parts-list header names, or None; a unit in the header ('Min power (W)') is ignored."""
     if text is None:
         return None
-    return _HEADER_OF.get(_norm(str(text)))
+    from .stock.headers import _split_unit
+
+    words, _unit = _split_unit(str(text))
+    return _HEADER_OF.get(_norm(words)) or _HEADER_OF.get(_norm(str(text)))
 
 
 @dataclass(frozen=True)
@@ -123,7 +128,7 @@ def _records(path: Path):
     import csv
     import io
 
-    from .stock.writeback import detect_delimiter
+    from .stock.readers import sniff_delimiter
 
     try:
         data = path.read_bytes()
@@ -133,7 +138,7 @@ def _records(path: Path):
         text = data.decode("utf-8-sig")
     except UnicodeDecodeError as exc:
         raise SpecError(f"{path}: not UTF-8 text (byte {exc.start}); save it as UTF-8 CSV") from None
-    delim = detect_delimiter(data).decode()
+    delim = sniff_delimiter(text)
     for r, rec in enumerate(csv.reader(io.StringIO(text, newline=""), delimiter=delim), start=1):
         yield None, r, rec
 

@@ -254,8 +254,7 @@ def _read(path: Path) -> bytes:
 
 def _new_bytes(path: Path, data: bytes, changes: tuple[Change, ...] | list[Change], use_old: bool = False) -> bytes:
     """The stock file's bytes with the changes made, checking each cell still holds what was planned."""
-    from .stock.writeback import (QtyEdit, detect_delimiter, edit_csv_bytes, edit_xlsx_bytes, is_xlsx,
-                                  read_csv_qty, read_xlsx_qty)
+    from .stock.writeback import QtyEdit, edit_csv_bytes, edit_xlsx_bytes, is_xlsx, read_csv_qty, read_xlsx_qty
 
     edits = []
     for c in changes:
@@ -267,8 +266,10 @@ def _new_bytes(path: Path, data: bytes, changes: tuple[Change, ...] | list[Chang
             if held != before:
                 raise TakeError(f"{c.where(str(path))}: holds {held}, expected {before}; nothing changed")
         return edit_xlsx_bytes(str(path), [e for _c, _b, e in edits], str(path))
-    header = None
-    delim = detect_delimiter(data, header, changes[0].column if changes else None)
+    from .stock.readers import sniff_delimiter
+
+    # the loader's own guess first, then whichever delimiter puts the planned quantities in place
+    delim = sniff_delimiter(data.decode("utf-8-sig", errors="replace")).encode()
     delim = _delimiter_for(data, changes, delim)
     for c, before, _e in edits:
         held, _text = read_csv_qty(data, delim, c.row, c.column, c.where(str(path)))

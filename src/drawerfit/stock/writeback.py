@@ -109,7 +109,7 @@ def field_text(data: bytes, f: CsvField) -> str:
     raw = data[f.start:f.end]
     if f.quoted:
         raw = raw[1:-1].replace(b'""', b'"')
-    return raw.decode("utf-8")
+    return raw.decode("utf-8", errors="replace")  # only digits are ever rewritten; other text is compared
 
 
 def detect_delimiter(data: bytes, header_text: str | None = None, column: int | None = None) -> bytes:

@@ -151,13 +151,14 @@ def _brute_force(lines, stock, units):
     return best[0]
 
 
-@settings(max_examples=40, deadline=None, suppress_health_check=[HealthCheck.filter_too_much])
+@settings(max_examples=80, deadline=None, suppress_health_check=[HealthCheck.filter_too_much])
 @given(stock=st.lists(st.tuples(st.sampled_from(E12_K), st.integers(0, 3)), min_size=1, max_size=4),
        lines=st.lists(st.tuples(st.sampled_from(E12_K + [2 * v for v in E12_K] + [v / 2 for v in E12_K]),
                                 st.sampled_from([0.02, 0.05, 0.1, 0.2]), st.integers(1, 2)),
                       min_size=1, max_size=3),
-       units=st.integers(1, 3))
-def test_allocation_matches_brute_force(stock, lines, units):
+       units=st.integers(1, 3), method=st.sampled_from(["auto", "stages"]))
+def test_allocation_matches_brute_force(stock, lines, units, method):
+    # both ways of solving the lexicographic objective: one weighted objective, and three stages
     assume(not any(_oracle_candidates(t, tol, stock)[1] for t, tol, _n in lines))
     with tempfile.TemporaryDirectory() as d:
         folder = Path(d)
@@ -168,7 +169,7 @@ def test_allocation_matches_brute_force(stock, lines, units):
             rows.append([", ".join(f"R{k + j}" for j in range(n)), f"{t:g}", f"{tol * 100:g}%"])
             k += n
         lp = _write(folder / "list.csv", rows)
-        r = run_kit(str(lp), str(sp), units=units, max_parts=2)
+        r = run_kit(str(lp), str(sp), units=units, max_parts=2, method=method)
     filled, neg_parts, neg_err = _brute_force(lines, stock, units)
     assert r.optimal
     assert len(r.filled) == filled

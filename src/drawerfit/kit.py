@@ -7,12 +7,14 @@ designator counts as filled only when all its units are filled; designators of o
 interchangeable, so the line fills f[L] designators with sum_e x[L,e] = units * f[L].  Each stock
 line's quantity bounds the parts drawn from it over all lines and units.
 
-The objective is lexicographic and solved in stages, each fixing the optimum of the one before:
+The objective is lexicographic:
   1. most designators filled (max sum f);
   2. fewest parts (min sum part_count * x);
   3. smallest total error (min sum |nominal - target| / target * x, in whole ppm).
-A stage that stops at the time limit keeps its best value found, and the result says it is not
-proven optimal.  A fourth stage covers as many slots of the unfilled designators as the leftover
+It is solved as one weighted objective whose weights are proven large enough (see ``allocate``),
+or, when those weights would not fit in 62 bits, in three stages each fixing the optimum of the one
+before.  A solve that stops at the time limit keeps its best allocation found, and the result says
+it is not proven optimal.  A fourth stage covers as many slots of the unfilled designators as the leftover
 stock allows (then fewest parts), so the shopping list is the shortest that completes the build
 given the allocation: one standard value (IEC 60063 E12, else E24, then the finer series) per
 missing slot.
@@ -225,10 +227,12 @@ def _stages(cp_model, mm: _Model, objectives, deadline: float, workers: int):
 
 
 def allocate(needs: list[int], cands: list[Candidates], qty: np.ndarray, units: int, *,
-             time_limit: float = 30.0, workers: int | None = None):
-    """Joint allocation: (slots[l][k], filled per line, partial slots[l][k], proven optimal, stage values).
+             time_limit: float = 30.0, workers: int | None = None, method: str = "auto"):
+    """Joint allocation: (slots[l][k], filled per line, partial slots[l][k], proven optimal, values).
 
-    ``needs`` are designators per unit for each line, ``qty`` the stock by StockLine.index.
+    ``needs`` are designators per unit for each line, ``qty`` the stock by StockLine.index;
+    ``values`` are (designators filled, parts, total error in ppm).  ``method`` "auto" uses the
+    weighted objective when its weights fit, "stages" always solves the three stages.
     """
     import os
 
@@ -241,9 +245,26 @@ def allocate(needs: list[int], cands: list[Candidates], qty: np.ndarray, units: 
         zero = [[0] * len(c) for c in cands]
         return zero, [0] * len(cands), zero, True, [0, 0, 0]
     mm = _build(cp_model, needs, cands, qty, units, whole_designators=True)
-    objectives = [("max", sum(f for f in mm.f)), ("min", _lin(mm, cands, "parts")), ("min", _lin(mm, cands, "err"))]
-    values, proven, sol = _stages(cp_model, mm, objectives, deadline, workers)
+    filled_e, parts_e, err_e = sum(f for f in mm.f), _lin(mm, cands, "parts"), _lin(mm, cands, "err")
+    # Weights that make one objective exactly lexicographic: W_parts exceeds the largest total
+    # error any allocation can have, W_fill exceeds W_parts times the largest part count plus
+    # that error, so one more designator outweighs any parts and error, and one part fewer any
+    # error.  One solve of this is much faster than three stages; the stages remain for sizes
+    # where the weights would leave 62-bit integers.
+    max_err = sum(n * units * (int(c.err_ppm.max()) if len(c) else 0) for n, c in zip(needs, cands))
+    max_parts = sum(n * units * (int(c.part_count.max()) if len(c) else 0) for n, c in zip(needs, cands))
+    w_parts = max_err + 1
+    w_fill = w_parts * (max_parts + 1)
+    if method != "stages" and w_fill * (sum(needs) + 1) < 2**62:
+        values, proven, sol = _stages(cp_model, mm, [("max", w_fill * filled_e - w_parts * parts_e - err_e)],
+                                      deadline, workers)
+    else:
+        values, proven, sol = _stages(cp_model, mm, [("max", filled_e), ("min", parts_e), ("min", err_e)],
+                                      deadline, workers)
     filled = [sum(row) // units for row in sol]
+    parts_used = sum(int(c.part_count[k]) * n for row, c in zip(sol, cands) for k, n in enumerate(row))
+    err_used = sum(int(c.err_ppm[k]) * n for row, c in zip(sol, cands) for k, n in enumerate(row))
+    values = [sum(filled), parts_used, err_used]
 
     # stage 4: leftover stock towards the unfilled designators (never completing one: that would
     # have been found in stage 1), so fewer parts need buying
@@ -342,7 +363,8 @@ def _buy_value(line: KitLine) -> tuple[float | None, str | None]:
 
 
 def run_kit(list_file: str, stock_file: str, *, units: int = 1, max_parts: int = 2,
-            time_limit: float = 30.0, stock: Stock | None = None, kit_list: KitList | None = None) -> KitResult:
+            time_limit: float = 30.0, stock: Stock | None = None, kit_list: KitList | None = None,
+            method: str = "auto") -> KitResult:
     """Read the list and the stock, allocate, and describe the result."""
     t0 = time.monotonic()
     if kit_list is None:
@@ -372,7 +394,8 @@ def run_kit(list_file: str, stock_file: str, *, units: int = 1, max_parts: int =
             cache[key] = candidates_for(ln, stock, max_parts)
         cands.append(cache[key])
     needs = [ln.per_unit for ln in lines]
-    sol, filled_n, partial, optimal, values = allocate(needs, cands, qty, units, time_limit=time_limit)
+    sol, filled_n, partial, optimal, values = allocate(needs, cands, qty, units, time_limit=time_limit,
+                                                        method=method)
 
     by_index = {s.index: s for s in stock.lines}
     filled: list[Filled] = []

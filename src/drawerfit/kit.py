@@ -36,6 +36,7 @@ __all__ = ["Candidates", "KitResult", "Filled", "Unfilled", "Buy", "candidates_f
            "kit_to_json", "format_kit"]
 
 PPM = 1_000_000
+TRIPLES_PER_LINE = 200  # closest equivalents searched for triples per list line (max_parts=3)
 RATING_UNIT = {"resistor": "W", "capacitor": "V"}
 
 
@@ -49,6 +50,7 @@ class Candidates:
     counts: np.ndarray  # (n, 3) parts of each member
     equivalent: object  # callable i -> Equivalent (for the report)
     in_window: int  # equivalents in the window before dominance pruning
+    truncated: bool = False  # True when the window held more triples than were taken
 
     def __len__(self) -> int:
         return len(self.part_count)
@@ -75,9 +77,10 @@ class _Transistor:
 def candidates_for(line: KitLine, stock: Stock, max_parts: int = 2) -> Candidates:
     """Equivalents for one list line: inside its window and rating, minus those surely never best.
 
-    An equivalent of several parts that contains a line which alone is in the window with no more
-    error is dropped: swapping in that single part keeps every designator filled with fewer parts
-    and uses a subset of the stock, so the dropped one is never in a lexicographic optimum.
+    An equivalent of several parts that contains a smaller equivalent in the window (a single
+    part of one of its lines, or for a triple a pair of its parts) with no more error is dropped:
+    swapping in the smaller one keeps every designator filled with fewer parts and uses a subset of
+    the stock, so the dropped one is never in a lexicographic optimum.
     """
     if line.kind == "transistor":
         want = _label_key(line.label)
@@ -90,32 +93,99 @@ def candidates_for(line: KitLine, stock: Stock, max_parts: int = 2) -> Candidate
         eqs = [_Transistor(None, None, None, 1, "single", ((s, 1),)) for s in rows]
         return Candidates(np.ones(n, dtype=np.int64), np.zeros(n, dtype=np.int64), members, counts,
                           eqs.__getitem__, n)
-    from .equivalents import equivalents_in_window
+    from .equivalents import equivalents_in_window, nearest
 
     lines = [s for s in stock.lines if s.kind == line.kind and s.value is not None and s.qty > 0]
     if not lines:
         return _empty()
-    table = equivalents_in_window(lines, line.lo, line.hi, max_parts=1 if line.single else max_parts,
-                                  units=1, min_rating=line.min_rating)
-    n = len(table)
+    parts = 1 if line.single else max_parts
+    table = equivalents_in_window(lines, line.lo, line.hi, max_parts=min(parts, 2), units=1,
+                                  min_rating=line.min_rating)
+    tables = [table]
+    truncated = False
+    if parts >= 3:
+        # Triples in a wide window over a big drawer run to hundreds of thousands per line, so
+        # the triples among the TRIPLES_PER_LINE equivalents closest to the target are taken
+        # (exactly, by the nearest search); when the window holds more than that, the result is
+        # marked as not proven optimal.
+        k = TRIPLES_PER_LINE
+        near = nearest(lines, line.value, k, max_parts=3, units=1, min_rating=line.min_rating)
+        inside = (near.value >= line.lo) & (near.value <= line.hi) & (near.part_count == 3)
+        tables.append(near.take(np.flatnonzero(inside)))
+        if len(near) == k and line.lo <= near.value[-1] <= line.hi:
+            truncated = True
+    sizes = [len(t) for t in tables]
+    n = sum(sizes)
     if n == 0:
         return _empty()
-    value = np.asarray(table.value, dtype=float)
+
+    def cat(name, dtype, width=None):
+        parts_ = [np.asarray(getattr(t, name), dtype=dtype) for t in tables]
+        if width is not None:
+            parts_ = [a.reshape(len(t), width) for a, t in zip(parts_, tables)]
+        return np.concatenate(parts_)
+
+    value = cat("value", float)
     err = np.rint(np.abs(value - line.value) / line.value * PPM).astype(np.int64)
-    pc = np.asarray(table.part_count, dtype=np.int64)
-    members = np.asarray(table.members, dtype=np.int64).reshape(n, 3)
-    counts = np.asarray(table.counts, dtype=np.int64).reshape(n, 3)
+    pc = cat("part_count", np.int64)
+    members = cat("members", np.int64, 3)
+    counts = cat("counts", np.int64, 3)
+    offsets = np.cumsum([0] + sizes)
+
+    def equivalent(i: int):
+        t = int(np.searchsorted(offsets, i, side="right")) - 1
+        return tables[t].equivalent(int(i - offsets[t]))
+
     # best single error per stock line index (inf where that line is not a single candidate)
     top = max(len(stock.lines), int(members.max()) + 1)
     single_err = np.full(top + 1, np.iinfo(np.int64).max, dtype=np.int64)
     singles = pc == 1
     np.minimum.at(single_err, members[singles, 0], err[singles])
     safe = np.where(members >= 0, members, top)  # index 'top' holds +inf
-    best_member_single = single_err[safe].min(axis=1)
-    keep = singles | (best_member_single > err)
+    best_sub = single_err[safe].min(axis=1)
+    triples = np.nonzero(pc == 3)[0]
+    if len(triples):
+        best_sub[triples] = np.minimum(best_sub[triples], _best_pair_inside(members, counts, pc, err, triples, top))
+    keep = singles | (best_sub > err)
     idx = np.nonzero(keep)[0]
     return Candidates(pc[idx], err[idx], members[idx], counts[idx],
-                      lambda i, _idx=idx, _t=table: _t.equivalent(int(_idx[i])), n)
+                      lambda i, _idx=idx: equivalent(int(_idx[i])), n, truncated)
+
+
+def _pair_key(a: np.ndarray, b: np.ndarray, top: int) -> np.ndarray:
+    lo, hi = np.minimum(a, b), np.maximum(a, b)
+    return lo * (top + 1) + hi
+
+
+def _best_pair_inside(members, counts, pc, err, triples, top) -> np.ndarray:
+    """For each triple, the least error of a pair in the table that uses only parts the triple uses."""
+    big = np.iinfo(np.int64).max
+    pairs = np.nonzero(pc == 2)[0]
+    if len(pairs) == 0:
+        return np.full(len(triples), big, dtype=np.int64)
+    pm = members[pairs]
+    # a pair is two distinct lines (1 + 1) or one line twice (count 2)
+    b = np.where(pm[:, 1] >= 0, pm[:, 1], pm[:, 0])
+    keys = _pair_key(pm[:, 0], b, top)
+    order = np.argsort(keys, kind="stable")
+    keys, perr = keys[order], err[pairs][order]
+    uniq, start = np.unique(keys, return_index=True)
+    best = np.minimum.reduceat(perr, start)
+    tm, tc = members[triples], counts[triples]
+    out = np.full(len(triples), big, dtype=np.int64)
+
+    def look(k, ok):
+        pos = np.clip(np.searchsorted(uniq, k), 0, len(uniq) - 1)
+        hit = ok & (uniq[pos] == k)
+        return np.where(hit, best[pos], big)
+
+    for i, j in ((0, 1), (0, 2), (1, 2)):  # two distinct lines of the triple
+        ok = (tm[:, i] >= 0) & (tm[:, j] >= 0)
+        out = np.minimum(out, look(_pair_key(tm[:, i], tm[:, j], top), ok))
+    for i in range(3):  # one line the triple uses at least twice
+        ok = (tm[:, i] >= 0) & (tc[:, i] >= 2)
+        out = np.minimum(out, look(_pair_key(tm[:, i], tm[:, i], top), ok))
+    return out
 
 
 def _label_key(text: str) -> str:
@@ -340,6 +410,7 @@ class KitResult:
     stage_values: tuple[int, ...]
     cautions: tuple[str, ...] = ()
     warnings: tuple[str, ...] = field(default_factory=tuple)
+    notes: tuple[str, ...] = field(default_factory=tuple)
 
 
 def _chunks(row: list[int], size: int, groups: int) -> list[Counter]:
@@ -442,9 +513,19 @@ def run_kit(list_file: str, stock_file: str, *, units: int = 1, max_parts: int =
         per_unit = n // units if n % units == 0 else round(n / units, 6)
         pick.append({"source": s.source.to_dict(), "location": s.location, "part": _part_text(s),
                      "per_unit": per_unit, "count": int(n)})
+    notes = []
+    cut = [ln.designators[0] for ln, c in zip(lines, cands) if c.truncated]
+    if cut:
+        optimal = False
+        notes.append(f"the windows of {len(cut)} line(s) ({', '.join(cut[:4])}{' …' if len(cut) > 4 else ''}) hold"
+                     f" more than {TRIPLES_PER_LINE} triples; only the closest were considered, so the answer"
+                     " is the best among those, not proven optimal over every triple")
+    if not optimal and not cut:
+        notes.append(f"the solver stopped at its time limit ({time_limit:g} s): the best allocation found is"
+                     " shown, not proven optimal; a longer --time-limit may do better")
     return KitResult(units, optimal, tuple(filled), tuple(unfilled), buy, tuple(pick), stock.checksum,
                      stock_file, list_file, time.monotonic() - t0, tuple(values),
-                     tuple(_cautions(lines, filled)), tuple(warnings))
+                     tuple(_cautions(lines, filled)), tuple(warnings), tuple(notes))
 
 
 def _reason(ln: KitLine, c: Candidates, units: int, qty: np.ndarray, max_parts: int) -> str:
@@ -564,7 +645,7 @@ def kit_to_json(r: KitResult) -> dict:
     return {"units": r.units, "optimal": bool(r.optimal), "filled": filled, "unfilled": unfilled, "buy": buy,
             "pick_list": list(r.pick), "stock_checksum": r.stock_checksum, "stock_file": r.stock_file,
             "list_file": r.list_file, "seconds": round(r.seconds, 3), "cautions": list(r.cautions),
-            "warnings": list(r.warnings)}
+            "warnings": list(r.warnings), "notes": list(r.notes)}
 
 
 def format_kit(r: KitResult) -> str:
@@ -606,6 +687,8 @@ def format_kit(r: KitResult) -> str:
             src = p["source"]
             sheet = f"sheet {src['sheet']!r}, " if src.get("sheet") else ""
             out.append(f"  {p['count']:>5} × {p['part']:<16} {p['location'] or '-':<10} ({sheet}row {src['row']})")
+    for n in r.notes:
+        out.append(f"note: {n}")
     for c in r.cautions:
         out.append(f"caution: {c}")
     return "\n".join(out)

@@ -324,3 +324,24 @@ def test_design_toml_pick_list_is_read_like_the_kit_json(tmp_path):
     assert out["changes"] == [{"sheet": None, "row": 3, "column": 2, "old_qty": 5, "new_qty": 1,
                                "part": out["changes"][0]["part"], "location": "A2"}]
     assert _rows(stock.read_bytes(), ",")[2][2] == "1"
+
+
+def test_xlsx_with_a_chart_is_refused_rather_than_losing_it(tmp_path):
+    # openpyxl (its documentation) does not keep charts and images of a workbook it loads and saves
+    from openpyxl import Workbook
+    from openpyxl.chart import BarChart, Reference
+
+    wb = Workbook()
+    ws = wb.active
+    ws.append(["kind", "value", "qty", "location"])
+    ws.append(["resistor", "4k7", 12, "A1"])
+    chart = BarChart()
+    chart.add_data(Reference(ws, min_col=3, min_row=1, max_row=2), titles_from_data=True)
+    ws.add_chart(chart, "F2")
+    stock = tmp_path / "drawer.xlsx"
+    wb.save(stock)
+    kit = _kit(tmp_path, stock, [(ws.title, 2, 1)])
+    before = _snapshot(tmp_path)
+    res = CliRunner().invoke(main, ["take", str(kit), "--stock", str(stock)])
+    assert res.exit_code == 2 and "charts" in res.output
+    assert _snapshot(tmp_path) == before

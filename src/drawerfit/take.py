@@ -254,18 +254,14 @@ def _read(path: Path) -> bytes:
 
 def _new_bytes(path: Path, data: bytes, changes: tuple[Change, ...] | list[Change], use_old: bool = False) -> bytes:
     """The stock file's bytes with the changes made, checking each cell still holds what was planned."""
-    from .stock.writeback import QtyEdit, edit_csv_bytes, edit_xlsx_bytes, is_xlsx, read_csv_qty, read_xlsx_qty
+    from .stock.writeback import QtyEdit, edit_csv_bytes, edit_xlsx_bytes, is_xlsx, read_csv_qty
 
     edits = []
     for c in changes:
         before, after = (c.new_qty, c.old_qty) if use_old else (c.old_qty, c.new_qty)
         edits.append((c, before, QtyEdit(c.sheet, c.row, c.column, after)))
     if is_xlsx(str(path)):
-        for c, before, _e in edits:
-            held = read_xlsx_qty(str(path), c.sheet, c.row, c.column, c.where(str(path)))
-            if held != before:
-                raise TakeError(f"{c.where(str(path))}: holds {held}, expected {before}; nothing changed")
-        return edit_xlsx_bytes(str(path), [e for _c, _b, e in edits], str(path))
+        return edit_xlsx_bytes(str(path), [e for _c, _b, e in edits], str(path), before=[b for _c, b, _e in edits])
     from .stock.readers import sniff_delimiter
 
     # the loader's own guess first, then whichever delimiter puts the planned quantities in place

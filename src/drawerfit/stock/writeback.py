@@ -17,7 +17,7 @@ from dataclasses import dataclass
 from ..parts import StockError
 
 __all__ = ["QtyEdit", "CsvField", "csv_records", "field_text", "parse_qty_text", "detect_delimiter", "new_qty_text",
-           "edit_csv_bytes", "edit_xlsx_bytes", "read_csv_qty", "read_xlsx_qty", "is_xlsx"]
+           "edit_csv_bytes", "edit_xlsx_bytes", "xlsx_would_lose", "read_csv_qty", "read_xlsx_qty", "is_xlsx"]
 
 BOM = b"\xef\xbb\xbf"
 _QUOTE = ord('"')
@@ -220,17 +220,49 @@ def read_xlsx_qty(path: str, sheet: str | None, row: int, column: int, where: st
     return _cell_qty(_xlsx_cell(wb, sheet, row, column, where), where)
 
 
-def edit_xlsx_bytes(path: str, edits: list[QtyEdit], file: str) -> bytes:
-    """The workbook saved with the quantity cells of ``edits`` changed; styles and sheets kept."""
+# Parts of an XLSX package that openpyxl does not carry through a load and save: rewriting such a
+# workbook would silently drop them, so take refuses it instead.
+_XLSX_LOST = {"xl/drawings/": "drawings or images", "xl/charts/": "charts", "xl/media/": "images",
+              "xl/pivotTables/": "pivot tables", "xl/pivotCache/": "pivot tables", "xl/slicers/": "slicers",
+              "xl/timelines/": "timelines", "xl/embeddings/": "embedded objects", "xl/ctrlProps/": "form controls"}
+
+
+def xlsx_would_lose(path: str) -> list[str]:
+    """What a load-and-save of this workbook with openpyxl would drop (empty when nothing)."""
+    import zipfile
+
+    try:
+        with zipfile.ZipFile(path) as z:
+            names = z.namelist()
+    except (zipfile.BadZipFile, OSError) as exc:
+        raise StockError(f"{path}: cannot be read as an XLSX workbook ({exc})") from None
+    lost = sorted({what for n in names for prefix, what in _XLSX_LOST.items() if n.startswith(prefix)})
+    if not str(path).lower().endswith(".xlsm") and any(n.startswith("xl/vbaProject") for n in names):
+        lost.append("macros")
+    return lost
+
+
+def edit_xlsx_bytes(path: str, edits: list[QtyEdit], file: str, before: list[int] | None = None) -> bytes:
+    """The workbook saved with the quantity cells of ``edits`` changed; styles and sheets kept.
+
+    ``before`` (one per edit) are the quantities the cells must hold now, else nothing is changed.
+    """
     from openpyxl import load_workbook
+
+    lost = xlsx_would_lose(path)
+    if lost:
+        raise StockError(f"{file}: the workbook holds {', '.join(lost)}, which rewriting it would lose; nothing"
+                         " changed. Keep the stock on a workbook of its own (or in a CSV) to use take")
 
     keep_vba = str(path).lower().endswith(".xlsm")
     wb = load_workbook(path, keep_vba=keep_vba)
-    for e in edits:
+    for n, e in enumerate(edits):
         sheet_part = f", sheet {e.sheet!r}" if e.sheet else ""
         where = f"{file}{sheet_part}, row {e.row}, column {e.column + 1}"
         cell = _xlsx_cell(wb, e.sheet, e.row, e.column, where)
-        _cell_qty(cell, where)  # refuses formulas and empty cells
+        held = _cell_qty(cell, where)  # refuses formulas and empty cells
+        if before is not None and held != before[n]:
+            raise StockError(f"{where}: holds {held}, expected {before[n]}; nothing changed")
         if isinstance(cell.value, str):
             cell.value = new_qty_text(cell.value, e.new_qty, where)
         else:

@@ -178,9 +178,16 @@ def test_allocation_matches_brute_force(stock, lines, units, method):
     assert parts == -neg_parts
     slots = sum(n for _t, _tol, n in lines) * units
     assert err == pytest.approx(-neg_err, abs=slots * 1e-6)  # errors are compared in whole ppm
-    # the pick list never asks a row for more than it holds (row r is stock line r - 2)
+    # the pick list never asks a row for more than it holds (row r is stock line r - 2), and it is
+    # exactly the parts of the builds shown (filled, and units the drawer covers of unfilled ones)
     for p in r.pick:
         assert p["count"] <= stock[p["source"]["row"] - 2][1]
+    shown: dict[int, int] = {}
+    builds = [b for f in r.filled for b in f.builds] + [b for u in r.unfilled for b in u.from_drawer]
+    for b in builds:
+        for line, n in b.equivalent.uses:
+            shown[line.source.row] = shown.get(line.source.row, 0) + n * b.units
+    assert shown == {p["source"]["row"]: p["count"] for p in r.pick}
     # every designator is either filled or listed unfilled, once
     assert len(r.filled) + len(r.unfilled) == slots // units
 
@@ -307,3 +314,37 @@ def test_cli_text_says_whether_optimal(tmp_path):
     res = CliRunner().invoke(main, ["kit", str(lst), "--stock", str(stock)])
     assert res.exit_code == 0
     assert "1 of 1 designators filled" in res.output and "proven optimal" in res.output
+
+
+def test_sample_parts_list_against_the_sample_workbook(tmp_path):
+    # invented demo data; checked only for properties: stock respected, take and undo exact
+    import shutil
+
+    from openpyxl import load_workbook
+
+    root = Path(__file__).resolve().parents[1] / "inventory_samples"
+    stock = tmp_path / "teaching_lab.xlsx"
+    shutil.copy(root / "teaching_lab.xlsx", stock)
+    before = stock.read_bytes()
+    r = run_kit(str(root / "bench_amp_parts.csv"), str(stock), units=5)
+    doc = kit_to_json(r)
+    wb = load_workbook(stock, data_only=True)
+    for p in doc["pick_list"]:
+        ws = wb[p["source"]["sheet"]]
+        header = [c.value for c in ws[1]]
+        qty_col = next(i for i, h in enumerate(header) if str(h).lower().startswith("qty"))
+        assert p["count"] <= ws.cell(row=p["source"]["row"], column=qty_col + 1).value
+    kit = tmp_path / "kit.json"
+    kit.write_text(json.dumps(doc), encoding="utf-8")
+    from drawerfit.take import take, undo
+
+    take(kit, stock)
+    after = load_workbook(stock, data_only=True)
+    for p in doc["pick_list"]:
+        ws0, ws1 = wb[p["source"]["sheet"]], after[p["source"]["sheet"]]
+        header = [c.value for c in ws0[1]]
+        qty_col = next(i for i, h in enumerate(header) if str(h).lower().startswith("qty")) + 1
+        row = p["source"]["row"]
+        assert ws1.cell(row=row, column=qty_col).value == ws0.cell(row=row, column=qty_col).value - p["count"]
+    undo(stock)
+    assert stock.read_bytes() == before

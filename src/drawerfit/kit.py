@@ -569,9 +569,9 @@ def _cautions(lines, filled: list[Filled]) -> list[str]:
     from .constants import CAP_VOLTAGE_MARGIN, HIGH_VOLTAGE_CAUTION
 
     out = []
-    hv = [ln for ln in lines if ln.kind == "capacitor" and ln.min_rating and ln.min_rating >= HIGH_VOLTAGE_CAUTION]
+    hv = [ln for ln in lines if ln.kind == "capacitor" and ln.min_rating and ln.min_rating > HIGH_VOLTAGE_CAUTION]
     if hv:
-        out.append(f"some capacitors must stand {HIGH_VOLTAGE_CAUTION:g} V or more: supplies that high are"
+        out.append(f"some capacitors must stand more than {HIGH_VOLTAGE_CAUTION:g} V: supplies that high are"
                    " dangerous; work de-energised, discharge capacitors, follow local codes and licensed practice")
     polar = series_polar = False
     for f in filled:

@@ -385,8 +385,17 @@ class _Lock:
                 holder = self.path.read_text(encoding="utf-8").strip()
             except OSError:
                 pass
+            gone = ""
+            try:
+                pid = int(holder.split()[1]) if holder.startswith("pid ") else None
+                if pid is not None:
+                    os.kill(pid, 0)
+            except ProcessLookupError:
+                gone = f" The process that took it (pid {pid}) is no longer running on this machine."
+            except (ValueError, IndexError, PermissionError, OSError):
+                pass
             raise TakeError(
-                f"{self.path}: another take holds the lock ({holder or 'no details'}); nothing changed. If no"
+                f"{self.path}: another take holds the lock ({holder or 'no details'}); nothing changed.{gone} If no"
                 " take is running (one was killed), delete that lock file and try again") from None
         with os.fdopen(fd, "w", encoding="utf-8") as f:
             f.write(f"pid {os.getpid()} since {_stamp()}\n")

@@ -348,3 +348,13 @@ def test_sample_parts_list_against_the_sample_workbook(tmp_path):
         assert ws1.cell(row=row, column=qty_col).value == ws0.cell(row=row, column=qty_col).value - p["count"]
     undo(stock)
     assert stock.read_bytes() == before
+
+
+def test_kind_from_how_the_value_is_written(tmp_path):
+    # like the stock loader: a k/M prefix means ohms, p/n/µ means farads (no kilofarads are stocked)
+    lst = _write(tmp_path / "list.csv", [["ref", "value"], ["X1", "4.7k"], ["X2", "22n"], ["X3", "1M"],
+                                         ["X4", "220"]])
+    kl = read_kit_list(str(lst))
+    assert [ln.kind for ln in kl.lines] == ["resistor", "capacitor", "resistor"]
+    (p,) = kl.problems
+    assert (p.row, p.column) == (5, "value") and "kind" in p.message

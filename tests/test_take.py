@@ -345,3 +345,24 @@ def test_xlsx_with_a_chart_is_refused_rather_than_losing_it(tmp_path):
     res = CliRunner().invoke(main, ["take", str(kit), "--stock", str(stock)])
     assert res.exit_code == 2 and "charts" in res.output
     assert _snapshot(tmp_path) == before
+
+
+def test_undo_without_the_backup_writes_the_old_quantities_back(tmp_path):
+    name, data, _ = VARIANTS["semicolon_crlf_quoted_bom"]
+    stock = tmp_path / name
+    stock.write_bytes(data)
+    result = take(_kit(tmp_path, stock, [(None, 2, 5), (None, 3, 1)]), stock)
+    Path(result.backup).unlink()
+    done = undo(stock)
+    assert stock.read_bytes() == data  # only the digits were changed, so they go back exactly
+    assert any("backup" in n for n in done.notes)
+
+
+def test_a_file_without_a_quantity_column_is_refused(tmp_path):
+    stock = tmp_path / "drawer.csv"
+    stock.write_bytes(b"kind,value,location\nresistor,4k7,A1\n")
+    kit = _kit(tmp_path, stock, [(None, 2, 1)])
+    before = _snapshot(tmp_path)
+    res = CliRunner().invoke(main, ["take", str(kit), "--stock", str(stock)])
+    assert res.exit_code == 2 and "no quantity column" in res.output
+    assert _snapshot(tmp_path) == before

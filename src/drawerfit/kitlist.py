@@ -17,7 +17,8 @@ from pathlib import Path
 
 from .constants import TOL_CERAMIC, TOL_RESISTOR
 from .parts import Problem, SpecError, UNIT_OF_KIND, KIND_OF_UNIT
-from .values import ValueParseError, format_si, parse_quantity, parse_tolerance, parse_value_and_tolerance
+from .values import (ValueParseError, format_si, implied_unit, parse_quantity, parse_tolerance,
+                     parse_value_and_tolerance)
 
 __all__ = ["KitLine", "KitList", "read_kit_list", "DEFAULT_WINDOW", "KIT_HEADERS", "match_kit_header"]
 
@@ -215,7 +216,9 @@ def _read_line(file, sheet, r, row, names, problems) -> KitLine | None:
     kind = None
     kind_text = str(row.get("kind", "")).strip()
     if kind_text:
-        kind = _KIND_WORDS.get(_norm(kind_text))
+        from .stock.lines import _kind_from_word  # the stock loader's own kind words
+
+        kind = _KIND_WORDS.get(_norm(kind_text)) or _kind_from_word(kind_text)[0]
         if kind is None:
             bad("kind", kind_text, "unknown kind (use resistor, capacitor or transistor)")
             return None
@@ -233,9 +236,11 @@ def _read_line(file, sheet, r, row, names, problems) -> KitLine | None:
             for candidate in ((first,) if tol_in_value is not None else (value_text, first)):
                 try:
                     unit = parse_quantity(candidate).unit
-                    break
                 except ValueParseError:
                     continue
+                # as the stock loader does: the R code or a k/M prefix means ohms, p/n/µ farads
+                unit = unit or implied_unit(candidate)
+                break
         except ValueParseError as exc:
             if kind is None and designators and all(d[:1].upper() == "Q" for d in designators):
                 kind = "transistor"

@@ -96,7 +96,7 @@ def main() -> None:
     print(f"equivalents in the windows: {n_in}   kept after dominance pruning: {n_kept}")
     print(f"load stock + list: {t1 - t0:.3f} s")
     print(f"candidate tables:  {t2 - t1:.3f} s")
-    print(f"kit (tables + CP-SAT stages + report): {t3 - t2:.3f} s")
+    print(f"kit (tables + CP-SAT + report): {t3 - t2:.3f} s")
     print(f"filled {len(r.filled)} of {designators}; parts {r.stage_values[1] if len(r.stage_values) > 1 else '-'};"
           f" buy {sum(b.count for b in r.buy)} parts; proven optimal: {r.optimal}")
 

@@ -21,7 +21,6 @@ from hypothesis import HealthCheck, assume, given, settings, strategies as st
 from drawerfit.cli import main
 from drawerfit.kit import kit_to_json, run_kit
 from drawerfit.kitlist import DEFAULT_WINDOW, read_kit_list
-from drawerfit.parts import SpecError
 
 
 def _write(path: Path, rows, delimiter=",") -> Path:

@@ -27,7 +27,7 @@ import tempfile
 from dataclasses import dataclass, field
 from pathlib import Path
 
-from .parts import DrawerfitError, StockError
+from .parts import StockError
 
 __all__ = ["PickEntry", "TakePlan", "Change", "TakeResult", "read_pick_list", "plan_take", "take",
            "undo", "log_path", "lock_path", "file_checksum"]
@@ -164,7 +164,8 @@ def read_pick_list(path: str | os.PathLike) -> PickList:
             raise TakeError(f"{where}: 'count' must be a whole number of parts, not {count!r}")
         if isinstance(per_unit, bool) or not isinstance(per_unit, (int, float)) or per_unit < 0:
             raise TakeError(f"{where}: 'per_unit' must be a number, not {per_unit!r}")
-        entries.append(PickEntry(sheet=src.get("sheet"), row=row, per_unit=float(per_unit), count=count,
+        sheet = src.get("sheet") or None  # TOML has no null: a CSV's sheet may be written "" or left out
+        entries.append(PickEntry(sheet=sheet, row=row, per_unit=float(per_unit), count=count,
                                  part=str(e.get("part", "")), location=str(e.get("location", "")),
                                  file=str(src.get("file", ""))))
     return PickList(str(p), units, str(doc["stock_checksum"]), tuple(entries))

@@ -262,7 +262,8 @@ def _new_bytes(path: Path, data: bytes, changes: tuple[Change, ...] | list[Chang
         before, after = (c.new_qty, c.old_qty) if use_old else (c.old_qty, c.new_qty)
         edits.append((c, before, QtyEdit(c.sheet, c.row, c.column, after)))
     if is_xlsx(str(path)):
-        return edit_xlsx_bytes(str(path), [e for _c, _b, e in edits], str(path), before=[b for _c, b, _e in edits])
+        return edit_xlsx_bytes(str(path), [e for _c, _b, e in edits], str(path), before=[b for _c, b, _e in edits],
+                               data=data)
     from .stock.readers import sniff_delimiter
 
     # the loader's own guess first, then whichever delimiter puts the planned quantities in place

@@ -227,12 +227,12 @@ _XLSX_LOST = {"xl/drawings/": "drawings or images", "xl/charts/": "charts", "xl/
               "xl/timelines/": "timelines", "xl/embeddings/": "embedded objects", "xl/ctrlProps/": "form controls"}
 
 
-def xlsx_would_lose(path: str) -> list[str]:
+def xlsx_would_lose(path: str, data: bytes | None = None) -> list[str]:
     """What a load-and-save of this workbook with openpyxl would drop (empty when nothing)."""
     import zipfile
 
     try:
-        with zipfile.ZipFile(path) as z:
+        with zipfile.ZipFile(io.BytesIO(data) if data is not None else path) as z:
             names = z.namelist()
     except (zipfile.BadZipFile, OSError) as exc:
         raise StockError(f"{path}: cannot be read as an XLSX workbook ({exc})") from None
@@ -242,20 +242,22 @@ def xlsx_would_lose(path: str) -> list[str]:
     return lost
 
 
-def edit_xlsx_bytes(path: str, edits: list[QtyEdit], file: str, before: list[int] | None = None) -> bytes:
+def edit_xlsx_bytes(path: str, edits: list[QtyEdit], file: str, before: list[int] | None = None,
+                    data: bytes | None = None) -> bytes:
     """The workbook saved with the quantity cells of ``edits`` changed; styles and sheets kept.
 
-    ``before`` (one per edit) are the quantities the cells must hold now, else nothing is changed.
+    ``before`` (one per edit) are the quantities the cells must hold now, else nothing is changed;
+    ``data`` are the file's bytes as already read and checked (else the file is read again).
     """
     from openpyxl import load_workbook
 
-    lost = xlsx_would_lose(path)
+    lost = xlsx_would_lose(path, data)
     if lost:
         raise StockError(f"{file}: the workbook holds {', '.join(lost)}, which rewriting it would lose; nothing"
                          " changed. Keep the stock on a workbook of its own (or in a CSV) to use take")
 
     keep_vba = str(path).lower().endswith(".xlsm")
-    wb = load_workbook(path, keep_vba=keep_vba)
+    wb = load_workbook(io.BytesIO(data) if data is not None else path, keep_vba=keep_vba)
     for n, e in enumerate(edits):
         sheet_part = f", sheet {e.sheet!r}" if e.sheet else ""
         where = f"{file}{sheet_part}, row {e.row}, column {e.column + 1}"

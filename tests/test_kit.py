@@ -398,3 +398,23 @@ def test_triples_limited_per_line_are_reported_as_not_proven(tmp_path):
     assert c.truncated and int((c.part_count == 3).sum()) <= TRIPLES_PER_LINE
     # with pairs only the same list is proven optimal
     assert run_kit(str(lst), str(stock), units=1, max_parts=2).optimal
+
+
+def test_reasons_for_unfilled_designators(tmp_path):
+    # one 4k7 in the drawer, two designators that can only use it: one is filled, the other is told
+    # the stock went to another line; for 2 units even one designator alone cannot be filled
+    stock = _stock(tmp_path / "drawer.csv", [("4k7", 1, "A1")])
+    lst = _write(tmp_path / "list.csv", [["designators", "value"], ["R1", "4k7 1%"], ["R2", "4k7 1%"],
+                                         ["R3", "220k"]])
+    r = run_kit(str(lst), str(stock), units=1)
+    reasons = {u.designator: u.reason for u in r.unfilled}
+    assert len(r.filled) == 1 and set(reasons) == {"R1", "R2", "R3"} - {r.filled[0].designator}
+    other = ({"R1", "R2"} - {r.filled[0].designator}).pop()
+    assert "other lines" in reasons[other]
+    assert "no single part or combination" in reasons["R3"]
+    r2 = run_kit(str(lst), str(stock), units=2)
+    assert not r2.filled
+    assert "for 1 of the 2 places" in {u.designator: u.reason for u in r2.unfilled}["R1"]
+    # 2 designators × 2 units = 4 places at 4k7, the drawer's one part covers one: buy 3 (E12 4.7k)
+    assert [(b.value, b.per_unit, b.count) for b in r2.buy if b.value == 4700] == [(4700, 2, 3)]
+    assert sum(u.units_covered for u in r2.unfilled) == 1

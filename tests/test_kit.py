@@ -418,3 +418,18 @@ def test_reasons_for_unfilled_designators(tmp_path):
     # 2 designators × 2 units = 4 places at 4k7, the drawer's one part covers one: buy 3 (E12 4.7k)
     assert [(b.value, b.per_unit, b.count) for b in r2.buy if b.value == 4700] == [(4700, 2, 3)]
     assert sum(u.units_covered for u in r2.unfilled) == 1
+
+
+def test_cautions_for_electrolytics_and_high_voltage(tmp_path):
+    # safety notes (common practice, no source): polarity and voltage margin of electrolytics,
+    # balancing for polarized parts in series, supplies above about 50 V
+    stock = tmp_path / "drawer.csv"
+    _write(stock, [["kind", "value", "voltage", "qty", "location"],
+                   ["electrolytic", "22u", "35", "4", "E1"], ["ceramic", "1n", "100", "2", "K1"]])
+    lst = _write(tmp_path / "list.csv", [["designators", "value", "min voltage"],
+                                         ["C1", "22uF", "25"], ["C2", "11uF", "60"], ["C3", "1nF", "63"]])
+    r = run_kit(str(lst), str(stock), units=1)
+    text = " ".join(r.cautions)
+    assert "right way round" in text and "balancing" in text and "more than 50 V" in text
+    c2 = next(f for f in r.filled if f.designator == "C2").builds[0].equivalent
+    assert c2.arrangement == "series" and c2.value == pytest.approx(11e-6)  # 22µ — 22µ = 11µ (C1·C2/(C1+C2))

@@ -579,7 +579,7 @@ def _cautions(lines, filled: list[Filled]) -> list[str]:
             uses = getattr(b.equivalent, "uses", ())
             if any(getattr(s, "polarized", False) for s, _n in uses):
                 polar = True
-                if "series" in str(getattr(b.equivalent, "arrangement", "")):
+                if getattr(b.equivalent, "polarized_series", False):
                     series_polar = True
     if polar:
         out.append(f"electrolytic capacitors are in the build: fit them the right way round and keep the working"

@@ -366,3 +366,14 @@ def test_a_file_without_a_quantity_column_is_refused(tmp_path):
     res = CliRunner().invoke(main, ["take", str(kit), "--stock", str(stock)])
     assert res.exit_code == 2 and "no quantity column" in res.output
     assert _snapshot(tmp_path) == before
+
+
+def test_undo_dry_run_changes_nothing(tmp_path):
+    name, data, _ = VARIANTS["comma_lf"]
+    stock = tmp_path / name
+    stock.write_bytes(data)
+    take(_kit(tmp_path, stock, [(None, 3, 2)]), stock)
+    before = _snapshot(tmp_path)
+    res = CliRunner().invoke(main, ["take", "--undo", "--dry-run", "--stock", str(stock)])
+    assert res.exit_code == 0 and "3 -> 5" in res.output  # 5 - 2 taken, would go back to 5
+    assert _snapshot(tmp_path) == before

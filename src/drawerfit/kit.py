@@ -74,13 +74,16 @@ class _Transistor:
     uses: tuple
 
 
-def candidates_for(line: KitLine, stock: Stock, max_parts: int = 2) -> Candidates:
+def candidates_for(line: KitLine, stock: Stock, max_parts: int = 2,
+                   indexes: dict | None = None) -> Candidates:
     """Equivalents for one list line: inside its window and rating, minus those surely never best.
 
     An equivalent of several parts that contains a smaller equivalent in the window (a single
     part of one of its lines, or for a triple a pair of its parts) with no more error is dropped:
     swapping in the smaller one keeps every designator filled with fewer parts and uses a subset of
     the stock, so the dropped one is never in a lexicographic optimum.
+
+    ``indexes`` (kind -> EquivalentIndex) lets many list lines share one set of pair tables.
     """
     if line.kind == "transistor":
         want = _label_key(line.label)
@@ -93,14 +96,17 @@ def candidates_for(line: KitLine, stock: Stock, max_parts: int = 2) -> Candidate
         eqs = [_Transistor(None, None, None, 1, "single", ((s, 1),)) for s in rows]
         return Candidates(np.ones(n, dtype=np.int64), np.zeros(n, dtype=np.int64), members, counts,
                           eqs.__getitem__, n)
-    from .equivalents import equivalents_in_window, nearest
+    from .equivalents import EquivalentIndex
 
-    lines = [s for s in stock.lines if s.kind == line.kind and s.value is not None and s.qty > 0]
-    if not lines:
+    indexes = {} if indexes is None else indexes
+    if line.kind not in indexes:
+        lines = [s for s in stock.lines if s.kind == line.kind and s.value is not None and s.qty > 0]
+        indexes[line.kind] = EquivalentIndex(lines, units=1) if lines else None
+    index = indexes[line.kind]
+    if index is None:
         return _empty()
     parts = 1 if line.single else max_parts
-    table = equivalents_in_window(lines, line.lo, line.hi, max_parts=min(parts, 2), units=1,
-                                  min_rating=line.min_rating)
+    table = index.window(line.lo, line.hi, max_parts=min(parts, 2), min_rating=line.min_rating)
     tables = [table]
     truncated = False
     if parts >= 3:
@@ -109,7 +115,7 @@ def candidates_for(line: KitLine, stock: Stock, max_parts: int = 2) -> Candidate
         # (exactly, by the nearest search); when the window holds more than that, the result is
         # marked as not proven optimal.
         k = TRIPLES_PER_LINE
-        near = nearest(lines, line.value, k, max_parts=3, units=1, min_rating=line.min_rating)
+        near = index.nearest(line.value, k, max_parts=3, min_rating=line.min_rating)
         inside = (near.value >= line.lo) & (near.value <= line.hi) & (near.part_count == 3)
         tables.append(near.take(np.flatnonzero(inside)))
         if len(near) == k and line.lo <= near.value[-1] <= line.hi:
@@ -458,11 +464,12 @@ def run_kit(list_file: str, stock_file: str, *, units: int = 1, max_parts: int =
     for s in stock.lines:
         qty[s.index] = max(0, s.qty)
     cache: dict[tuple, Candidates] = {}
+    indexes: dict = {}
     cands = []
     for ln in lines:
         key = (ln.kind, ln.value, ln.lo, ln.hi, ln.min_rating, ln.single, _label_key(ln.label))
         if key not in cache:
-            cache[key] = candidates_for(ln, stock, max_parts)
+            cache[key] = candidates_for(ln, stock, max_parts, indexes)
         cands.append(cache[key])
     needs = [ln.per_unit for ln in lines]
     sol, filled_n, partial, optimal, values = allocate(needs, cands, qty, units, time_limit=time_limit,

@@ -60,7 +60,11 @@ def test_gain_rule_from_design_notes():
     f = evaluate_dc(topology="common-emitter", supply=12, r1=47e3, r2=10e3, re=220, re2=1e3,
                     rc=4.7e3, rl=10e3, hfe=HUGE_BETA, bypassed=True)
     rl_par = 4.7e3 * 10e3 / 14.7e3
-    assert float(f.gain_base) == pytest.approx(-rl_par / (float(f.re_small) + 220), rel=1e-9)
+    # By hand, base current neglected: VB = 12·10/57, IE = (VB − 0.65)/(220 + 1000), re = VT/IE.
+    ie = (12 * 10 / 57 - 0.65) / 1220
+    re = thermal_voltage(25) / ie
+    assert float(f.ie) == pytest.approx(ie, rel=1e-9)
+    assert float(f.gain_base) == pytest.approx(-rl_par / (re + 220), rel=1e-9)
     assert float(f.rout) == 4.7e3
 
 

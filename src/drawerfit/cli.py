@@ -143,6 +143,42 @@ def analyze(spec, stock_file, as_json, monte_carlo, seed) -> None:
 # --- design (optimizer) and demo -------------------------------------------------------------
 
 
+@main.command()
+@click.argument("spec", type=click.Path(dir_okay=False))
+@click.option("--stock", "stock_file", required=True, type=click.Path(dir_okay=False), help="Stock file (CSV or XLSX).")
+@click.option("--units", type=click.IntRange(1), default=1, show_default=True, help="How many stages to build.")
+@click.option("--max-parts", type=click.IntRange(1, 3), default=2, show_default=True,
+              help="Most parts per role (2: pairs, 3: triples).")
+@click.option("--guarantee", type=click.Choice(["worst-case", "nominal"]), default="worst-case", show_default=True,
+              help="Hold the constraints over tolerances, hFE and ambient, or at the nominal point only.")
+@click.option("--prefer", type=click.Choice(["fewest-parts", "closest"]), default="fewest-parts", show_default=True,
+              help="Fewest parts first, or closest to the target centres first.")
+@click.option("--top", type=click.IntRange(1), default=1, show_default=True, help="Show this many designs.")
+@click.option("--json", "as_json", is_flag=True, help="Print the design as JSON (SI units).")
+@click.option("--save", type=click.Path(dir_okay=False), default=None, help="Write an analyze-ready DESIGN.toml.")
+@click.option("--exhaustive", is_flag=True, help="Enumerate every candidate naively (slow; for cross-checks).")
+@click.option("--report", type=click.Path(dir_okay=False), default=None, help="Write an HTML report.")
+@click.option("--quiet", is_flag=True, help="Shorter output; no stock notes.")
+@click.option("--strict", is_flag=True, help="Fail (exit 2) if any stock line cannot be read.")
+@user_errors
+def design(spec, stock_file, units, max_parts, guarantee, prefer, top, as_json, save, exhaustive, report, quiet,
+           strict) -> None:
+    """Design the stage in SPEC (TOML with [targets]) from the parts in the stock file."""
+    from .commands.design_cmd import run_design
+
+    run_design(spec, stock_file, units=units, max_parts=max_parts, guarantee=guarantee, prefer=prefer, top=top,
+               as_json=as_json, save=save, exhaustive=exhaustive, report=report, quiet=quiet, strict=strict)
+
+
+@main.command()
+@user_errors
+def demo() -> None:
+    """Design a bench buffer and a gain stage from the sample teaching-lab drawer (writes nothing)."""
+    from .commands.design_cmd import run_demo
+
+    run_demo()
+
+
 # --- kit and take (parts lists, stock updates) -----------------------------------------------
 
 

@@ -7,7 +7,8 @@ judged against the full spec: the constraints it misses and by how much are the 
 Shopping list: the drawer is extended by lines that stand for parts one can buy (E24 resistors at
 0.25 W and 1 W, E12 capacitors: film to 680 nF, electrolytics from 1 µF at 25 V and 63 V) and
 searched again with the number of bought parts first in the objective, so the list is the
-fewest new parts among designs of single parts (then the usual objective).  The list is then checked: those parts alone are
+fewest new parts among designs of single parts (then the usual objective).  When the nearest design misses only capacitor constraints (the corner, a capacitor's
+voltage or polarity), only capacitors are offered.  The list is then checked: those parts alone are
 added to the real drawer and the ordinary search must find a design.
 """
 
@@ -133,14 +134,15 @@ def explain_infeasible(result, lines, trs, why, *, suggest: bool = True) -> None
         else:
             result.reason = "nothing in the drawer meets every constraint together with the stock quantities"
     if suggest:
-        _suggest(result, lines)
+        caps_only = nearest is not None and all(k == "f_low" or k.startswith("C") for k in result.nearest["missed"])
+        _suggest(result, lines, kinds=("capacitor",) if caps_only else ("resistor", "capacitor"))
 
 
-def _suggest(result, lines) -> None:
+def _suggest(result, lines, kinds=("resistor", "capacitor")) -> None:
     from .design import _run
 
     problem = result.problem
-    extra = purchase_lines(max(ln.index for ln in lines) + 1, problem.units)
+    extra = [ln for ln in purchase_lines(max(ln.index for ln in lines) + 1, problem.units) if ln.kind in kinds]
     ids = [ln.index for ln in extra]
     single = problem.with_(max_parts=1)  # purchases and drawer parts as single parts: a quick search
     found, trs, _ = _run(single, list(lines) + extra, 1, False, virtual_ids=ids, min_bought=1)

@@ -31,7 +31,7 @@ import numpy as np
 
 from ..parts import StockLine
 from .evaluate import (Context, cap_margin, corner_ok, evaluate_resistors, lowest_caps, nominal_distance,
-                       vertex_dc)
+                       stacked_dc, vertex_dc)
 from .joins import candidate_sets
 from .tables import RoleTable, equivalent_key
 
@@ -218,14 +218,14 @@ class CapSide:
         v = {r: T[r].v[idx[r]] for r in ctx.res_roles}
         tol = {r: T[r].tol[idx[r]] for r in ctx.res_roles}
         dc = vertex_dc(ctx, ctx.vertices[0], v, tol)
-        return corner_ok(ctx, [dc], {r: top for r in ctx.cap_roles})
+        return corner_ok(ctx, _stack1(dc), {r: top for r in ctx.cap_roles})
 
     def _dcs(self, batch: RBatch, pos):
         ctx = self.ctx
         T = batch.tables
         v = {r: T[r].v[batch.idx[r][pos]] for r in ctx.res_roles}
         tol = {r: T[r].tol[batch.idx[r][pos]] for r in ctx.res_roles}
-        return [vertex_dc(ctx, vert, v, tol) for vert in ctx.vertices]
+        return stacked_dc(ctx, v, tol)
 
     def lower_bounds(self, batch: RBatch, positions: np.ndarray) -> np.ndarray:
         """Fewest capacitor parts each set at ``positions`` could need (inf: no capacitors can do)."""
@@ -262,7 +262,7 @@ class CapSide:
                 continue
             caps = {r: best[(r, shape[r])][todo] for r in ctx.cap_roles}
             has = np.all(np.stack([caps[r] > 0 for r in ctx.cap_roles]), axis=0)
-            sub = [_take(dc, todo) for dc in dcs]
+            sub = _take(dcs, (slice(None), todo))
             ok = corner_ok(ctx, sub, {r: np.where(has, caps[r], 1e-30) for r in ctx.cap_roles}) & has
             lb[todo[ok]] = pc
         return lb
@@ -297,8 +297,9 @@ class CapSide:
             if not all(sizes):
                 continue
             total = int(np.prod(sizes))
-            for s0 in range(0, total, 200_000):
-                flat = np.arange(s0, min(total, s0 + 200_000))
+            step = max(1000, 4_000_000 // len(ctx.vertices))
+            for s0 in range(0, total, step):
+                flat = np.arange(s0, min(total, s0 + step))
                 pick = {}
                 for r, size in zip(reversed(ctx.cap_roles), reversed(sizes)):
                     pick[r] = flat % size
@@ -339,6 +340,11 @@ class CapSide:
         return best
 
 
+def _stack1(dc):
+    """One vertex's DCFigures as a stack of one vertex (a leading axis of length 1)."""
+    return _take(dc, (None,))
+
+
 def _take(dc, idx):
     from dataclasses import fields
 
@@ -346,7 +352,8 @@ def _take(dc, idx):
     for f in fields(dc):
         a = getattr(dc, f.name)
         if f.name == "inputs":
-            vals[f.name] = {k: (x[idx] if isinstance(x, np.ndarray) and x.ndim else x) for k, x in a.items()}
+            vals[f.name] = {k: (np.asarray(x)[idx] if isinstance(x, np.ndarray) and x.ndim else x)
+                            for k, x in a.items()}
         else:
             vals[f.name] = a[idx]
     return type(dc)(**vals)

@@ -233,14 +233,25 @@ def cap_margin(lo_v, hi_v, rating, polarized, margin_fraction):
     return np.where(polarized & ~one_sign, -np.inf, m)
 
 
-def corner_ok(ctx: Context, dcs: list, caps: Mapping[str, np.ndarray]) -> np.ndarray:
-    """Whole-stage corner at or below the target at every vertex (``dcs``: DCFigures per vertex)."""
+def stacked_dc(ctx: Context, v: Mapping[str, np.ndarray], tol: Mapping[str, np.ndarray]):
+    """``core.evaluate_dc`` at every vertex in one call: arrays of shape (vertices, sets)."""
+    verts = ctx.vertices
+    vals = {}
+    for r in ctx.res_roles:
+        bits = np.array([vt.res[r] for vt in verts], float)[:, None]
+        sign = np.where(bits < 0, 0.0, np.where(bits == 0, -1.0, 1.0))
+        vals[r] = np.asarray(v[r], float)[None, :] * (1.0 + sign * np.asarray(tol[r], float)[None, :])
+    hfe = np.array([vt.hfe for vt in verts], float)[:, None]
+    temp = np.array([vt.temp for vt in verts], float)[:, None]
+    return core.evaluate_dc(**ctx.dc_args(vals), hfe=hfe, temp_c=temp)
+
+
+def corner_ok(ctx: Context, dc, caps: Mapping[str, np.ndarray]) -> np.ndarray:
+    """Whole-stage corner at or below the target at every vertex (``dc`` from ``stacked_dc``,
+    shape (vertices, n); capacitor arrays broadcast against the last axis)."""
     f = ctx.problem.targets.f_low
-    ok = None
-    for dc in dcs:
-        m = core.meets_corner(dc, c1=caps["C1"], c2=caps["C2"], ce=caps.get("CE", 0.0), f_target=f)
-        ok = m if ok is None else (ok & m)
-    return ok
+    m = core.meets_corner(dc, c1=caps["C1"], c2=caps["C2"], ce=caps.get("CE", 0.0), f_target=f)
+    return np.all(m, axis=0)
 
 
 def lowest_caps(ctx: Context, values: Mapping[str, np.ndarray], tols: Mapping[str, np.ndarray]):

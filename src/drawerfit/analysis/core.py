@@ -1,0 +1,590 @@
+"""Vectorised figures of one-transistor stages: DC point, mid-band small signal, swing, corners.
+
+Every numeric keyword argument is a float or a numpy array; they are broadcast together, so one
+call scores one stage or a million candidates.  There is no Python loop over candidates (the
+only loops are fixed-length iterations of the root finders and, in ``worst_case``, over the
+vertices of the tolerance box).  ``topology`` and ``polarity`` are plain strings, the same for
+the whole batch.
+
+API (stable; callers such as the optimizer build on it)
+-------------------------------------------------------
+``evaluate_dc(*, topology, polarity="npn", supply, r1, r2, re, rc=0, re2=0, bypassed=False,
+rs=0, rl=inf, hfe, vbe=0.65, vce_sat=0.2, temp_c=25, vbe_tempco=-2e-3, i_sat=None) -> DCFigures``
+    Operating point, mid-band small signal, swing, power, capacitor DC voltages; no capacitances
+    needed.  ``bypassed`` says whether RE2 is shorted by CE in the mid-band.
+``low_corner(dc, *, c1, c2, ce=0) -> Corners``
+    The whole-stage -3 dB low corner from the full small-signal transfer function (every
+    capacitor in it) and each capacitor's own corner.
+``meets_corner(dc, *, c1, c2, ce=0, f_target) -> bool array``
+    Whether the whole-stage corner is at or below ``f_target``: one transfer evaluation, no
+    root search (|H| rises monotonically with f), for filtering large batches.
+``evaluate(*, ..., c1, c2, ce=0, bypassed=None) -> Figures``
+    Both of the above; ``bypassed`` defaults to ``ce > 0``.
+``transfer(dc, *, c1, c2, ce=0, f) -> complex array``
+    Source-to-load voltage transfer at frequencies ``f`` (Hz), broadcast against the stage.
+``worst_case(*, tolerances, hfe_min, hfe_max, temp_min, temp_max, **nominal) -> WorstCase``
+    Lowest and highest of every figure over the corners of the tolerance box.
+``monte_carlo(n, *, seed, tolerances, hfe_min, hfe_max, temp_min, temp_max, **nominal) -> Figures``
+    ``n`` seeded random builds of one nominal stage, evaluated in one vectorised call.
+
+Units are SI base units: ohm, farad, volt, ampere, watt, hertz, and °C for temperatures.
+Conventions:
+
+* ``rl = np.inf`` means no load; ``rs = 0`` an ideal source; ``re2 = 0`` no second emitter
+  resistor; ``ce = 0`` no bypass capacitor.  ``rc`` and ``re2`` are ignored by the follower.
+* Node voltages (``vb``, ``ve``, ``vc``) are to ground for both polarities.  Currents (``ie``,
+  ``ic``, ``ib``) and ``vce`` are magnitudes (``vce`` is VEC for a PNP stage), positive when the
+  transistor conducts.  The PNP stage is the mirror image on the same positive supply: it is
+  solved as the NPN stage in voltages measured down from the supply, with R1 and R2 swapped.
+* Capacitor DC voltages (``v_c1``, ``v_c2``, ``v_ce``) are signed: the voltage of the stage-side
+  end minus the other end (C1: base minus source; C2: emitter or collector minus load; CE: the
+  RE/RE2 junction minus the rail RE2 returns to).  Positive means a polarized capacitor's + end
+  goes to the stage side.  Source and load are taken as ground-referenced at DC.
+* ``state``: ``ACTIVE`` (0), ``SATURATED`` (1), ``CUTOFF`` (2).  Outside the active region the
+  small-signal figures have no meaning; ``gain`` and ``swing_peak`` are 0 there and ``rin`` is
+  the divider alone.
+* ``swing_limit``: ``LIMIT_CUTOFF`` (0) or ``LIMIT_SATURATION`` (1), whichever bounds the
+  symmetric peak; ``LIMIT_NONE`` (-1) outside the active region.
+
+Model: Ebers-Moll transistor without Early effect, base resistance or junction capacitance;
+IC = hFE·IB; VBE fixed (``vbe`` at 25 °C) or, when ``i_sat`` is given, from the diode law
+IC = IS·(exp(VBE/VT) − 1) at 25 °C; either way VBE drifts by ``vbe_tempco`` per °C away from
+25 °C.  Small signal: re = VT/IE at ``temp_c``, rπ = (β+1)·re, gm = IC/VT.  The high-frequency
+end is out of scope.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, fields
+from typing import Mapping
+
+import numpy as np
+
+from ..constants import NOMINAL_TEMP_C, VBE_DEFAULT, VBE_TEMPCO, VCE_SAT_DEFAULT, thermal_voltage
+
+__all__ = [
+    "ACTIVE", "SATURATED", "CUTOFF", "STATE_NAMES",
+    "LIMIT_NONE", "LIMIT_CUTOFF", "LIMIT_SATURATION", "LIMIT_NAMES",
+    "TOPOLOGIES", "POLARITIES",
+    "DCFigures", "Corners", "Figures", "WorstCase",
+    "evaluate_dc", "low_corner", "meets_corner", "evaluate", "transfer", "worst_case", "monte_carlo",
+    "TOLERANCE_KEYS",
+]
+
+ACTIVE, SATURATED, CUTOFF = 0, 1, 2
+STATE_NAMES = {ACTIVE: "active", SATURATED: "saturated", CUTOFF: "cut-off"}
+LIMIT_NONE, LIMIT_CUTOFF, LIMIT_SATURATION = -1, 0, 1
+LIMIT_NAMES = {LIMIT_NONE: "none", LIMIT_CUTOFF: "cut-off", LIMIT_SATURATION: "saturation"}
+TOPOLOGIES = ("emitter-follower", "common-emitter")
+POLARITIES = ("npn", "pnp")
+
+_TWO_PI = 2.0 * np.pi
+
+
+def _par(a, b):
+    """a ∥ b for positive resistances, with inf meaning open and 0 meaning short."""
+    with np.errstate(divide="ignore", invalid="ignore"):
+        out = 1.0 / (1.0 / a + 1.0 / b)
+    return np.where(np.isinf(a), b, np.where(np.isinf(b), a, out))
+
+
+@dataclass(frozen=True)
+class DCFigures:
+    """Operating point, mid-band small signal, swing and power of a batch of stages.
+
+    Every field is a numpy array of the broadcast shape of the inputs.  ``inputs`` keeps the
+    broadcast parameters (mirrored for PNP) that ``low_corner`` needs.
+    """
+
+    vb: np.ndarray
+    ve: np.ndarray
+    vc: np.ndarray
+    ie: np.ndarray
+    ic: np.ndarray
+    ib: np.ndarray
+    vce: np.ndarray
+    vbe: np.ndarray
+    state: np.ndarray
+    re_small: np.ndarray  # re = VT/IE, ohm
+    rin: np.ndarray  # seen by the source, ohm
+    rout: np.ndarray  # seen by the load, ohm
+    gain: np.ndarray  # source EMF to load, signed
+    gain_base: np.ndarray  # base to load, signed
+    swing_peak: np.ndarray  # largest symmetric undistorted peak into the load, V
+    swing_up: np.ndarray  # room before the limit on the side away from the emitter rail, V
+    swing_down: np.ndarray
+    swing_limit: np.ndarray
+    p_r1: np.ndarray
+    p_r2: np.ndarray
+    p_re: np.ndarray
+    p_rc: np.ndarray
+    p_re2: np.ndarray
+    p_q: np.ndarray
+    v_c1: np.ndarray
+    v_c2: np.ndarray
+    v_ce: np.ndarray
+    inputs: Mapping[str, object]
+
+    @property
+    def shape(self) -> tuple[int, ...]:
+        return self.ie.shape
+
+
+@dataclass(frozen=True)
+class Corners:
+    """Low-frequency corners, Hz: the whole stage and each capacitor on its own (0 if absent)."""
+
+    f_low: np.ndarray
+    f_c1: np.ndarray
+    f_c2: np.ndarray
+    f_ce: np.ndarray
+
+
+@dataclass(frozen=True)
+class Figures(DCFigures):
+    """``DCFigures`` plus the low-frequency corners."""
+
+    f_low: np.ndarray = None  # type: ignore[assignment]
+    f_c1: np.ndarray = None  # type: ignore[assignment]
+    f_c2: np.ndarray = None  # type: ignore[assignment]
+    f_ce: np.ndarray = None  # type: ignore[assignment]
+
+    @property
+    def ok_active(self) -> np.ndarray:
+        return self.state == ACTIVE
+
+
+# Figures that are numbers one may take the lowest and highest of.
+NUMERIC_FIELDS = tuple(
+    f.name for f in fields(Figures) if f.name not in ("inputs", "state", "swing_limit")
+)
+
+
+def _check_names(topology: str, polarity: str) -> None:
+    if topology not in TOPOLOGIES:
+        raise ValueError(f"topology must be one of {TOPOLOGIES}, not {topology!r}")
+    if polarity not in POLARITIES:
+        raise ValueError(f"polarity must be one of {POLARITIES}, not {polarity!r}")
+
+
+def _solve_vbe_diode(vth, rden, alpha, i_sat, vt25, drift):
+    """VBE with IC = IS·(exp((VBE−drift)/VT25) − 1) on the divider's load line.
+
+    Newton on u = VTH − VBE (so IE = u/rden), h(u) = VTH − u − drift − VT·ln(α·u/(rden·IS) + 1),
+    which is convex and decreasing in u; a fixed number of steps, clipped to u > 0.
+    """
+    u = np.maximum(vth - drift - VBE_DEFAULT, 1e-3 * np.maximum(vth, 1e-9))
+    k = rden * i_sat / alpha
+    for _ in range(40):
+        h = vth - u - drift - vt25 * np.log1p(u / k)
+        dh = -1.0 - vt25 / (u + k)
+        u_new = u - h / dh
+        u = np.where(u_new > 0, u_new, 0.5 * u)
+    return vth - u
+
+
+def evaluate_dc(
+    *,
+    topology: str,
+    polarity: str = "npn",
+    supply,
+    r1,
+    r2,
+    re,
+    rc=0.0,
+    re2=0.0,
+    bypassed=False,
+    rs=0.0,
+    rl=np.inf,
+    hfe,
+    vbe=VBE_DEFAULT,
+    vce_sat=VCE_SAT_DEFAULT,
+    temp_c=NOMINAL_TEMP_C,
+    vbe_tempco=VBE_TEMPCO,
+    i_sat=None,
+) -> DCFigures:
+    """DC point, mid-band small-signal figures, swing and power for a batch of stages.
+
+    ``vbe`` is VBE at 25 °C (ignored when ``i_sat``, the transistor's saturation current in A,
+    is given); ``temp_c`` the ambient in °C.  See the module docstring for conventions.
+    """
+    _check_names(topology, polarity)
+    follower = topology == "emitter-follower"
+    arrs = np.broadcast_arrays(
+        *(np.asarray(x, dtype=float) for x in (
+            supply, r1, r2, re, rc, re2, rs, rl, hfe, vbe, vce_sat, temp_c, vbe_tempco,
+            np.nan if i_sat is None else i_sat,
+        )),
+        np.asarray(bypassed, dtype=bool),
+    )
+    vcc, r1, r2, re, rc, re2, rs, rl, beta, vbe0, vces, temp, tempco, isat, byp = arrs
+    if follower:
+        rc = np.zeros_like(rc)
+        re2 = np.zeros_like(re2)
+        byp = np.zeros_like(byp)
+    # PNP: the NPN stage in voltages measured down from the supply; the divider's roles swap.
+    ra, rb = (r1, r2) if polarity == "npn" else (r2, r1)
+
+    vt = thermal_voltage(temp)
+    vt25 = thermal_voltage(NOMINAL_TEMP_C)
+    drift = tempco * (temp - NOMINAL_TEMP_C)
+    rth = _par(ra, rb)
+    vth = vcc * rb / (ra + rb)
+    ret = re + re2  # DC emitter resistance
+    alpha = beta / (beta + 1.0)
+    rden = rth / (beta + 1.0) + ret
+    if i_sat is None:
+        vbe_t = vbe0 + drift
+    else:
+        vbe_t = np.where(
+            vth - drift > 0, _solve_vbe_diode(vth, rden, alpha, isat, vt25, drift), vbe0 + drift
+        )
+
+    # Active region.
+    ib = np.maximum(vth - vbe_t, 0.0) / (rth + (beta + 1.0) * ret)
+    ic = beta * ib
+    ie = ib + ic
+    vem = ie * ret
+    vcm = vcc - ic * rc
+    cutoff = ib <= 0.0
+    saturated = (~cutoff) & (vcm - vem < vces)
+    # Saturated: VCE = VCE(sat), VBE = vbe; two loop equations in IB and IC.
+    det = (rc + ret) * (rth + ret) - ret * ret
+    with np.errstate(divide="ignore", invalid="ignore"):
+        ic_s = ((vcc - vces) * (rth + ret) - ret * (vth - vbe_t)) / det
+        ib_s = ((vth - vbe_t) * (rc + ret) - ret * (vcc - vces)) / det
+    ib = np.where(saturated, ib_s, ib)
+    ic = np.where(saturated, ic_s, ic)
+    ie = ib + ic
+    vem = ie * ret
+    vcm = np.where(saturated, vem + vces, vcc - ic * rc)
+    vbm = np.where(cutoff, vth, vth - ib * rth)
+    vce = vcm - vem
+    state = np.where(cutoff, CUTOFF, np.where(saturated, SATURATED, ACTIVE)).astype(np.int8)
+    active = state == ACTIVE
+
+    # Mid-band small signal (the same for both polarities).
+    with np.errstate(divide="ignore"):
+        re_s = np.where(ie > 0, vt / np.where(ie > 0, ie, 1.0), np.inf)
+    rbias = _par(ra, rb)
+    re_ac = np.where(byp, re, re + re2) if not follower else re
+    if follower:
+        rload_e = _par(re, rl)
+        zb = (beta + 1.0) * (re_s + rload_e)
+        gain_base = rload_e / (re_s + rload_e)
+        rs_b = _par(rs, rbias)
+        rout = _par(re, re_s + rs_b / (beta + 1.0))
+    else:
+        rload_c = _par(rc, rl)
+        zb = (beta + 1.0) * (re_s + re_ac)
+        gain_base = -alpha * rload_c / (re_s + re_ac)
+        rout = rc.copy()
+    rin_act = _par(rbias, zb)
+    rin = np.where(active, rin_act, rbias)
+    gain = np.where(active, gain_base * rin / (rs + rin), 0.0)
+    gain_base = np.where(active, gain_base, 0.0)
+
+    # Swing, in mirrored coordinates: "up" is away from the emitter rail.
+    if follower:
+        up = vcc - vces - vem  # emitter rises until VCE = VCE(sat)
+        down = ie * _par(re, rl)  # emitter current falls to zero (cut-off)
+        limit = np.where(up < down, LIMIT_SATURATION, LIMIT_CUTOFF)
+    else:
+        rload_c = _par(rc, rl)
+        up = ic * rload_c  # collector current falls to zero (cut-off)
+        down = (vce - vces) * rload_c / (rload_c + re_ac / alpha)  # VCE falls to VCE(sat)
+        limit = np.where(down < up, LIMIT_SATURATION, LIMIT_CUTOFF)
+    peak = np.where(active, np.maximum(np.minimum(up, down), 0.0), 0.0)
+    limit = np.where(active, limit, LIMIT_NONE).astype(np.int8)
+
+    # Back to voltages to ground.
+    if polarity == "npn":
+        vb, ve, vc = vbm, vem, vcm
+        vn = ie * re2  # RE/RE2 junction
+        v_ce = vn
+    else:
+        vb, ve, vc = vcc - vbm, vcc - vem, vcc - vcm
+        vn = vcc - ie * re2
+        v_ce = vn - vcc
+    if follower:
+        vc = vcc.copy() if polarity == "npn" else np.zeros_like(vcc)
+        v_ce = np.zeros_like(v_ce)
+    p_r1 = (vcc - vb) ** 2 / r1
+    p_r2 = vb**2 / r2
+    p_q = vce * ic + np.abs(vb - ve) * ib
+    dc = DCFigures(
+        vb=vb, ve=ve, vc=vc, ie=ie, ic=ic, ib=ib, vce=vce, vbe=np.abs(vb - ve), state=state,
+        re_small=re_s, rin=rin, rout=rout, gain=gain, gain_base=gain_base,
+        swing_peak=peak, swing_up=up, swing_down=down, swing_limit=limit,
+        p_r1=p_r1, p_r2=p_r2, p_re=ie**2 * re, p_rc=ic**2 * rc, p_re2=ie**2 * re2, p_q=p_q,
+        v_c1=vb.copy(), v_c2=(ve if follower else vc).copy(), v_ce=v_ce,
+        inputs=dict(
+            topology=topology, polarity=polarity, rs=rs, rbias=rbias, re=re, re2=re2, rc=rc,
+            rl=rl, beta=beta, bypassed=byp,
+        ),
+    )
+    return dc
+
+
+class _Kernel:
+    """Per-stage constants of the low-frequency transfer function, computed once per batch.
+
+    The transfer is found by impedance reduction, exact for the small-signal model (hybrid-π
+    without Early effect: the collector is an ideal current source β·ib).  The load enters as a
+    conductance (0 for no load) so that no infinities reach the complex arithmetic.
+    """
+
+    def __init__(self, dc: DCFigures, c1, c2, ce):
+        inp = dc.inputs
+        self.follower = inp["topology"] == "emitter-follower"
+        self.active = dc.state == ACTIVE
+        beta = inp["beta"]
+        self.bp1 = beta + 1.0
+        self.beta = beta
+        self.rpi = np.where(self.active, (beta + 1.0) * dc.re_small, 1.0)
+        self.rs = inp["rs"]
+        self.gb = 1.0 / inp["rbias"]
+        rl = inp["rl"]
+        self.gl = np.where(np.isfinite(rl), 1.0 / np.where(np.isfinite(rl), rl, 1.0), 0.0)
+        self.c1 = np.asarray(c1, float)
+        self.c2 = np.asarray(c2, float)
+        self.gre = 1.0 / inp["re"]
+        if not self.follower:
+            self.re = inp["re"]
+            self.re2 = inp["re2"]
+            self.ce = np.asarray(ce, float)
+            self.grc = 1.0 / inp["rc"]
+
+    def __call__(self, f):
+        s = 1j * _TWO_PI * f
+        sc2 = s * self.c2
+        y_out = sc2 * self.gl / (self.gl + sc2)  # admittance of C2 in series with the load
+        div_out = sc2 / (self.gl + sc2)  # load voltage over stage-node voltage
+        if self.follower:
+            ye = self.gre + y_out
+            zb = self.rpi + self.bp1 / ye
+            to_out = self.bp1 / (ye * self.rpi + self.bp1)  # ve / vb
+        else:
+            ze = self.re + self.re2 / (1.0 + s * self.ce * self.re2)
+            zb = self.rpi + self.bp1 * ze
+            to_out = -self.beta / (zb * (self.grc + y_out))  # vc / vb
+        zin_b = 1.0 / (self.gb + 1.0 / zb)
+        h = zin_b / (self.rs + 1.0 / (s * self.c1) + zin_b) * to_out * div_out
+        return np.where(self.active, h, 0j)
+
+
+def transfer(dc: DCFigures, *, c1, c2, ce=0.0, f) -> np.ndarray:
+    """Complex source-to-load voltage transfer of the stages at frequencies ``f`` (Hz)."""
+    with np.errstate(divide="ignore", invalid="ignore"):
+        return _Kernel(dc, c1, c2, ce)(np.asarray(f, float))
+
+
+def _own_corners(dc: DCFigures, c1, c2, ce):
+    inp = dc.inputs
+    with np.errstate(divide="ignore", invalid="ignore"):
+        f_c1 = 1.0 / (_TWO_PI * c1 * (inp["rs"] + dc.rin))
+        f_c2 = np.where(np.isfinite(inp["rl"]), 1.0 / (_TWO_PI * c2 * (dc.rout + inp["rl"])), 0.0)
+        if inp["topology"] == "common-emitter":
+            rs_b = _par(inp["rs"], inp["rbias"])
+            r_seen = _par(inp["re2"], inp["re"] + dc.re_small + rs_b / (inp["beta"] + 1.0))
+            f_ce = np.where((ce > 0) & (inp["re2"] > 0), 1.0 / (_TWO_PI * ce * r_seen), 0.0)
+        else:
+            f_ce = np.zeros(np.broadcast_shapes(np.shape(c1), dc.shape))
+    shape = np.broadcast_shapes(np.shape(c1), np.shape(c2), np.shape(ce), dc.shape)
+    return (np.broadcast_to(f_c1, shape), np.broadcast_to(f_c2, shape),
+            np.broadcast_to(f_ce, shape))
+
+
+def low_corner(dc: DCFigures, *, c1, c2, ce=0.0, rtol: float = 1e-7) -> Corners:
+    """Whole-stage −3 dB low corner and each capacitor's own corner, Hz.
+
+    The corner is where |H(f)|² falls to half its mid-band value, H the full transfer function
+    with every capacitor (not a sum of poles).  |H| rises monotonically with f for these
+    high-pass networks, so the root of g(t) = ln|H(e^t)|² − ln(|H_mid|²/2) is bracketed in
+    t = ln f from the capacitors' own corners ([max/1e3, sum·1e3]) and found by the Illinois
+    variant of regula falsi, all candidates at once, to a relative error ``rtol`` in f.
+    Stages outside the active region, or whose root is not in the bracket, get NaN.
+    """
+    c1 = np.asarray(c1, float)
+    c2 = np.asarray(c2, float)
+    ce = np.asarray(ce, float)
+    f_c1, f_c2, f_ce = _own_corners(dc, c1, c2, ce)
+    shape = f_c1.shape
+    active = np.broadcast_to(dc.state == ACTIVE, shape)
+    f_max = np.maximum(np.maximum(f_c1, f_c2), f_ce)
+    f_sum = f_c1 + f_c2 + f_ce
+    good = active & (f_max > 0) & np.isfinite(f_sum)
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        kernel = _Kernel(dc, c1, c2, ce)
+        log_target = np.log(0.5) + 2.0 * np.log(np.abs(np.broadcast_to(dc.gain, shape)))
+
+        def g(t):
+            h = kernel(np.exp(t))
+            return np.log(h.real**2 + h.imag**2) - log_target
+
+        a = np.log(np.where(good, f_max * 1e-3, 1.0))
+        b = np.log(np.where(good, np.maximum(f_sum, f_max) * 1e3, 10.0))
+        ga, gb = g(a), g(b)
+        good = good & (ga < 0) & (gb > 0)
+        ga = np.where(good, ga, -1.0)
+        gb = np.where(good, gb, 1.0)
+        side = np.zeros(shape, dtype=np.int8)
+        for _ in range(100):
+            t = (a * gb - b * ga) / (gb - ga)
+            gt = g(t)
+            left = gt < 0  # root lies in [t, b]
+            # Illinois: halve the stale end's value when the same end is kept twice.
+            gb = np.where(left & (side == 1), 0.5 * gb, gb)
+            ga = np.where(~left & (side == -1), 0.5 * ga, ga)
+            a, ga = np.where(left, t, a), np.where(left, gt, ga)
+            b, gb = np.where(left, b, t), np.where(left, gb, gt)
+            side = np.where(left, 1, -1).astype(np.int8)
+            if np.all(~good | (b - a < rtol) | (np.abs(gt) < 1e-12)):
+                break
+        t = (a * gb - b * ga) / (gb - ga)
+    f_low = np.where(good, np.exp(t), np.nan)
+    return Corners(f_low=f_low, f_c1=f_c1, f_c2=f_c2, f_ce=f_ce)
+
+
+def meets_corner(dc: DCFigures, *, c1, c2, ce=0.0, f_target) -> np.ndarray:
+    """True where the whole-stage −3 dB corner is at or below ``f_target`` (Hz).
+
+    One evaluation of the transfer function instead of a root search: |H| rises with f, so
+    f_low ≤ f_target exactly when |H(f_target)|² ≥ |H_mid|²/2.  For filtering many candidates.
+    """
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        h = _Kernel(dc, c1, c2, ce)(np.asarray(f_target, float))
+        mag2 = h.real**2 + h.imag**2
+        return (dc.state == ACTIVE) & (mag2 >= 0.5 * dc.gain**2)
+
+
+_CAP_KEYS = ("c1", "c2", "ce")
+
+
+def evaluate(*, c1, c2, ce=0.0, bypassed=None, **kwargs) -> Figures:
+    """``evaluate_dc`` and ``low_corner`` together; ``bypassed`` defaults to ``ce > 0``."""
+    if bypassed is None:
+        bypassed = np.asarray(ce, float) > 0
+    dc = evaluate_dc(bypassed=bypassed, **kwargs)
+    corners = low_corner(dc, c1=c1, c2=c2, ce=ce)
+    shape = corners.f_low.shape
+    values = {f.name: getattr(dc, f.name) for f in fields(DCFigures)}
+    if shape != dc.shape:
+        values = {k: (v if k == "inputs" else np.broadcast_to(v, shape)) for k, v in values.items()}
+    return Figures(**values, f_low=corners.f_low, f_c1=corners.f_c1, f_c2=corners.f_c2,
+                   f_ce=corners.f_ce)
+
+
+# Parameters that may carry a tolerance: resistors and capacitors (fractions, ±).
+TOLERANCE_KEYS = ("r1", "r2", "re", "rc", "re2", "c1", "c2", "ce")
+
+
+@dataclass(frozen=True)
+class WorstCase:
+    """The lowest and highest value of each numeric figure over the tolerance box.
+
+    ``low[name]`` and ``high[name]`` are arrays of the candidates' shape.  ``all_active`` is
+    True where the transistor is in the active region at every vertex.  With the capacitors
+    held at their low ends, ``high["f_low"]`` (and the corners') is the true worst case and
+    ``low["f_low"]`` is not a bound; ``low["swing_peak"]`` is exact, ``high["swing_peak"]``
+    may be exceeded inside the box.
+    """
+
+    low: Mapping[str, np.ndarray]
+    high: Mapping[str, np.ndarray]
+    all_active: np.ndarray
+    vertices: int
+
+
+def worst_case(
+    *,
+    tolerances: Mapping[str, object],
+    hfe_min,
+    hfe_max,
+    temp_min=NOMINAL_TEMP_C,
+    temp_max=NOMINAL_TEMP_C,
+    **nominal,
+) -> WorstCase:
+    """Lowest and highest figures over part tolerances, the hFE range and the ambient range.
+
+    Vertex enumeration: every resistor with a non-zero tolerance at its two ends, hFE at
+    ``hfe_min`` and ``hfe_max``, temperature at both ends; the capacitors are held at their
+    lowest values (value·(1 − tol)), because every corner falls as capacitance grows.  Exact for
+    figures monotone in each parameter on the box, which the DC and mid-band figures are; for
+    the symmetric swing (a minimum of two monotone limits) the low end is exact.  The loop is
+    over the at most 2**7 vertices, each a vectorised call over all candidates.
+    ``tolerances`` maps parameter names (``TOLERANCE_KEYS``) to fractions (floats or arrays).
+    """
+    bad = set(tolerances) - set(TOLERANCE_KEYS)
+    if bad:
+        raise ValueError(f"no tolerance for {sorted(bad)}; use {TOLERANCE_KEYS}")
+    nominal = dict(nominal)
+    nominal.pop("hfe", None)
+    nominal.pop("temp_c", None)
+    for key in _CAP_KEYS:
+        if key in nominal and key in tolerances:
+            nominal[key] = np.asarray(nominal[key], float) * (1.0 - np.asarray(tolerances[key], float))
+    axes: list[tuple[str, tuple]] = []
+    for key in TOLERANCE_KEYS:
+        if key in _CAP_KEYS or key not in tolerances or key not in nominal:
+            continue
+        tol = np.asarray(tolerances[key], float)
+        if np.all(tol == 0):
+            continue
+        base = np.asarray(nominal[key], float)
+        axes.append((key, (base * (1.0 - tol), base * (1.0 + tol))))
+    axes.append(("hfe", (hfe_min, hfe_max)))
+    if np.any(np.asarray(temp_min) != np.asarray(temp_max)):
+        axes.append(("temp_c", (temp_min, temp_max)))
+    else:
+        nominal["temp_c"] = temp_min
+    n_vert = 2 ** len(axes)
+    low: dict[str, np.ndarray] = {}
+    high: dict[str, np.ndarray] = {}
+    all_active = None
+    for v in range(n_vert):
+        kw = dict(nominal)
+        for bit, (key, ends) in enumerate(axes):
+            kw[key] = ends[(v >> bit) & 1]
+        fig = evaluate(**kw)
+        act = fig.state == ACTIVE
+        all_active = act if all_active is None else (all_active & act)
+        for name in NUMERIC_FIELDS:
+            val = getattr(fig, name)
+            if name in low:
+                low[name] = np.fmin(low[name], val)
+                high[name] = np.fmax(high[name], val)
+            else:
+                low[name] = np.array(val, copy=True)
+                high[name] = np.array(val, copy=True)
+    return WorstCase(low=low, high=high, all_active=all_active, vertices=n_vert)
+
+
+def monte_carlo(
+    n: int,
+    *,
+    seed: int,
+    tolerances: Mapping[str, float],
+    hfe_min: float,
+    hfe_max: float,
+    temp_min: float = NOMINAL_TEMP_C,
+    temp_max: float = NOMINAL_TEMP_C,
+    **nominal,
+) -> Figures:
+    """``n`` random builds of one nominal stage, evaluated in one call; reproducible by ``seed``.
+
+    Each resistor and capacitor is uniform within ±its tolerance (the band a part is sold in;
+    no assumption about the maker's distribution inside it), hFE log-uniform over
+    [``hfe_min``, ``hfe_max``], the ambient uniform over [``temp_min``, ``temp_max``].
+    """
+    rng = np.random.default_rng(seed)
+    kw = dict(nominal)
+    kw.pop("hfe", None)
+    for key in TOLERANCE_KEYS:
+        if key in kw and key in tolerances and float(tolerances[key]) > 0:
+            tol = float(tolerances[key])
+            kw[key] = float(kw[key]) * (1.0 + rng.uniform(-tol, tol, n))
+    lo, hi = float(hfe_min), float(hfe_max)
+    kw["hfe"] = np.exp(rng.uniform(np.log(lo), np.log(hi), n)) if hi > lo else np.full(n, lo)
+    kw["temp_c"] = rng.uniform(temp_min, temp_max, n) if temp_max > temp_min else np.full(n, float(temp_min))
+    return evaluate(**kw)

@@ -1,0 +1,76 @@
+"""SPICE netlist of a stage, for a circuit simulator (checks, and `export --netlist`).
+
+The transistor is a generic Gummel-Poon model reduced to Ebers-Moll (no Early effect, no base
+resistance, no junction capacitance) with BF = the nominal hFE and IS chosen so that the
+simulator's VBE at the operating point equals the VBE this tool assumes.  Nominal part values;
+source and load as in the stage.
+"""
+
+from __future__ import annotations
+
+import math
+
+from ..constants import NOMINAL_TEMP_C
+from ..stages import Stage, saturation_current_for, topology_module
+
+__all__ = ["stage_netlist"]
+
+_FALLBACK_IS = 1e-14  # A: used only when the stage is cut off and there is no operating point
+
+
+def _num(x: float) -> str:
+    return f"{x:.10g}"
+
+
+def stage_netlist(stage: Stage, *, temp_c: float = NOMINAL_TEMP_C, control: str | None = None,
+                  title: str | None = None) -> str:
+    """The stage as a SPICE deck: supply, AC source (1 V, DC 0) with its resistance, parts, load.
+
+    Nodes: vcc, src (source EMF), in (after the source resistance), b, e, c, n (RE/RE2
+    junction), out (load side of C2).  ``control`` is placed in a ``.control`` block when given
+    (for batch runs); the deck always ends with ``.end``.
+    """
+    from ..analysis.core import evaluate_dc
+
+    kw = stage.core_arguments()
+    for key in ("c1", "c2", "ce"):
+        kw.pop(key)
+    dc = evaluate_dc(bypassed=stage.bypassed, temp_c=temp_c, **kw)
+    ic, vbe = float(dc.ic), float(dc.vbe)
+    t = stage.transistor
+    if ic > 0:
+        i_sat = saturation_current_for(ic, vbe, temp_c)
+        tuning = f"IS tuned so VBE = {vbe:.6f} V at IC = {ic:.6e} A, {temp_c:g} °C (the tool's operating point)"
+    else:
+        i_sat = _FALLBACK_IS
+        tuning = "stage is cut off in the tool's model: IS is a generic placeholder"
+    model = "QGEN" + stage.polarity.upper()
+    lines = [
+        f"* {title or 'drawerfit stage'}: {stage.topology}, {stage.polarity.upper()}, {_num(stage.supply)} V supply",
+        f"* transistor {t.label or '(unnamed)'}: generic model, BF = nominal hFE {t.hfe:.6g}; {tuning}",
+        f".options TNOM={_num(temp_c)} TEMP={_num(temp_c)}",
+        f"VCC vcc 0 DC {_num(stage.supply)}",
+    ]
+    if stage.source_resistance > 0:
+        lines += ["VS src 0 DC 0 AC 1", f"RS src in {_num(stage.source_resistance)}"]
+    else:
+        lines += ["VS in 0 DC 0 AC 1"]
+    for name, plus, minus, role in topology_module(stage.topology).elements(stage.polarity, stage.parts):
+        if name == "Q1":
+            lines.append(f"Q1 {plus} {minus} {role} {model}")
+        else:
+            part = stage.parts[role]
+            note = ""
+            if role.startswith("C") and part.polarized:
+                # SPICE ignores polarity; say which end is + for the person reading the deck.
+                note = "  ; polarized"
+            lines.append(f"{name} {plus} {minus} {_num(part.value)}{note}")
+    if stage.load is not None:
+        lines.append(f"RL out 0 {_num(stage.load)}")
+    else:
+        lines.append("RLEAK out 0 1e12  ; no load: a leak only, so the output node has a DC path")
+    lines.append(f".model {model} {stage.polarity.upper()} (IS={i_sat:.8e} BF={t.hfe:.8g} BR=1)")
+    if control:
+        lines += [".control", control.rstrip(), ".endc"]
+    lines.append(".end")
+    return "\n".join(lines) + "\n"

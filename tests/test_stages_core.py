@@ -1,0 +1,297 @@
+"""analysis.core: worked examples, rules of thumb, properties, worst case and Monte Carlo.
+
+Sources are named beside each check.  The simulator checks are in tests/reference/.
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pytest
+from hypothesis import given, settings, strategies as st
+
+from drawerfit.analysis import core
+from drawerfit.analysis.core import (
+    ACTIVE, CUTOFF, LIMIT_CUTOFF, LIMIT_SATURATION, SATURATED, evaluate, evaluate_dc,
+    low_corner, meets_corner, monte_carlo, worst_case,
+)
+from drawerfit.constants import thermal_voltage
+
+HUGE_BETA = 1e12  # stands in for "base current neglected" in hand methods
+
+
+def test_thermal_voltage_at_300_kelvin():
+    # scipy.constants (CODATA): kT/q at 300 K is 25.852 mV; the design notes quote 25.85 mV.
+    assert thermal_voltage(26.85) == pytest.approx(0.025852, abs=2e-6)
+
+
+def test_worked_common_emitter_example_from_memory():
+    """Handbook worked example, from memory: 10 V supply, R1 = 10 k, R2 = 2.2 k, RC = 3.6 k,
+    RE = 1 k, VBE = 0.7 V, base current neglected: VB ≈ 1.8 V, VE ≈ 1.1 V, IE ≈ 1.1 mA,
+    VC ≈ 6 V."""
+    f = evaluate_dc(topology="common-emitter", supply=10, r1=10e3, r2=2.2e3, re=1e3, rc=3.6e3,
+                    hfe=HUGE_BETA, vbe=0.7)
+    assert float(f.vb) == pytest.approx(1.8, rel=0.01)
+    assert float(f.ve) == pytest.approx(1.1, rel=0.01)
+    assert float(f.ie) == pytest.approx(1.1e-3, rel=0.01)
+    assert float(f.vc) == pytest.approx(6.0, rel=0.01)
+    # With a real β of 100 the base current pulls the divider down: by hand,
+    # IB = (VTH − VBE)/(RTH + (β+1)·RE) = (1.8033 − 0.7)/(1803.3 + 101000) = 10.73 µA.
+    g = evaluate_dc(topology="common-emitter", supply=10, r1=10e3, r2=2.2e3, re=1e3, rc=3.6e3,
+                    hfe=100, vbe=0.7)
+    assert float(g.ib) == pytest.approx(10.73e-6, rel=1e-3)
+    assert float(g.ie) == pytest.approx(101 * 10.73e-6, rel=1e-3)
+
+
+def test_worked_follower_example_from_memory():
+    """Handbook-style follower, from memory: 10 V, R1 = R2 = 10 k, RE = 1 k, VBE = 0.7 V, β = 100:
+    RTH = 5 k, IB = 4.3/(5 k + 101 k) = 40.57 µA, IE = 4.097 mA; input impedance
+    R1‖R2‖(β+1)·(re + RE) ≈ 4.77 k with re = 25.7 mV/4.1 mA ≈ 6.3 Ω (25 °C)."""
+    f = evaluate_dc(topology="emitter-follower", supply=10, r1=10e3, r2=10e3, re=1e3, hfe=100,
+                    vbe=0.7)
+    assert float(f.ie) == pytest.approx(4.097e-3, rel=1e-3)
+    assert float(f.rin) == pytest.approx(4.77e3, rel=3e-3)
+    assert float(f.gain) == pytest.approx(1000 / (1000 + 6.27), rel=1e-3)
+
+
+def test_gain_rule_from_design_notes():
+    # Design notes (common practice): CE gain base→load ≈ −(RC‖RL)/(re + RE), RE unbypassed.
+    f = evaluate_dc(topology="common-emitter", supply=12, r1=47e3, r2=10e3, re=220, re2=1e3,
+                    rc=4.7e3, rl=10e3, hfe=HUGE_BETA, bypassed=True)
+    rl_par = 4.7e3 * 10e3 / 14.7e3
+    assert float(f.gain_base) == pytest.approx(-rl_par / (float(f.re_small) + 220), rel=1e-9)
+    assert float(f.rout) == 4.7e3
+
+
+@settings(max_examples=200, deadline=None)
+@given(
+    beta=st.floats(50, 500), re=st.floats(100, 5e3), ratio=st.floats(0.05, 0.6),
+    stiffness=st.floats(0.005, 0.1), supply=st.floats(5, 30),
+)
+def test_stiff_divider_rule_of_thumb(beta, re, ratio, stiffness, supply):
+    """Common practice, no source: a divider with RTH at most β·RE/10 holds IE within about
+    10 % of the value that neglects base current."""
+    rth = stiffness * beta * re
+    r1, r2 = rth / ratio, rth / (1 - ratio)
+    if supply * ratio < 1.0:
+        return
+    f = evaluate_dc(topology="emitter-follower", supply=supply, r1=r1, r2=r2, re=re, hfe=beta)
+    ideal = (supply * ratio - 0.65) / re
+    assert 0.9 <= float(f.ie) / ideal <= 1.0
+
+
+@settings(max_examples=150, deadline=None)
+@given(
+    r1=st.floats(2e3, 200e3), r2=st.floats(2e3, 200e3), re=st.floats(100, 5e3),
+    k=st.floats(1.01, 3.0), beta=st.floats(30, 600), topo=st.sampled_from(core.TOPOLOGIES),
+    pol=st.sampled_from(core.POLARITIES),
+)
+def test_ie_rises_with_far_divider_resistor_and_falls_with_re(r1, r2, re, k, beta, topo, pol):
+    """Property of divider bias: IE rises with the divider resistor on the far side of the base
+    from the emitter's rail (R2 for NPN; R1 for the PNP mirror), falls with the near one and
+    with RE."""
+    base = dict(topology=topo, polarity=pol, supply=12, rc=1e3, hfe=beta, re=re)
+    far, near = ("r2", "r1") if pol == "npn" else ("r1", "r2")
+    parts = dict(r1=r1, r2=r2)
+    f0 = evaluate_dc(**base, **parts)
+    if int(f0.state) != ACTIVE:
+        return
+    f_far = evaluate_dc(**base, **{**parts, far: parts[far] * k})
+    f_near = evaluate_dc(**base, **{**parts, near: parts[near] * k})
+    f_re = evaluate_dc(**{**base, "re": re * k}, **parts)
+    assert float(f_far.ie) > float(f0.ie)
+    assert float(f_near.ie) < float(f0.ie)
+    assert float(f_re.ie) < float(f0.ie)
+
+
+@settings(max_examples=100, deadline=None)
+@given(r1=st.floats(2e3, 200e3), r2=st.floats(2e3, 200e3), re=st.floats(100, 5e3),
+       rc=st.floats(100, 20e3), beta=st.floats(30, 600), supply=st.floats(3, 40))
+def test_pnp_is_the_mirror_of_npn(r1, r2, re, rc, beta, supply):
+    # Property of the mirror image: swap R1/R2, measure voltages down from the supply.
+    for topo in core.TOPOLOGIES:
+        n = evaluate_dc(topology=topo, polarity="npn", supply=supply, r1=r1, r2=r2, re=re, rc=rc, hfe=beta)
+        p = evaluate_dc(topology=topo, polarity="pnp", supply=supply, r1=r2, r2=r1, re=re, rc=rc, hfe=beta)
+        assert float(p.ie) == pytest.approx(float(n.ie), rel=1e-12, abs=1e-18)
+        assert float(p.vb) == pytest.approx(supply - float(n.vb), rel=1e-9, abs=1e-9)
+        assert float(p.ve) == pytest.approx(supply - float(n.ve), rel=1e-9, abs=1e-9)
+        assert int(p.state) == int(n.state)
+        assert float(p.gain) == pytest.approx(float(n.gain), rel=1e-12, abs=1e-15)
+
+
+def test_cut_off_and_saturated_are_reported():
+    # Hand reasoning: a divider giving 0.5 V at the base is below VBE → nothing conducts.
+    off = evaluate_dc(topology="common-emitter", supply=12, r1=230e3, r2=10e3, re=1e3, rc=4.7e3, hfe=100)
+    assert int(off.state) == CUTOFF and float(off.ie) == 0.0 and float(off.vc) == 12.0
+    assert float(off.gain) == 0.0 and int(off.swing_limit) == core.LIMIT_NONE
+    # An RC far too large for the current: the collector would go below the emitter.
+    sat = evaluate_dc(topology="common-emitter", supply=12, r1=47e3, r2=10e3, re=1e3, rc=100e3, hfe=100)
+    assert int(sat.state) == SATURATED
+    assert float(sat.vce) == pytest.approx(0.2)
+    # In saturation the collector current is what RC lets through (hand: (12 − VE − 0.2)/RC).
+    assert float(sat.ic) == pytest.approx((12 - float(sat.ve) - 0.2) / 100e3, rel=1e-9)
+    assert float(sat.ic) < 100 * float(sat.ib)
+
+
+def test_follower_swing_rule_from_design_notes():
+    """Design notes: the follower's downward swing before cut-off is IE·(RE‖RL), upward about
+    VCC − VCE(sat) − VE; with a small load the down side binds although VE sits mid-supply."""
+    f = evaluate_dc(topology="emitter-follower", supply=12, r1=4.7e3, r2=5.6e3, re=820, rl=100, hfe=150)
+    ie, ve = float(f.ie), float(f.ve)
+    assert float(f.swing_down) == pytest.approx(ie * 820 * 100 / 920, rel=1e-12)
+    assert float(f.swing_up) == pytest.approx(12 - 0.2 - ve, rel=1e-12)
+    assert float(f.swing_peak) == pytest.approx(ie * 820 * 100 / 920, rel=1e-12)
+    assert int(f.swing_limit) == LIMIT_CUTOFF
+    g = evaluate_dc(topology="emitter-follower", supply=12, r1=1e3, r2=10e3, re=820, hfe=150)
+    assert int(g.swing_limit) == LIMIT_SATURATION  # emitter near the top rail, no load
+
+
+def test_common_emitter_swing_from_load_lines():
+    # AC load line (hand derivation in docs/method.md): cut-off room IC·(RC‖RL); saturation room
+    # (VCE − VCE(sat))·(RC‖RL)/((RC‖RL) + RE_ac/α).
+    f = evaluate_dc(topology="common-emitter", supply=12, r1=47e3, r2=10e3, re=220, re2=1e3,
+                    rc=4.7e3, rl=10e3, hfe=150, bypassed=True)
+    rp = 4.7e3 * 10e3 / 14.7e3
+    alpha = 150 / 151
+    assert float(f.swing_up) == pytest.approx(float(f.ic) * rp, rel=1e-12)
+    assert float(f.swing_down) == pytest.approx((float(f.vce) - 0.2) * rp / (rp + 220 / alpha), rel=1e-12)
+    assert float(f.swing_peak) == pytest.approx(min(float(f.swing_up), float(f.swing_down)))
+
+
+def test_capacitor_voltages_and_polarity():
+    # Hand reasoning: C1 holds VB, C2 the emitter (follower) or collector voltage, CE the drop
+    # across RE2; for the PNP stage CE's + end goes to the supply.
+    n = evaluate_dc(topology="common-emitter", polarity="npn", supply=12, r1=47e3, r2=10e3,
+                    re=220, re2=1e3, rc=4.7e3, hfe=150, bypassed=True)
+    assert float(n.v_c1) == pytest.approx(float(n.vb))
+    assert float(n.v_c2) == pytest.approx(float(n.vc))
+    assert float(n.v_ce) == pytest.approx(float(n.ie) * 1e3)
+    p = evaluate_dc(topology="common-emitter", polarity="pnp", supply=12, r1=10e3, r2=47e3,
+                    re=220, re2=1e3, rc=4.7e3, hfe=150, bypassed=True)
+    assert float(p.v_ce) == pytest.approx(-float(p.ie) * 1e3)
+    assert float(p.v_c1) > 0 and float(p.v_c2) > 0
+
+
+def test_power_in_every_part():
+    # Hand: P = V²/R for the divider, I²R for the emitter and collector resistors,
+    # VCE·IC + VBE·IB for the transistor.
+    f = evaluate_dc(topology="common-emitter", supply=12, r1=47e3, r2=10e3, re=220, re2=1e3,
+                    rc=4.7e3, hfe=150, bypassed=True)
+    assert float(f.p_r1) == pytest.approx((12 - float(f.vb)) ** 2 / 47e3)
+    assert float(f.p_r2) == pytest.approx(float(f.vb) ** 2 / 10e3)
+    assert float(f.p_rc) == pytest.approx(float(f.ic) ** 2 * 4.7e3)
+    assert float(f.p_re2) == pytest.approx(float(f.ie) ** 2 * 1e3)
+    assert float(f.p_q) == pytest.approx(float(f.vce) * float(f.ic) + 0.65 * float(f.ib))
+    # Energy balance: the supply delivers what the parts dissipate (no signal).
+    i_supply = (12 - float(f.vb)) / 47e3 + float(f.ic)
+    total = sum(float(getattr(f, k)) for k in ("p_r1", "p_r2", "p_re", "p_rc", "p_re2", "p_q"))
+    assert total == pytest.approx(12 * i_supply, rel=1e-9)
+
+
+def test_vbe_drift_with_temperature():
+    # Common practice, no source: VBE falls about 2 mV/°C, so IE rises when warm.
+    cold = evaluate_dc(topology="emitter-follower", supply=12, r1=4.7e3, r2=5.6e3, re=820, hfe=150, temp_c=0)
+    hot = evaluate_dc(topology="emitter-follower", supply=12, r1=4.7e3, r2=5.6e3, re=820, hfe=150, temp_c=50)
+    assert float(cold.vbe) - float(hot.vbe) == pytest.approx(0.100, rel=1e-9)
+    assert float(hot.ie) > float(cold.ie)
+
+
+def test_diode_law_vbe_matches_scipy_root():
+    # Independent root of the same equations with scipy.optimize.brentq.
+    from scipy.optimize import brentq
+
+    isat, beta, vcc, r1, r2, re = 5e-15, 200.0, 12.0, 39e3, 8.2e3, 1.2e3
+    f = evaluate_dc(topology="emitter-follower", supply=vcc, r1=r1, r2=r2, re=re, hfe=beta, i_sat=isat)
+    vt = thermal_voltage(25)
+    vth, rth = vcc * r2 / (r1 + r2), r1 * r2 / (r1 + r2)
+
+    def resid(vbe):
+        ie = (vth - vbe) / (rth / (beta + 1) + re)
+        return vbe - vt * math.log1p(beta / (beta + 1) * ie / isat)
+
+    vbe = brentq(resid, 0.3, vth, xtol=1e-15)
+    assert float(f.vbe) == pytest.approx(vbe, abs=1e-9)
+
+
+@settings(max_examples=60, deadline=None)
+@given(k=st.floats(1.05, 4.0), which=st.sampled_from(["c1", "c2", "ce"]),
+       topo=st.sampled_from(core.TOPOLOGIES), rl=st.sampled_from([47.0, 1e3, 1e5, math.inf]))
+def test_corner_falls_as_capacitance_grows(k, which, topo, rl):
+    # Property the worst case relies on (capacitors held at their lowest values).
+    p = dict(topology=topo, supply=12, r1=47e3, r2=10e3, re=220, re2=1e3, rc=4.7e3, rs=600,
+             rl=rl, hfe=150, c1=1e-6, c2=10e-6, ce=100e-6)
+    if topo == "emitter-follower":
+        p.update(r1=4.7e3, r2=5.6e3, re=820)
+    f0 = evaluate(**p)
+    f1 = evaluate(**{**p, which: p[which] * k})
+    assert float(f1.f_low) <= float(f0.f_low) * (1 + 1e-9)
+
+
+def test_meets_corner_agrees_with_low_corner():
+    rng = np.random.default_rng(1)
+    n = 2000
+    dc = evaluate_dc(topology="common-emitter", supply=12, r1=rng.uniform(20e3, 100e3, n),
+                     r2=10e3, re=220, re2=1e3, rc=4.7e3, rs=600, rl=10e3, hfe=150, bypassed=True)
+    c1 = rng.uniform(1e-7, 1e-5, n)
+    c = low_corner(dc, c1=c1, c2=10e-6, ce=100e-6)
+    ok = meets_corner(dc, c1=c1, c2=10e-6, ce=100e-6, f_target=20.0)
+    active = dc.state == ACTIVE
+    assert np.array_equal(ok[active], (c.f_low <= 20.0)[active])
+    assert 0 < ok.sum() < n  # both outcomes occur
+
+
+def test_batch_equals_one_by_one():
+    rng = np.random.default_rng(2)
+    n = 50
+    r1 = rng.uniform(2e3, 50e3, n)
+    re = rng.uniform(100, 2e3, n)
+    batch = evaluate(topology="emitter-follower", polarity="pnp", supply=15, r1=r1, r2=22e3,
+                     re=re, rs=1e3, rl=2.2e3, hfe=120, c1=1e-6, c2=47e-6)
+    for i in range(0, n, 7):
+        one = evaluate(topology="emitter-follower", polarity="pnp", supply=15, r1=r1[i], r2=22e3,
+                       re=re[i], rs=1e3, rl=2.2e3, hfe=120, c1=1e-6, c2=47e-6)
+        for name in ("ie", "ve", "gain", "rin", "rout", "swing_peak", "f_low"):
+            assert getattr(batch, name)[i] == pytest.approx(float(getattr(one, name)), rel=1e-9)
+
+
+NOMINAL = dict(topology="common-emitter", polarity="npn", supply=12, r1=47e3, r2=10e3, re=220,
+               re2=1e3, rc=4.7e3, rs=600, rl=10e3, c1=10e-6, c2=10e-6, ce=100e-6, vbe=0.65)
+TOLS = dict(r1=0.05, r2=0.05, re=0.05, rc=0.05, re2=0.05, c1=0.2, c2=0.2, ce=0.2)
+
+
+def test_monte_carlo_is_seeded_and_inside_the_worst_case():
+    a = monte_carlo(4000, seed=7, tolerances=TOLS, hfe_min=100, hfe_max=300, temp_min=0,
+                    temp_max=50, **NOMINAL)
+    b = monte_carlo(4000, seed=7, tolerances=TOLS, hfe_min=100, hfe_max=300, temp_min=0,
+                    temp_max=50, **NOMINAL)
+    c = monte_carlo(4000, seed=8, tolerances=TOLS, hfe_min=100, hfe_max=300, temp_min=0,
+                    temp_max=50, **NOMINAL)
+    assert np.array_equal(a.ie, b.ie) and not np.array_equal(a.ie, c.ie)
+    wc = worst_case(tolerances=TOLS, hfe_min=100, hfe_max=300, temp_min=0, temp_max=50, **NOMINAL)
+    assert wc.vertices == 2**7  # five resistors, hFE, temperature
+    for name in ("ie", "ve", "vc", "gain", "rin", "swing_peak", "f_low", "p_q"):
+        lo, hi = float(wc.low[name]), float(wc.high[name])
+        vals = getattr(a, name)
+        # Documented limits of vertex enumeration: capacitors are held at their low ends, so
+        # only f_low's high end is a bound; the symmetric swing's low end is exact, its high
+        # end may lie inside the box.
+        if name != "f_low":
+            assert np.all(vals >= lo - 1e-12 * abs(lo)), name
+        if name != "swing_peak":
+            assert np.all(vals <= hi + 1e-12 * abs(hi)), name
+
+
+def test_worst_case_vertices_against_a_dense_grid():
+    # Oracle: brute force over a 5-point grid per parameter of a small box.
+    tols = dict(r1=0.05, r2=0.05, re=0.05)
+    base = dict(topology="emitter-follower", supply=12, r1=4.7e3, r2=5.6e3, re=820, rs=600,
+                rl=1e3, c1=22e-6, c2=220e-6)
+    wc = worst_case(tolerances=tols, hfe_min=100, hfe_max=300, **base)
+    g = np.linspace(-1, 1, 5)
+    R1, R2, RE, B = np.meshgrid(4.7e3 * (1 + 0.05 * g), 5.6e3 * (1 + 0.05 * g),
+                                820 * (1 + 0.05 * g), np.linspace(100, 300, 5), indexing="ij")
+    grid = evaluate(**{**base, "r1": R1, "r2": R2, "re": RE}, hfe=B)
+    for name in ("ie", "ve", "gain", "rin", "rout", "swing_peak", "f_low"):
+        assert float(wc.low[name]) == pytest.approx(getattr(grid, name).min(), rel=1e-9), name
+        assert float(wc.high[name]) == pytest.approx(getattr(grid, name).max(), rel=1e-9), name

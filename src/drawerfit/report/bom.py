@@ -32,7 +32,7 @@ COLUMNS = (
     ("Part value", "part_value"),
     ("Part code", "part_code"),
     ("Tolerance", "tolerance"),
-    ("Rating", "rating"),
+    ("Rating (of the role)", "rating"),
     ("Bin", "bin"),
     ("Stock file", "stock_file"),
     ("Stock sheet", "stock_sheet"),

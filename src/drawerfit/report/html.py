@@ -327,7 +327,8 @@ def render_report(design: DesignFile, *, monte_carlo: int = 2000, seed: int = 0,
     return doc
 
 
-def _atomic_write(path: Path, text: str) -> None:
+def atomic_write(path: Path, text: str) -> None:
+    """Write ``text`` to ``path`` through a temporary file and a rename: never half a file."""
     import os
     import tempfile
 
@@ -370,4 +371,4 @@ def write_report(design_toml_path, out_path, *, stock_file=None, monte_carlo=200
         on_step(note="reading the stock")
         design, note = link_stock(design, stock_file)
     text = render_report(design, monte_carlo=monte_carlo, seed=seed, stock_note=note, on_step=on_step)
-    _atomic_write(out, text)
+    atomic_write(out, text)

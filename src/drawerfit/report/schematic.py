@@ -7,6 +7,7 @@ capacitors are drawn with their + end where the DC voltage puts it.
 
 from __future__ import annotations
 
+import re
 from typing import Mapping
 
 from ..values import format_code, format_si
@@ -49,8 +50,8 @@ def schematic_svg(design, nominal, *, labels: Mapping[str, str] | None = None) -
     ytop, ybot = max(ytop, 3.6), min(ybot, -3.6)
     rail_e, rail_c = (ybot, ytop) if npn else (ytop, ybot)
 
-    schemdraw.config(fontsize=11, lw=1.4, font="sans-serif")
     d = schemdraw.Drawing(canvas="svg", show=False)
+    d.config(fontsize=11, lw=1.4, font="sans-serif")  # this drawing only: no global settings
     xq = 0.7516666666666666  # collector/emitter x of schemdraw's BJT with base at (0, 0)
     q = elm.BjtNpn(circle=True) if npn else elm.BjtPnp(circle=True)
     d += q.at((0, 0)).anchor("base").label(f"Q1\n{stage.transistor.label or stage.polarity.upper()}",
@@ -141,4 +142,6 @@ def schematic_svg(design, nominal, *, labels: Mapping[str, str] | None = None) -
     if ce and "RE2" not in parts or not ce:
         d += elm.Dot().at((xq, rail_e))
     d += elm.Dot().at((xq, rail_c))
-    return d.get_imagedata("svg").decode("utf-8")
+    svg = d.get_imagedata("svg").decode("utf-8")
+    # schemdraw writes its own font name; let the browser use the page's system font stack.
+    return re.sub(r'font-family="[^"]*"', 'font-family="system-ui, sans-serif"', svg)

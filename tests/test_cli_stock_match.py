@@ -92,3 +92,17 @@ def test_help_and_import_load_no_heavy_library():
     env = dict(os.environ, PYTHONPATH=str(ROOT / "src"))
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, env=env, check=True)
     assert out.stdout.strip() == "[]"
+
+
+def test_prefix_decides_the_kind_as_in_the_loader(samples):
+    # '68n' has no unit, but a nano prefix means farads (the loader's rule, docs/inventory-format.md)
+    res = run("match", "68n", "--stock", str(samples / "teaching_lab.csv"), "--json", "--top", "1")
+    assert json.loads(res.stdout)["target"]["kind"] == "capacitor"
+
+
+def test_polarized_series_chains_only_on_request(samples):
+    args = ["match", "330u", "--stock", str(samples / "teaching_lab.csv"), "--json", "--top", "40", "--within", "30%"]
+    plain = json.loads(run(*args).stdout)["results"]
+    assert plain and not any(r["warnings"] for r in plain)
+    allowed = json.loads(run(*args, "--allow-polarized-series").stdout)["results"]
+    assert any(r["arrangement"] == "series" and r["warnings"] for r in allowed)

@@ -32,9 +32,14 @@ class ValueType(click.ParamType):
         if not isinstance(value, str):
             return value
         try:
-            return parse_quantity(value, self.expect)
+            q = parse_quantity(value, self.expect)
         except ValueParseError as exc:
             self.fail(str(exc), param, ctx)
+        if q.unit is None:  # '68n' is a capacitance, '4k7' a resistance: the loader's own rule
+            from .values import Quantity, implied_unit
+
+            q = Quantity(q.value, implied_unit(value))
+        return q
 
 
 class FractionType(click.ParamType):
@@ -102,17 +107,37 @@ def stock(file: str, as_json: bool, strict: bool) -> None:
 @click.option("--units", type=click.IntRange(1), default=1, show_default=True, help="How many are needed.")
 @click.option("--top", type=click.IntRange(1), default=10, show_default=True)
 @click.option("--json", "as_json", is_flag=True)
+@click.option("--allow-polarized-series", is_flag=True,
+              help="Also offer chains with electrolytics in series (they need balancing resistors).")
 @click.option("--strict", is_flag=True, help="Fail (exit 2) if any stock line cannot be read.")
 @user_errors
-def match(value, stock_file, within, max_parts, power, voltage, units, top, as_json, strict) -> None:
+def match(value, stock_file, within, max_parts, power, voltage, units, top, as_json, allow_polarized_series,
+          strict) -> None:
     """Find what in the drawer makes VALUE: single parts, series or parallel pairs, triples."""
     from .commands.match_cmd import run_match
 
     run_match(value, stock_file, within=within, max_parts=max_parts, power=power, voltage=voltage,
-              units=units, top=top, as_json=as_json, strict=strict)
+              units=units, top=top, as_json=as_json, strict=strict,
+              allow_polarized_series=allow_polarized_series)
 
 
 # --- analyze (stage models) ------------------------------------------------------------------
+
+
+@main.command()
+@click.argument("spec", type=click.Path(dir_okay=False))
+@click.option("--stock", "stock_file", type=click.Path(dir_okay=False), default=None,
+              help="Stock file, to look up [transistor] label.")
+@click.option("--json", "as_json", is_flag=True, help="Print the figures as JSON (SI units).")
+@click.option("--monte-carlo", "monte_carlo", type=click.IntRange(0, 10_000_000), default=0,
+              show_default=True, help="Random builds to simulate from the tolerances.")
+@click.option("--seed", type=int, default=0, show_default=True, help="Seed for --monte-carlo.")
+@user_errors
+def analyze(spec, stock_file, as_json, monte_carlo, seed) -> None:
+    """Analyse the stage in SPEC (TOML with [parts]): bias, gain, corner, swing, ratings, spread."""
+    from .commands.analyze_cmd import run_analyze
+
+    run_analyze(spec, stock_file=stock_file, as_json=as_json, monte_carlo=monte_carlo, seed=seed)
 
 
 # --- design (optimizer) and demo -------------------------------------------------------------

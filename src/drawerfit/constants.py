@@ -7,6 +7,8 @@ VBE_DEFAULT = 0.65  # V, silicon small-signal BJT base-emitter drop at small cur
 VBE_TEMPCO = -2.0e-3  # V/°C, drift of VBE with temperature (common practice, no source)
 VCE_SAT_DEFAULT = 0.2  # V, small-signal saturation voltage (common practice, no source)
 
+STIFF_DIVIDER_FACTOR = 10.0  # a divider is "stiff" when RTH <= beta*RE/10 (common practice, no source)
+
 # --- derating (common practice, no source) ---------------------------------------------------
 POWER_DERATING = 0.5  # use at most 50 % of a resistor's or transistor's power rating (common practice, no source)
 CAP_VOLTAGE_MARGIN = 0.8  # keep a capacitor's working voltage at or below 80 % of rating (common practice, no source)

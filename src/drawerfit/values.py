@@ -22,6 +22,7 @@ __all__ = [
     "parse_value_and_tolerance",
     "format_si",
     "format_code",
+    "implied_unit",
     "UNIT_SYMBOL",
 ]
 
@@ -198,6 +199,25 @@ def _parse_compact(s: str, original: str) -> Quantity:
     if unit == "%":
         return Quantity(_scaled(number, exp - 2), "%")
     return Quantity(_scaled(number, exp), unit)
+
+
+def implied_unit(text: object) -> str | None:
+    """Ohm or farad from how a value is written when it names no unit: the R code or a k/M/G prefix
+    means ohms (nobody stocks kilofarads), a p/n/µ prefix means farads (nor nano-ohms); else None."""
+    try:
+        q = parse_quantity(text)
+    except ValueParseError:
+        return None
+    if q.unit in ("ohm", "F"):
+        return q.unit
+    if q.unit is not None or not isinstance(text, str):
+        return None
+    letters = re.sub(r"[\d.\s,eE+-]", "", text)
+    if letters in ("k", "K", "M", "meg", "MEG", "Meg", "G"):
+        return "ohm"
+    if letters in ("p", "n", "u", "µ", "μ"):
+        return "F"
+    return None
 
 
 def parse_value(text: object, expect: str | None = None) -> float:

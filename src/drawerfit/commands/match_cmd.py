@@ -9,7 +9,8 @@ from ..values import Quantity, format_code, format_si
 from .common import load_stock_reporting, part_json, part_text, rating_text
 
 
-def run_match(value: Quantity, stock_file: str, *, within, max_parts, power, voltage, units, top, as_json, strict):
+def run_match(value: Quantity, stock_file: str, *, within, max_parts, power, voltage, units, top, as_json, strict,
+              allow_polarized_series=False):
     from ..search.match import DEFAULT_WINDOW, match
 
     unit = value.unit or "ohm"
@@ -28,7 +29,8 @@ def run_match(value: Quantity, stock_file: str, *, within, max_parts, power, vol
     stock = load_stock_reporting(stock_file, strict)
     lines = stock.of_kind(kind)
     window = DEFAULT_WINDOW if within is None else within
-    result = match(lines, value.value, within=window, max_parts=max_parts, min_rating=rating, units=units, top=top)
+    result = match(lines, value.value, within=window, max_parts=max_parts, min_rating=rating, units=units, top=top,
+                   allow_polarized_series=allow_polarized_series)
     rating_key = "power" if kind == "resistor" else "voltage"
     if as_json:
         from ..cli import emit_json
@@ -53,7 +55,8 @@ def run_match(value: Quantity, stock_file: str, *, within, max_parts, power, vol
 def _warnings(eq) -> list[str]:
     out = []
     if eq.polarized_series:
-        out.append("polarized capacitors in series: each needs a balancing resistor and its own voltage margin")
+        out.append("a polarized capacitor in a series chain: its DC share follows leakage, not capacitance; "
+                   "fit a balancing resistor across each part and check each one's voltage")
     return out
 
 

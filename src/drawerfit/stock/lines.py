@@ -9,7 +9,7 @@ from dataclasses import dataclass, field
 
 from .. import constants as K
 from ..parts import Problem, Source, StockLine
-from ..values import UNIT_SYMBOL, ValueParseError, format_si, parse_quantity, parse_tolerance
+from ..values import UNIT_SYMBOL, ValueParseError, format_si, implied_unit, parse_quantity, parse_tolerance
 from .headers import Column, find_header, normalise
 
 KIND_WORDS = {
@@ -62,22 +62,7 @@ def _kind_from_word(word: str) -> tuple[str | None, str | None, str | None]:
 
 def _kind_from_value_text(text: str) -> str | None:
     """Resistor or capacitor from how a value is written: a unit, the R code, or a prefix."""
-    try:
-        q = parse_quantity(text)
-    except ValueParseError:
-        return None
-    if q.unit == "ohm":
-        return "resistor"
-    if q.unit == "F":
-        return "capacitor"
-    if q.unit is not None:
-        return None
-    letters = re.sub(r"[\d.\s,eE+-]", "", text)
-    if letters in ("k", "K", "M", "meg", "MEG", "Meg", "G"):
-        return "resistor"  # nobody stocks kilofarads
-    if letters in ("p", "n", "u", "µ", "μ"):
-        return "capacitor"  # nor nano-ohms
-    return None
+    return {"ohm": "resistor", "F": "capacitor"}.get(implied_unit(text) or "")
 
 
 class _Row:

@@ -1,0 +1,96 @@
+"""What a stage must do: the targets of a design spec, and vectorised checks against them.
+
+Shared by ``analyse`` (checks and Monte Carlo fractions) and the optimizer (feasibility over
+candidate arrays), so both judge a stage the same way.
+"""
+
+from __future__ import annotations
+
+from dataclasses import asdict, dataclass
+from typing import Mapping
+
+import numpy as np
+
+__all__ = ["Targets", "IE_WINDOW", "target_margins"]
+
+# When a spec gives one IE, the window is ±10 % around it: our own default, wide enough for 5 %
+# resistors and a 2:1 hFE spread in a stiff divider, narrow enough to pin the operating point.
+IE_WINDOW = 0.10
+
+
+@dataclass(frozen=True)
+class Targets:
+    """Targets in SI units; None means "no target".
+
+    ``f_low``: the whole stage's −3 dB corner must be at or below it (Hz).  ``swing``: the
+    symmetric output peak into the load must be at least this (V).  ``gain_min``/``gain_max``:
+    magnitude of the source-to-load gain.
+    """
+
+    ie_min: float | None = None
+    ie_max: float | None = None
+    f_low: float | None = None
+    swing: float | None = None
+    rin_min: float | None = None
+    rout_max: float | None = None
+    gain_min: float | None = None
+    gain_max: float | None = None
+
+    @classmethod
+    def around(cls, ie: float, window: float = IE_WINDOW, **others) -> "Targets":
+        """Targets with IE in ``ie``·(1 ± ``window``)."""
+        return cls(ie_min=ie * (1 - window), ie_max=ie * (1 + window), **others)
+
+    def given(self) -> dict[str, float]:
+        return {k: v for k, v in asdict(self).items() if v is not None}
+
+    def to_dict(self) -> dict:
+        return asdict(self)
+
+    @property
+    def centre(self) -> dict[str, float]:
+        """The middle of each two-sided window (IE, gain), for "closest to target" scoring."""
+        out = {}
+        if self.ie_min is not None and self.ie_max is not None:
+            out["ie"] = 0.5 * (self.ie_min + self.ie_max)
+        if self.gain_min is not None and self.gain_max is not None:
+            out["gain"] = 0.5 * (self.gain_min + self.gain_max)
+        return out
+
+
+# target name -> (figure, side): side +1 means figure >= bound, -1 means figure <= bound.
+_RULES = {
+    "ie_min": ("ie", +1),
+    "ie_max": ("ie", -1),
+    "f_low": ("f_low", -1),
+    "swing": ("swing_peak", +1),
+    "rin_min": ("rin", +1),
+    "rout_max": ("rout", -1),
+    "gain_min": ("gain_abs", +1),
+    "gain_max": ("gain_abs", -1),
+}
+
+
+def target_margins(targets: Targets, low: Mapping[str, np.ndarray],
+                   high: Mapping[str, np.ndarray]) -> dict[str, np.ndarray]:
+    """Relative margin of each given target: ≥ 0 met, < 0 missed by that fraction of the bound.
+
+    ``low``/``high`` hold each figure's lowest and highest value (the worst-case box, or the same
+    figures twice for a nominal check); a lower-bound target is judged on ``low``, an
+    upper-bound one on ``high``.  ``gain_abs`` may be given; else it is taken from ``gain``
+    (its magnitude range).  NaN figures (no corner, not active) count as missed.
+    """
+    low, high = dict(low), dict(high)
+    if "gain_abs" not in low and "gain" in low:
+        a, b = np.abs(low["gain"]), np.abs(high["gain"])
+        same_sign = np.sign(low["gain"]) == np.sign(high["gain"])
+        low["gain_abs"] = np.where(same_sign, np.minimum(a, b), 0.0)
+        high["gain_abs"] = np.maximum(a, b)
+    out = {}
+    for name, bound in targets.given().items():
+        fig, side = _RULES[name]
+        val = low[fig] if side > 0 else high[fig]
+        with np.errstate(invalid="ignore", divide="ignore"):
+            m = side * (np.asarray(val, float) - bound) / abs(bound)
+        out[name] = np.where(np.isnan(m), -np.inf, m)
+    return out

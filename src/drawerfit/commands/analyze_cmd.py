@@ -1,0 +1,122 @@
+"""`drawerfit analyze`: read a spec with its parts, analyse the stage, print a summary or JSON."""
+
+from __future__ import annotations
+
+import click
+
+from ..parts import SpecError
+from ..values import format_si
+
+__all__ = ["run_analyze", "summary_lines"]
+
+
+def _load_stock(stock_file: str):
+    try:
+        from ..stock import load_stock
+    except ImportError:
+        raise SpecError("--stock: this build has no stock loader yet; give hfe in [transistor] instead") from None
+    return load_stock(stock_file)
+
+
+def run_analyze(spec_file: str, *, stock_file: str | None = None, as_json: bool = False,
+                monte_carlo: int = 0, seed: int = 0) -> None:
+    from ..analysis import analyse
+    from ..cautions import cautions_for
+    from ..cli import emit_json
+    from ..spec import load_spec
+
+    stock = _load_stock(stock_file) if stock_file else None
+    spec = load_spec(spec_file, stock=stock)
+    stage = spec.stage()
+    result = analyse(stage, spec.conditions, monte_carlo=monte_carlo, seed=seed, targets=spec.targets)
+    cautions = cautions_for(result, mains=spec.mains)
+    if as_json:
+        emit_json(result.to_dict())
+        # The cautions still reach a person: on stderr, so stdout stays plain JSON.
+        for c in cautions:
+            click.echo(f"caution: {c.text}", err=True)
+        return
+    for line in summary_lines(result, spec, cautions):
+        click.echo(line)
+
+
+def _v(x, unit, digits=4):
+    return format_si(float(x), unit, digits)
+
+
+def _range(lo, hi, unit):
+    return f"{_v(lo, unit)} … {_v(hi, unit)}"
+
+
+def summary_lines(result, spec, cautions) -> list[str]:
+    """The people's summary: warnings first, then the figures, then the cautions."""
+    from ..analysis.core import LIMIT_NAMES
+
+    s, f, w = result.stage, result.nominal, result.worst
+    t = s.transistor
+    c = result.conditions
+    out = []
+    head = f"{s.topology}, {s.polarity.upper()}, {_v(s.supply, 'V')} supply"
+    head += f", source {_v(s.source_resistance, 'ohm')}" if s.source_resistance else ", ideal source"
+    head += f", load {_v(s.load, 'ohm')}" if s.load is not None else ", no load"
+    out.append((spec.title + ": " if spec.title else "") + head)
+    hfe = f"hFE {t.hfe_min:g}" if t.hfe_min == t.hfe_max else f"hFE {t.hfe_min:g}–{t.hfe_max:g} (nominal {t.hfe:.4g})"
+    out.append(f"Q1 {t.label or '(unnamed)'}: {hfe}, VBE {_v(t.vbe, 'V')} at 25 °C")
+    warnings = result.warnings
+    if warnings:
+        out.append("")
+        out.append(f"WARNINGS ({len(warnings)})")
+        for ch in warnings:
+            out.append(f"  ! {ch.name}: {ch.message}")
+    out.append("")
+    out.append(f"Operating point at {c.nominal_temp:g} °C, nominal values (node voltages to ground)")
+    out.append(f"  VB {_v(f.vb, 'V')}   VE {_v(f.ve, 'V')}   VC {_v(f.vc, 'V')}")
+    out.append(f"  IE {_v(f.ie, 'A')}   IC {_v(f.ic, 'A')}   VCE {_v(f.vce, 'V')}   Q1 {result.state}")
+    if result.state == "active":
+        out.append("Signal, mid-band")
+        out.append(f"  input {_v(f.rin, 'ohm')}   output {_v(f.rout, 'ohm')}   gain {float(f.gain):.4g} (source to load)")
+        own = ", ".join(f"{k} alone {format_si(v, 'Hz')}" for k, v in result.corners().items() if v)
+        out.append(f"  low corner {_v(f.f_low, 'Hz')} for the whole stage" + (f" ({own})" if own else ""))
+        out.append(f"  swing ±{_v(f.swing_peak, 'V')} peak into the load, limited by "
+                   f"{LIMIT_NAMES[int(f.swing_limit)]}")
+    out.append(f"Worst case over tolerances, hFE {t.hfe_min:g}–{t.hfe_max:g}, "
+               f"{c.ambient_min:g}–{c.ambient_max:g} °C ({w.vertices} corners)")
+    out.append(f"  IE {_range(w.low['ie'], w.high['ie'], 'A')}   VE {_range(w.low['ve'], w.high['ve'], 'V')}")
+    if bool(w.all_active):
+        g = sorted((abs(float(w.low["gain"])), abs(float(w.high["gain"]))))
+        out.append(f"  |gain| {g[0]:.4g} … {g[1]:.4g}   low corner up to {_v(w.high['f_low'], 'Hz')}   "
+                   f"swing at least ±{_v(w.low['swing_peak'], 'V')}")
+    else:
+        out.append("  Q1 leaves the active region inside this range: signal figures not given")
+    out.append("Parts")
+    by_name = {ch.name: ch for ch in result.checks}
+    for role, part in s.parts.items():
+        unit = "F" if role.startswith("C") else "ohm"
+        line = f"  {role:<3} {_v(part.value, unit):>9} ±{part.tolerance * 100:g} %"
+        if unit == "ohm":
+            ch = by_name.get(f"{role} power")
+            if ch:
+                line += f"   up to {_v(ch.value, 'W')}" + (f" of {_v(ch.limit, 'W')} allowed" if ch.limit else ", no rating given")
+        else:
+            ch = by_name.get(f"{role} voltage")
+            if ch:
+                line += f"   up to {_v(ch.value, 'V')} DC" + (f" of {_v(ch.limit, 'V')} allowed" if ch.limit else ", no rating given")
+            pol = by_name.get(f"{role} polarity")
+            if pol:
+                line += "   polarized: " + pol.message
+        out.append(line)
+    ch = by_name["Q1 power"]
+    out.append(f"  Q1   up to {_v(ch.value, 'W')}" + (f" of {_v(ch.limit, 'W')} allowed" if ch.limit else ", no PD given"))
+    mc = result.monte_carlo
+    if mc:
+        out.append(f"Monte Carlo: {mc['samples']} builds (seed {mc['seed']}): active {mc['active']:.1%}, "
+                   f"meet every target and rating {mc['meets_all']:.1%}")
+        for name, frac in mc["meets"].items():
+            out.append(f"  {name}: {frac:.1%}")
+    if spec.assumptions:
+        out.append("Assumed: " + "; ".join(spec.assumptions))
+    out.append("")
+    out.append("Cautions")
+    for cau in cautions:
+        out.append(f"  * {cau.text}")
+    return out

@@ -73,7 +73,7 @@ def test_netlist_carries_the_ratings_and_says_where_parts_come_from(tmp_path):
     # ratings of the stock line in the design file: VCEO 40 V, IC max 200 mA, Pd 500 mW
     assert "VCE_MAX=40" in model and "IC_MAX=0.2" in model and "PD_MAX=0.5" in model
     assert "from bin R-02" in text and "from bin T-01" in text
-    assert "polarized: + end to the base" in text
+    assert "polarized: fit the + end toward the base" in text
     # every comment line of ours is plain ASCII
     ours = [l for l in text.splitlines() if l.startswith("*   ")]
     assert ours and all(l.isascii() for l in ours)

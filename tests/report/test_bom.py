@@ -118,7 +118,7 @@ def hostile_design(tmp_path):
                         'source = { file = "-2+3", sheet = "@SUM(A1)", row = 12 } }')
     text = text.replace('location = "R-04"', 'location = "=HYPERLINK(\\"x\\",\\"y\\")"')
     text = text.replace('part = "4k7 resistor"', 'part = "+1+1"')
-    text = text.replace('location = "T-01"\nsource', 'location = "\\tT-01"\nsource')
+    text = text.replace('parts = [{ location = "T-01"', 'parts = [{ location = "\\tT-01"')
     path = tmp_path / "hostile.toml"
     path.write_text(text, encoding="utf-8")
     return path

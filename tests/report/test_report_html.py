@@ -182,14 +182,23 @@ def test_plain_spec_says_it_has_no_bins(tmp_path):
 
 
 def test_cautions_for_polarized_parts_and_high_supply(tmp_path):
+    import html
+
+    from drawerfit.cautions import ELECTROLYTIC, GENERAL, HIGH_VOLTAGE
+
     text = _report(tmp_path, FOLLOWER, monte_carlo=0).read_text(encoding="utf-8")
-    assert "C1, C2 are polarized" in text
-    assert "above about 50 V" not in text
+    assert html.escape(ELECTROLYTIC.text) in text and html.escape(GENERAL.text) in text
+    assert html.escape(HIGH_VOLTAGE.text) not in text
     # a 60 V supply (above the 50 V caution level, common practice) gets the high-voltage caution
     spec = write_spec(tmp_path, "ce-npn-re2-unbypassed")
     spec.write_text(spec.read_text().replace('supply = "20 V"', 'supply = "60 V"'))
     text = _report(tmp_path, spec, monte_carlo=0).read_text(encoding="utf-8")
-    assert "above about 50 V DC" in text
+    assert html.escape(HIGH_VOLTAGE.text) in text
+    # and so does a low-voltage stage inside mains equipment
+    spec = write_spec(tmp_path, "ef-pnp-no-rs")
+    spec.write_text("mains = true\n" + spec.read_text())
+    text = _report(tmp_path, spec, monte_carlo=0).read_text(encoding="utf-8")
+    assert html.escape(HIGH_VOLTAGE.text) in text
 
 
 def test_cli_report_writes_the_page_and_is_quiet_on_a_pipe(tmp_path):
@@ -203,7 +212,7 @@ def test_cli_report_writes_the_page_and_is_quiet_on_a_pipe(tmp_path):
 
 @pytest.mark.parametrize("content, words", [
     ("this is = not toml [", "not valid TOML"),
-    ('topology = "emitter-follower"\n', "missing 'supply'"),
+    ('topology = "emitter-follower"\n', "supply: missing"),
     ('topology = "emitter-follower"\nsupply = "12 X"\n[transistor]\nhfe = 100\n[parts]\nR1 = "1k"\n', "supply"),
 ])
 def test_bad_design_file_exits_2_with_its_name(tmp_path, content, words):

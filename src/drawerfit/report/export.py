@@ -25,12 +25,13 @@ def design_netlist(design: DesignFile, *, analyses: bool = True) -> str:
     """The deck as text.  ``analyses`` adds .op and an .ac sweep around the corner."""
     from ..analysis.core import evaluate
     from .bom import ROLE_ORDER
-    from .figures import polarity_words
+    from .figures import gather, polarity_text
     from .netlist import stage_netlist
 
     stage, t = design.stage, design.stage.transistor
     temp = design.conditions.nominal_temp
     fig = evaluate(temp_c=temp, **stage.core_arguments())
+    figs = gather(design, monte_carlo=0)
     deck = stage_netlist(stage, temp_c=temp, title=f"drawerfit export of {design.path}").splitlines()
     title, body = deck[0], deck[1:]
     head = [
@@ -60,7 +61,7 @@ def design_netlist(design: DesignFile, *, analyses: bool = True) -> str:
                 src += f" ({choice.arrangement})"
         pol = ""
         if role.startswith("C") and part.polarized:
-            pol = "; polarized: " + polarity_words(design, role, float(getattr(fig, f"v_{role.lower()}")))
+            pol = "; polarized: " + polarity_text(figs, role)
         head.append(f"*   {role}: {format_code(part.value, unit, ascii_only=True)}{tol}{rating}{src}{pol}")
     ratings = []
     soa = []

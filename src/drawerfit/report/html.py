@@ -87,7 +87,7 @@ td:first-child { overflow-wrap: normal; }
 td.num, th.num { text-align: right; font-variant-numeric: tabular-nums; white-space: nowrap; }
 .tag { display: inline-block; min-width: 4.6em; text-align: center; border-radius: 3px; padding: 0 .35em;
        font-size: .8rem; font-weight: 600; color: #fff; background: var(--ok); }
-.tag.bad { background: var(--bad); } .tag.skip { background: #8a96a3; }
+.tag.bad { background: var(--bad); } .tag.skip { background: #8a96a3; } .tag.warn { background: #9a6a00; }
 figure { margin: .6rem 0 1rem; break-inside: avoid; page-break-inside: avoid; }
 figcaption { font-size: .85rem; color: var(--muted); margin-top: .25rem; }
 svg.pic { display: block; width: 100%; height: auto; max-width: 100%; }
@@ -136,6 +136,8 @@ def _checks_table(checks) -> str:
     for c in checks:
         if c.ok is None:
             tag = '<span class="tag skip">not checked</span>'
+        elif not c.ok and c.kind == "advice":
+            tag = '<span class="tag warn">advice</span>'
         elif c.ok:
             tag = '<span class="tag">met</span>'
         else:
@@ -147,7 +149,7 @@ def _checks_table(checks) -> str:
         body.append(f"<tr><td>{tag}</td><td>{_e(c.name)}</td><td class='num'>{nom}</td><td class='num'>{val}</td>"
                     f"<td class='num'>{lim}</td><td class='num'>{_pct(c.margin)}</td><td>{_e(c.message)}</td></tr>")
     return ("<table><thead><tr><th></th><th>check</th><th class='num'>nominal</th><th class='num'>worst case</th>"
-            "<th class='num'>limit</th><th class='num'>margin</th><th>how judged</th></tr></thead><tbody>"
+            "<th class='num'>limit</th><th class='num'>margin</th><th>what the analysis found</th></tr></thead><tbody>"
             + "".join(body) + "</tbody></table>")
 
 
@@ -219,15 +221,15 @@ def render_report(design: DesignFile, *, monte_carlo: int = 2000, seed: int = 0,
                   on_step: Callable[..., None] = NO_PROGRESS) -> str:
     """The report as one HTML string."""
     from .. import __version__
-    from .figures import gather, polarity_words
+    from .figures import TARGET_WORDS, gather, polarity_text
     from .plots import histogram_svg, load_lines_svg, response_svg
     from .schematic import schematic_svg, value_label
 
     stage = design.stage
     figs = gather(design, monte_carlo=monte_carlo, seed=seed, on_step=on_step)
     fig, worst = figs.nominal, figs.worst
-    polarity_notes = {r: polarity_words(design, r, float(getattr(fig, f"v_{r.lower()}")))
-                      for r in ("C1", "C2", "CE") if r in stage.parts and stage.parts[r].polarized}
+    polarity_notes = {r: polarity_text(figs, r) for r in ("C1", "C2", "CE")
+                      if r in stage.parts and stage.parts[r].polarized}
 
     on_step(note="schematic")
     labels = {}
@@ -254,8 +256,9 @@ def render_report(design: DesignFile, *, monte_carlo: int = 2000, seed: int = 0,
         frac_text = ""
         if "all" in frac:
             frac_text = (f"<p><strong>{frac['all'] * 100:.1f} %</strong> of the {figs.mc_runs} random builds meet "
-                         "every target at once; by target: " + ", ".join(
-                             f"{_e(k)} {v * 100:.1f} %" for k, v in frac.items() if k != "all") + ".</p>")
+                         "every target and power limit at once; one by one: " + ", ".join(
+                             f"{_e(TARGET_WORDS.get(k, k))} {v * 100:.1f} %" for k, v in frac.items() if k != "all")
+                         + ".</p>")
         hist = (f"<h2>Spread over {figs.mc_runs} random builds</h2>"
                 "<p class='note'>Each build draws every resistor and capacitor uniformly within its tolerance, hFE "
                 "log-uniformly over its range and the ambient uniformly over "
@@ -264,7 +267,7 @@ def render_report(design: DesignFile, *, monte_carlo: int = 2000, seed: int = 0,
                 f"{frac_text}<div class='pair'><figure>{h_ie}<figcaption>Emitter current IE</figcaption></figure>"
                 f"<figure>{h_f}<figcaption>Whole-stage −3 dB low corner</figcaption></figure></div>")
 
-    failed = [c for c in figs.checks if c.ok is False]
+    failed = [c for c in figs.checks if c.ok is False and c.kind != "advice"]
     name = _STAGE_NAMES.get(stage.topology, stage.topology)
     title = f"{stage.polarity.upper()} {name}, {format_si(stage.supply, 'V', 3)} supply"
     if failed:
@@ -302,7 +305,7 @@ def render_report(design: DesignFile, *, monte_carlo: int = 2000, seed: int = 0,
 <figure class="schematic">{schem}<figcaption>Designators and chosen values (IEC 60062 letter code). Electrolytics are drawn with their + end where the DC voltage puts it. Supply {_e(format_si(stage.supply, 'V', 3))}, single rail.</figcaption></figure>
 </section>
 <section><h2>Checks</h2>
-<p class="note">Each figure is judged at its worst case over part tolerances, the hFE range ({stage.transistor.hfe_min:g} to {stage.transistor.hfe_max:g}) and the ambient range; the margin is the distance to the limit as a share of the limit (positive: room left).</p>
+<p class="note">Each figure is judged at its worst case over part tolerances, the hFE range ({stage.transistor.hfe_min:g} to {stage.transistor.hfe_max:g}) and the ambient range ({design.conditions.ambient_min:g} to {design.conditions.ambient_max:g} °C); the margin is the distance to the limit as a share of the limit (positive: room left). Advice is a rule of thumb, not a requirement.</p>
 {_checks_table(figs.checks)}
 </section>
 <section><h2>Parts</h2>

@@ -122,7 +122,11 @@ def gather(design: DesignFile, *, monte_carlo: int = 2000, seed: int = 0,
             nom = abs(float(nominal.gain))
         name = TARGET_WORDS.get(key, c.name) if c.kind == "target" else c.name
         m = _margin(c, margins)
-        checks.append(Check(c.kind, name, c.ok, c.value, c.limit, c.unit or None,
+        value, limit = c.value, c.limit
+        if c.kind in ("state", "polarity"):
+            # their numbers are the nominal VCE and the voltage across the capacitor, not a worst case
+            nom, value, limit = (c.value if c.kind == "state" else None), None, None
+        checks.append(Check(c.kind, name, c.ok, value, limit, c.unit or None,
                             None if m is None or (isinstance(m, float) and math.isnan(m)) else m, c.message, nom))
     cautions = [c.text for c in cautions_for(analysis, mains=bool(getattr(design.spec, "mains", False)))]
     frac = {}

@@ -81,7 +81,7 @@ p { margin: .4rem 0; }
 .cautions li { margin: .3rem 0; }
 table { border-collapse: collapse; width: 100%; margin: .4rem 0 .8rem; font-size: .9rem; }
 th, td { border-bottom: 1px solid var(--line); padding: .28rem .45rem; text-align: left; vertical-align: top;
-         overflow-wrap: anywhere; }
+         overflow-wrap: break-word; }
 th { background: var(--band); font-weight: 600; overflow-wrap: normal; }
 td:first-child { overflow-wrap: normal; }
 td.num, th.num { text-align: right; font-variant-numeric: tabular-nums; white-space: nowrap; }
@@ -92,6 +92,7 @@ figure { margin: .6rem 0 1rem; break-inside: avoid; page-break-inside: avoid; }
 figcaption { font-size: .85rem; color: var(--muted); margin-top: .25rem; }
 svg.pic { display: block; width: 100%; height: auto; max-width: 100%; }
 .schematic svg.pic { background: #fff; border: 1px solid var(--line); }
+table.narrow { width: auto; min-width: 50%; }
 .pair { display: flex; gap: 1rem; flex-wrap: wrap; }
 .pair figure { flex: 1 1 18rem; min-width: 0; }
 .note { font-size: .85rem; color: var(--muted); }
@@ -106,8 +107,23 @@ footer { margin-top: 2rem; font-size: .8rem; color: var(--muted); border-top: 1p
   .tag { border: 1px solid #000; color: #000; background: none !important; }
   .tag.bad { font-weight: 800; }
   section.plots { break-before: page; }
+  section.plots figure svg.pic { max-height: 92mm; }
+  .pair figure svg.pic { max-height: 70mm; }
 }
 """
+
+
+def _share_name(key: str, design: DesignFile) -> str:
+    """'ie_min' -> 'IE at least 5.5 mA'; 'R1 power' stays as it is."""
+    from .figures import TARGET_WORDS
+
+    bound = design.targets.get(key)
+    if key in TARGET_WORDS and bound is not None:
+        unit = {"ie_min": "A", "ie_max": "A", "f_low": "Hz", "swing": "V", "rin_min": "ohm",
+                "rout_max": "ohm"}.get(key)
+        shown = format_si(bound, unit, 3) if unit else f"{bound:.3g}"
+        return f"{TARGET_WORDS[key]} {shown}"
+    return key.replace(" power", " within its derated power")
 
 
 def _summary_rows(fig, worst, design: DesignFile) -> list[tuple[str, str, str, str]]:
@@ -168,7 +184,7 @@ def _parts_table(design: DesignFile, fig, polarity_notes: dict) -> str:
             made = "; ".join(f"{format_code(p.value, unit)} from bin {p.location or '?'}"
                              + (f" (row {p.source.get('row')})" if p.source.get("row") is not None else "")
                              for p in choice.parts)
-            how = choice.arrangement + (f": {choice.describe}" if choice.describe and choice.arrangement != "single" else "")
+            how = choice.describe if choice.describe and choice.arrangement != "single" else choice.arrangement
         else:
             made, how = "—", "single"
         if unit == "ohm":
@@ -247,18 +263,20 @@ def render_report(design: DesignFile, *, monte_carlo: int = 2000, seed: int = 0,
     if figs.mc is not None:
         t = design.targets
         ie_lines = [(t[k], w) for k, w in (("ie_min", "target min"), ("ie_max", "target max")) if k in t]
-        h_ie = inline_svg(histogram_svg(figs.mc.ie, unit="A", scale=1e3, axis_label="IE (mA)", lines=ie_lines,
+        h_ie = inline_svg(histogram_svg(figs.mc.ie, unit="A", scale=1e3, axis_label="IE (mA)", lines=ie_lines, shown_unit="mA",
                                         nominal=float(fig.ie)), "hie", "histogram of IE")
         f_lines = [(t["f_low"], "target")] if "f_low" in t else []
         h_f = inline_svg(histogram_svg(figs.mc.f_low, unit="Hz", scale=1.0, axis_label="−3 dB low corner (Hz)",
-                                       lines=f_lines, nominal=float(fig.f_low)), "hf", "histogram of the corner")
+                                       lines=f_lines, nominal=float(fig.f_low), shown_unit="Hz"), "hf", "histogram of the corner")
         frac = figs.mc_fraction
         frac_text = ""
-        if "all" in frac:
-            frac_text = (f"<p><strong>{frac['all'] * 100:.1f} %</strong> of the {figs.mc_runs} random builds meet "
-                         "every target and power limit at once; one by one: " + ", ".join(
-                             f"{_e(TARGET_WORDS.get(k, k))} {v * 100:.1f} %" for k, v in frac.items() if k != "all")
-                         + ".</p>")
+        if frac:
+            rows = "".join(f"<tr><td>{_e(_share_name(k, design))}</td><td class='num'>{v * 100:.1f} %</td></tr>"
+                           for k, v in frac.items() if k != "all")
+            all_row = (f"<tr><th>all of them at once</th><th class='num'>{frac['all'] * 100:.1f} %</th></tr>"
+                       if "all" in frac else "")
+            frac_text = ("<table class='narrow'><thead><tr><th>builds that meet</th><th class='num'>share</th></tr>"
+                         f"</thead><tbody>{rows}{all_row}</tbody></table>")
         hist = (f"<h2>Spread over {figs.mc_runs} random builds</h2>"
                 "<p class='note'>Each build draws every resistor and capacitor uniformly within its tolerance, hFE "
                 "log-uniformly over its range and the ambient uniformly over "

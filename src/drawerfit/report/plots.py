@@ -194,21 +194,39 @@ def load_lines_svg(design, nominal) -> str:
 
 
 @_with_rc
-def histogram_svg(samples, *, unit: str, scale: float, axis_label: str, lines=(), nominal=None) -> str:
+def histogram_svg(samples, *, unit: str, scale: float, axis_label: str, lines=(), nominal=None,
+                  shown_unit: str = "") -> str:
     """A histogram of Monte Carlo samples (SI units; shown ×``scale``) with labelled target lines.
 
-    ``lines`` are (value, text) pairs drawn as dashed verticals.
+    ``lines`` are (value, text) pairs drawn as dashed verticals.  The axis spans the samples; a
+    target far outside them is named at the edge with an arrow instead of squeezing the bars.
     """
     x = np.asarray(samples, float)
-    x = x[np.isfinite(x)]
+    x = x[np.isfinite(x)] * scale
     fig = _figure(4.0, 2.8)
     ax = fig.add_subplot()
+    lo, hi = (float(x.min()), float(x.max())) if x.size else (0.0, 1.0)
+    span = max(hi - lo, abs(hi) * 1e-3, 1e-12)
+    view_lo, view_hi = lo - 0.15 * span, hi + 0.15 * span
+    # Targets within two spans of the samples are drawn in place; farther ones at the edge.
+    near = [(v * scale, t) for v, t in lines if lo - 2 * span <= v * scale <= hi + 2 * span]
+    for v, _ in near:
+        view_lo, view_hi = min(view_lo, v - 0.05 * span), max(view_hi, v + 0.05 * span)
     if x.size:
-        ax.hist(x * scale, bins=40, color=PALETTE["soft"], edgecolor="white", lw=0.4)
-    for value, text in lines:
-        ax.axvline(value * scale, color=PALETTE["accent"], lw=1.3, ls="--")
-        ax.annotate(text, (value * scale, 1), xycoords=("data", "axes fraction"), xytext=(3, -10),
+        ax.hist(x, bins=40, range=(lo, hi) if hi > lo else None, color=PALETTE["soft"], edgecolor="white", lw=0.4)
+    ax.set_xlim(view_lo, view_hi)
+    for v, text in near:
+        ax.axvline(v, color=PALETTE["accent"], lw=1.3, ls="--")
+        ax.annotate(text, (v, 1), xycoords=("data", "axes fraction"), xytext=(3, -10),
                     textcoords="offset points", fontsize=7, color=PALETTE["accent"], rotation=90, va="top")
+    for v, text in lines:
+        v = v * scale
+        if (v, text) in near:
+            continue
+        right = v > hi
+        ax.annotate(f"{text} {v:.3g} {shown_unit} {'→' if right else '←'}".replace("  ", " "), (1.0 if right else 0.0, 0.92),
+                    xycoords="axes fraction", ha="right" if right else "left", fontsize=7.5,
+                    color=PALETTE["accent"])
     if nominal is not None and math.isfinite(nominal):
         ax.axvline(nominal * scale, color=PALETTE["ink"], lw=1.2)
     ax.set_xlabel(axis_label, fontsize=8)

@@ -88,3 +88,24 @@ def test_analyze_help_does_not_load_heavy_libraries():
     env = {**os.environ, "PYTHONPATH": src}
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, env=env, check=True)
     assert "HEAVY []" in out.stdout
+
+
+STOCK_CSV = """Type,Value,Tol,Watts,Volts,Qty,Box,Name,hFE min,hFE max,VCEO,Ic max,Pd
+R,4k7,5%,0.25,,10,A1,,,,,,
+PNP,,,,,4,T9,QP-TEST-9,120,300,45,0.15,0.5
+"""
+
+
+def test_transistor_label_from_stock(tmp_path):
+    stock = tmp_path / "drawer.csv"
+    stock.write_text(STOCK_CSV, encoding="utf-8")
+    text = (SPEC.replace('polarity = "npn"', 'polarity = "pnp"')
+            .replace('R1 = "47k"', 'R1 = "10k"').replace('R2 = "10k"', 'R2 = "47k"')
+            .replace("hfe_min = 100\nhfe_max = 300\n", 'label = "QP-TEST-9"\n'))
+    path = _spec(tmp_path, text)
+    r = CliRunner().invoke(main, ["analyze", path, "--stock", str(stock), "--json"])
+    assert r.exit_code == 0, r.output
+    d = json.loads(r.output[r.output.index("{"):r.output.rindex("}") + 1])
+    assert d["spread"]["worst_case"]["hfe"] == [120.0, 300.0]
+    r = CliRunner().invoke(main, ["analyze", path])
+    assert r.exit_code == 2 and "needs --stock" in r.output

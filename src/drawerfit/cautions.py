@@ -27,7 +27,8 @@ HIGH_VOLTAGE = Caution(
     "high-voltage",
     f"Supplies above about {HIGH_VOLTAGE_CAUTION:g} V and any mains-connected equipment can kill: "
     "work on it de-energised, unplug it, discharge the capacitors and check with a meter before "
-    "touching, and follow your local electrical codes and licensed practice.",
+    "touching, use an isolating transformer where the equipment needs one, and follow your local "
+    "electrical codes and licensed practice.",
 )
 ELECTROLYTIC = Caution(
     "electrolytic",

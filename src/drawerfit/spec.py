@@ -271,6 +271,8 @@ def _parts(r: _Reader, data, topology) -> dict:
     roles = TOPOLOGY_ROLES[topology]
     table = r.table("parts", data["parts"], set(roles))
     parts = {}
+    assumed_polar: list[str] = []
+    assumed_tol: dict[float, list[str]] = {}
     for role, raw in table.items():
         key = f"parts.{role}"
         unit = "F" if role.startswith("C") else "ohm"
@@ -302,14 +304,19 @@ def _parts(r: _Reader, data, topology) -> dict:
         if polarized is None:
             polarized = unit == "F" and value >= POLARIZED_FROM
             if polarized:
-                r.assumptions.append(f"{role} taken as polarized (electrolytic): 1 µF or more")
+                assumed_polar.append(role)
         if tol is None:
             tol = TOL_RESISTOR if unit == "ohm" else (TOL_ELECTROLYTIC if polarized else TOL_FILM)
-            r.assumptions.append(f"{role} tolerance {tol:.0%} (common practice)")
+            assumed_tol.setdefault(tol, []).append(role)
         try:
             parts[role] = Part(value=value, tolerance=tol, rating=rating, polarized=bool(polarized))
         except ValueError as exc:
             raise r.fail(key, raw, str(exc)) from None
+    for tol, which in sorted(assumed_tol.items()):
+        r.assumptions.append(f"tolerance {tol:.0%} for {', '.join(which)} (common practice)")
+    if assumed_polar:
+        r.assumptions.append(f"{', '.join(assumed_polar)} taken as electrolytic (1 µF or more; "
+                             "say polarized = false if not)")
     return parts
 
 

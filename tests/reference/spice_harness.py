@@ -104,3 +104,25 @@ def _corner(freq: np.ndarray, mag: np.ndarray, mid: float) -> float:
     x0, x1 = math.log(freq[i - 1]), math.log(freq[i])
     y0, y1 = math.log(mag[i - 1]), math.log(mag[i])
     return math.exp(x0 + (math.log(level) - y0) * (x1 - x0) / (y1 - y0))
+
+
+def simulate_clipping(stage, workdir: Path, amplitude: float, freq: float = 20e3) -> tuple[float, float]:
+    """(highest, lowest) load voltage over one cycle of a sine of ``amplitude`` (V peak) from the
+    source, simulated in the transient.  The frequency is far above every corner (so the
+    coupling capacitors barely recharge in one cycle) and, with no junction capacitances in the
+    model, still mid-band."""
+    from drawerfit.report.netlist import stage_netlist
+
+    exe = require_ngspice()
+    period = 1.0 / freq
+    step = period / 500
+    control = f"tran {step:.4g} {period:.4g} 0 {step:.4g}\nwrdata tran.txt v(out)\n"
+    deck = stage_netlist(stage, control=control)
+    deck = re.sub(r"^(VS \S+ 0 DC 0 AC 1)$", rf"\1 SIN(0 {amplitude:.6g} {freq:.6g})", deck, flags=re.M)
+    (workdir / "clip.cir").write_text(deck)
+    run = subprocess.run([exe, "-b", "clip.cir"], cwd=workdir, capture_output=True, text=True, timeout=60)
+    out = workdir / "tran.txt"
+    if not out.exists():
+        raise AssertionError(f"ngspice transient failed:\n{run.stdout}\n{run.stderr}")
+    v = np.loadtxt(out)[:, 1]
+    return float(v.max()), float(v.min())

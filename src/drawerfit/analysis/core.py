@@ -355,6 +355,15 @@ class _Kernel:
             self.ce = np.asarray(ce, float)
             self.grc = 1.0 / inp["rc"]
 
+    def subset(self, shape, take) -> "_Kernel":
+        """The same kernel on the flat indices ``take`` of the broadcast ``shape`` only."""
+        out = object.__new__(_Kernel)
+        for name, val in vars(self).items():
+            if isinstance(val, np.ndarray) and val.ndim > 0:
+                val = np.broadcast_to(val, shape).reshape(-1)[take]
+            setattr(out, name, val)
+        return out
+
     def __call__(self, f):
         s = 1j * _TWO_PI * f
         sc2 = s * self.c2
@@ -401,9 +410,11 @@ def low_corner(dc: DCFigures, *, c1, c2, ce=0.0, rtol: float = 1e-7) -> Corners:
     The corner is where |H(f)|² falls to half its mid-band value, H the full transfer function
     with every capacitor (not a sum of poles).  |H| rises monotonically with f for these
     high-pass networks, so the root of g(t) = ln|H(e^t)|² − ln(|H_mid|²/2) is bracketed in
-    t = ln f from the capacitors' own corners ([max/1e3, sum·1e3]) and found by the Illinois
-    variant of regula falsi, all candidates at once, to a relative error ``rtol`` in f.
-    Stages outside the active region, or whose root is not in the bracket, get NaN.
+    t = ln f and found by the Illinois variant of regula falsi, all candidates at once, to a
+    relative error of about ``rtol`` in f.  The bracket is [max/2, 2·sum] of the capacitors'
+    own corners (where the stage corner lies in practice), widened to [max/1e3, 1e3·sum] for
+    any candidate it does not bracket.  Only active candidates are computed.  Stages outside
+    the active region, or whose root is not in the wide bracket, get NaN.
     """
     c1 = np.asarray(c1, float)
     c2 = np.asarray(c2, float)
@@ -412,38 +423,53 @@ def low_corner(dc: DCFigures, *, c1, c2, ce=0.0, rtol: float = 1e-7) -> Corners:
     shape = f_c1.shape
     active = np.broadcast_to(dc.state == ACTIVE, shape)
     f_max = np.maximum(np.maximum(f_c1, f_c2), f_ce)
-    f_sum = f_c1 + f_c2 + f_ce
+    f_sum = np.maximum(f_c1 + f_c2 + f_ce, f_max)
     good = active & (f_max > 0) & np.isfinite(f_sum)
-    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-        kernel = _Kernel(dc, c1, c2, ce)
-        log_target = np.log(0.5) + 2.0 * np.log(np.abs(np.broadcast_to(dc.gain, shape)))
-
-        def g(t):
-            h = kernel(np.exp(t))
-            return np.log(h.real**2 + h.imag**2) - log_target
-
-        a = np.log(np.where(good, f_max * 1e-3, 1.0))
-        b = np.log(np.where(good, np.maximum(f_sum, f_max) * 1e3, 10.0))
-        ga, gb = g(a), g(b)
-        good = good & (ga < 0) & (gb > 0)
-        ga = np.where(good, ga, -1.0)
-        gb = np.where(good, gb, 1.0)
-        side = np.zeros(shape, dtype=np.int8)
-        for _ in range(100):
-            t = (a * gb - b * ga) / (gb - ga)
-            gt = g(t)
-            left = gt < 0  # root lies in [t, b]
-            # Illinois: halve the stale end's value when the same end is kept twice.
-            gb = np.where(left & (side == 1), 0.5 * gb, gb)
-            ga = np.where(~left & (side == -1), 0.5 * ga, ga)
-            a, ga = np.where(left, t, a), np.where(left, gt, ga)
-            b, gb = np.where(left, b, t), np.where(left, gb, gt)
-            side = np.where(left, 1, -1).astype(np.int8)
-            if np.all(~good | (b - a < rtol) | (np.abs(gt) < 1e-12)):
-                break
-        t = (a * gb - b * ga) / (gb - ga)
-    f_low = np.where(good, np.exp(t), np.nan)
+    take = np.flatnonzero(good)
+    f_low = np.full(shape, np.nan)
+    if take.size:
+        with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+            kernel = _Kernel(dc, c1, c2, ce).subset(shape, take)
+            gain = np.broadcast_to(dc.gain, shape).reshape(-1)[take]
+            log_target = np.log(0.5) + 2.0 * np.log(np.abs(gain))
+            fmax = f_max.reshape(-1)[take]
+            fsum = f_sum.reshape(-1)[take]
+            roots = _illinois(kernel, log_target, np.log(0.5 * fmax), np.log(2.0 * fsum), rtol)
+            missed = np.flatnonzero(np.isnan(roots))
+            if missed.size:
+                wide = _illinois(kernel.subset(take.shape, missed), log_target[missed],
+                                 np.log(1e-3 * fmax[missed]), np.log(1e3 * fsum[missed]), rtol)
+                roots[missed] = wide
+        f_low.reshape(-1)[take] = np.exp(roots)
     return Corners(f_low=f_low, f_c1=f_c1, f_c2=f_c2, f_ce=f_ce)
+
+
+def _illinois(kernel: "_Kernel", log_target, a, b, rtol: float, max_iter: int = 100):
+    """Root in t of ln|H(e^t)|² − log_target on [a, b] (flat arrays); NaN where not bracketed."""
+
+    def g(t):
+        h = kernel(np.exp(t))
+        return np.log(h.real**2 + h.imag**2) - log_target
+
+    ga, gb = g(a), g(b)
+    ok = (ga < 0) & (gb > 0)
+    ga = np.where(ok, ga, -1.0)
+    gb = np.where(ok, gb, 1.0)
+    side = np.zeros(a.shape, dtype=np.int8)
+    for _ in range(max_iter):
+        t = (a * gb - b * ga) / (gb - ga)
+        gt = g(t)
+        left = gt < 0  # root lies in [t, b]
+        # Illinois: halve the stale end's value when the same end is kept twice.
+        gb = np.where(left & (side == 1), 0.5 * gb, gb)
+        ga = np.where(~left & (side == -1), 0.5 * ga, ga)
+        a, ga = np.where(left, t, a), np.where(left, gt, ga)
+        b, gb = np.where(left, b, t), np.where(left, gb, gt)
+        side = np.where(left, 1, -1).astype(np.int8)
+        if np.all(~ok | (b - a < rtol) | (np.abs(gt) < 2 * rtol)):
+            break
+    t = (a * gb - b * ga) / (gb - ga)
+    return np.where(ok, t, np.nan)
 
 
 def meets_corner(dc: DCFigures, *, c1, c2, ce=0.0, f_target) -> np.ndarray:

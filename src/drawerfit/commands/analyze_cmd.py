@@ -4,17 +4,14 @@ from __future__ import annotations
 
 import click
 
-from ..parts import SpecError
 from ..values import format_si
 
 __all__ = ["run_analyze", "summary_lines"]
 
 
 def _load_stock(stock_file: str):
-    try:
-        from ..stock import load_stock
-    except ImportError:
-        raise SpecError("--stock: this build has no stock loader yet; give hfe in [transistor] instead") from None
+    from ..stock import load_stock
+
     return load_stock(stock_file)
 
 

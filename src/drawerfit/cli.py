@@ -170,15 +170,17 @@ def report(design_file, output, stock_file, monte_carlo, seed, quiet) -> None:
 @click.argument("design_file", metavar="DESIGN.toml", type=click.Path(dir_okay=False))
 @click.option("--netlist", type=click.Path(dir_okay=False), default=None, help="SPICE netlist to write (.cir).")
 @click.option("--bom", type=click.Path(dir_okay=False), default=None, help="Parts list to write (.csv or .xlsx).")
+@click.option("--stock", "stock_file", type=click.Path(dir_okay=False), default=None,
+              help="Stock file (read only), for a transistor given by its label.")
 @click.option("--quiet", is_flag=True, help="No progress display and no closing lines.")
 @user_errors
-def export(design_file, netlist, bom, quiet) -> None:
+def export(design_file, netlist, bom, stock_file, quiet) -> None:
     """Carry a saved design elsewhere: a SPICE netlist and/or a parts list for N units."""
     from .commands.report_cmd import run_export
 
     if not netlist and not bom:
         raise click.UsageError("give --netlist FILE, --bom FILE, or both")
-    run_export(design_file, netlist=netlist, bom=bom, quiet=quiet)
+    run_export(design_file, netlist=netlist, bom=bom, quiet=quiet, stock_file=stock_file)
 
 
 if __name__ == "__main__":  # pragma: no cover

@@ -233,3 +233,32 @@ def test_report_will_not_write_over_its_input(tmp_path):
     res = CliRunner().invoke(main, ["report", str(copy), "-o", str(copy)])
     assert res.exit_code == 2 and "input file" in res.stderr
     assert copy.read_bytes() == before
+
+
+def test_stock_resolves_the_label_and_is_checked_against_the_design(tmp_path, samples):
+    # ce_repair_pnp.toml names its transistor only by label: the stock file supplies it
+    from drawerfit.stock import load_stock
+
+    spec = samples / "ce_repair_pnp.toml"
+    stock_file = samples / "repair_bench.csv"
+    before = stock_file.read_bytes()
+    out = tmp_path / "r.html"
+    res = CliRunner().invoke(main, ["report", str(spec), "--stock", str(stock_file), "-o", str(out)])
+    assert res.exit_code == 0, res.output
+    assert stock_file.read_bytes() == before  # read only
+    line = next(l for l in load_stock(str(stock_file)).transistors() if l.label == "BenchPNP-7")
+    text = out.read_text(encoding="utf-8")
+    assert f"hFE {line.hfe_min:g} to {line.hfe_max:g}" in text
+    if line.location:
+        assert f"bin {line.location}" in text
+    # without the stock the label cannot be resolved: exit 2, naming the key
+    res = CliRunner().invoke(main, ["report", str(spec), "-o", str(tmp_path / "x.html")])
+    assert res.exit_code == 2 and "transistor.label" in res.stderr
+    # a design whose checksum matches the stock says so; one that does not, warns
+    design = tmp_path / "d.toml"
+    for checksum, words in ((load_stock(str(stock_file)).checksum, "unchanged since the design was made"),
+                            ("0" * 64, "has changed since the design was made")):
+        design.write_text(f'stock_checksum = "{checksum}"\n' + spec.read_text(encoding="utf-8"), encoding="utf-8")
+        res = CliRunner().invoke(main, ["report", str(design), "--stock", str(stock_file), "-o", str(out)])
+        assert res.exit_code == 0, res.output
+        assert words in out.read_text(encoding="utf-8")

@@ -85,7 +85,7 @@ th, td { border-bottom: 1px solid var(--line); padding: .28rem .45rem; text-alig
 th { background: var(--band); font-weight: 600; overflow-wrap: normal; }
 td:first-child { overflow-wrap: normal; }
 td.num, th.num { text-align: right; font-variant-numeric: tabular-nums; white-space: nowrap; }
-.tag { display: inline-block; min-width: 4.6em; text-align: center; border-radius: 3px; padding: 0 .35em;
+.tag { display: inline-block; white-space: nowrap; min-width: 4.6em; text-align: center; border-radius: 3px; padding: 0 .35em;
        font-size: .8rem; font-weight: 600; color: #fff; background: var(--ok); }
 .tag.bad { background: var(--bad); } .tag.skip { background: #8a96a3; } .tag.warn { background: #9a6a00; }
 figure { margin: .6rem 0 1rem; break-inside: avoid; page-break-inside: avoid; }
@@ -288,6 +288,8 @@ def render_report(design: DesignFile, *, monte_carlo: int = 2000, seed: int = 0,
     failed = [c for c in figs.checks if c.ok is False and c.kind != "advice"]
     name = _STAGE_NAMES.get(stage.topology, stage.topology)
     title = f"{stage.polarity.upper()} {name}, {format_si(stage.supply, 'V', 3)} supply"
+    if getattr(design.spec, "title", ""):
+        title = f"{design.spec.title}: {title}"
     if failed:
         verdict = ("<div class='verdict bad'><strong>Not ready to build:</strong> "
                    + _e("; ".join(c.name for c in failed)) + " — see the checks below.</div>")
@@ -376,20 +378,29 @@ def check_output_path(out: Path, *inputs) -> None:
         raise SpecError(f"{out}: the folder {out.parent} does not exist")
 
 
-def write_report(design_toml_path, out_path, *, stock_file=None, monte_carlo=2000, seed=0,
-                 on_step: Callable[..., None] = NO_PROGRESS) -> None:
-    """Write the HTML report of DESIGN.toml to ``out_path``; ``stock_file`` is checked against the
-    design's stock checksum and supplies the transistor's bin when the design lacks it.
+def read_design(design_toml_path, stock_file=None) -> tuple[DesignFile, str]:
+    """The design, with the stock (read only) resolving a transistor label and checked against
+    the design's checksum; the note says what the stock check found.
     """
+    if stock_file is None:
+        return load_design(design_toml_path), ""
+    from ..stock import load_stock
     from .stock_link import link_stock
 
+    stock = load_stock(str(stock_file))
+    return link_stock(load_design(design_toml_path, stock), stock)
+
+
+def write_report(design_toml_path, out_path, *, stock_file=None, monte_carlo=2000, seed=0,
+                 on_step: Callable[..., None] = NO_PROGRESS) -> None:
+    """Write the HTML report of DESIGN.toml to ``out_path``.
+
+    ``stock_file`` (read only) supplies a transistor given by label, the transistor's bin when
+    the design lacks it, and a check that the stock still matches the design's checksum.
+    """
     out = Path(out_path)
     check_output_path(out, design_toml_path, stock_file)
     on_step(note="reading the design")
-    design = load_design(design_toml_path)
-    note = ""
-    if stock_file is not None:
-        on_step(note="reading the stock")
-        design, note = link_stock(design, stock_file)
+    design, note = read_design(design_toml_path, stock_file)
     text = render_report(design, monte_carlo=monte_carlo, seed=seed, stock_note=note, on_step=on_step)
     atomic_write(out, text)

@@ -13,12 +13,11 @@ from .design_file import DesignFile
 __all__ = ["link_stock"]
 
 
-def link_stock(design: DesignFile, stock_file: str) -> tuple[DesignFile, str]:
-    """The design with the transistor's bin filled from the stock when missing, and a note."""
-    from ..stock import load_stock
-
-    stock = load_stock(stock_file)
-    notes = []
+def link_stock(design: DesignFile, stock) -> tuple[DesignFile, str]:
+    """The design with the transistor's bin filled from ``stock`` (a ``parts.Stock``) when
+    missing, and a note on whether the stock file still matches the design's checksum.
+    """
+    notes = [f"stock file {stock.files[0] if stock.files else ''} read (not changed)".replace("  ", " ")]
     if design.stock_checksum:
         if stock.checksum == design.stock_checksum:
             notes.append("stock file unchanged since the design was made")
@@ -26,9 +25,11 @@ def link_stock(design: DesignFile, stock_file: str) -> tuple[DesignFile, str]:
             notes.append("the stock file has changed since the design was made: check the bins before you pick")
     t = design.stage.transistor
     if not design.transistor_location and t.label:
-        same = [line for line in stock.transistors() if line.label == t.label]
+        same = [line for line in stock.transistors() if (line.label or "").strip().lower() == t.label.lower()]
         if same:
             line = same[0]
             design = dataclasses.replace(design, transistor_location=line.location,
                                          transistor_source=line.source.to_dict())
+            if line.location:
+                notes.append(f"{t.label} found in bin {line.location}")
     return design, "; ".join(notes)

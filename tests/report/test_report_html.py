@@ -65,11 +65,11 @@ def _report(tmp_path, design, **kw):
 
 # Designator -> value text, from the design files (codes by hand, IEC 60062).
 EXPECTED = {
-    FOLLOWER: {"R1": "4k7", "R2": "5k6", "RE": "830R", "C1": "22µF", "C2": "220µF", "Q1": "QN-SIG-A",
+    FOLLOWER: {"R1": "4k7", "R2": "5k6", "RE": "830R", "C1": "22µ", "C2": "220µ", "Q1": "QN-SIG-A",
                "RS": "600R", "RL (load)": "10k"},
-    CE_PNP: {"R1": "18k", "R2": "82k", "RE": "270R", "RE2": "1k2", "RC": "5k6", "C1": "4µ7F", "C2": "4µ7F",
-             "CE": "220µF", "Q1": "QP-SIG-B", "RS": "1k0", "RL (load)": "22k"},
-    PLAIN: {"R1": "47k", "R2": "10k", "RE": "1k0", "RC": "4k7", "C1": "10µF", "C2": "10µF", "Q1": "QN-SIG-C",
+    CE_PNP: {"R1": "18k", "R2": "82k", "RE": "270R", "RE2": "1k2", "RC": "5k6", "C1": "4µ7", "C2": "4µ7",
+             "CE": "220µ", "Q1": "QP-SIG-B", "RS": "1k0", "RL (load)": "22k"},
+    PLAIN: {"R1": "47k", "R2": "10k", "RE": "1k0", "RC": "4k7", "C1": "10µ", "C2": "10µ", "Q1": "QN-SIG-C",
             "RS": "600R", "RL (load)": "10k"},
 }
 

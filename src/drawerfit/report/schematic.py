@@ -18,10 +18,8 @@ _LEAD = 0.8  # schemdraw units: wire between the transistor and an output tap
 
 
 def value_label(role: str, value: float) -> str:
-    """The value as printed beside a part: the IEC 60062 letter code (4k7, 22µ → '22µF')."""
-    if role.startswith("R"):
-        return format_code(value, "ohm")
-    return format_code(value, "F") + "F"
+    """The value as printed beside a part: the IEC 60062 letter code (4k7, 830R, 22µ, 4n7)."""
+    return format_code(value, "ohm" if role.startswith("R") else "F")
 
 
 def schematic_svg(design, nominal, *, labels: Mapping[str, str] | None = None) -> str:

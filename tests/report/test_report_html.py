@@ -29,10 +29,18 @@ class _Page(HTMLParser):
         self._svg: str | None = None
         self._depth = 0
         self.errors: list[str] = []
+        self.stack: list[str] = []
+
+    VOID = {"meta", "br", "hr", "img", "input", "link", "wbr", "col", "area", "base", "source"}
+
+    def handle_startendtag(self, tag, attrs):
+        self.tags.append((tag, dict(attrs)))  # <path ... />: opens and closes
 
     def handle_starttag(self, tag, attrs):
         a = dict(attrs)
         self.tags.append((tag, a))
+        if tag not in self.VOID:
+            self.stack.append(tag)
         if tag == "svg":
             if self._svg is None:
                 self._svg = a.get("aria-label", "?")
@@ -40,6 +48,10 @@ class _Page(HTMLParser):
             self._depth += 1
 
     def handle_endtag(self, tag):
+        if not self.stack or self.stack[-1] != tag:
+            self.errors.append(f"</{tag}> closes {self.stack[-1] if self.stack else 'nothing'}")
+        else:
+            self.stack.pop()
         if tag == "svg":
             self._depth -= 1
             if self._depth == 0:
@@ -105,6 +117,7 @@ def test_schematic_draws_present_parts_only(tmp_path, name):
 
 def test_page_parses_and_holds_every_section(tmp_path):
     page = _parse(_report(tmp_path, FOLLOWER, monte_carlo=300))
+    assert page.errors == [] and page.stack == []  # every element closed, in order
     assert set(page.svgs) == {"schematic of the stage", "magnitude response", "DC and AC load lines",
                               "histogram of IE", "histogram of the corner"}
     text = (tmp_path / "report.html").read_text(encoding="utf-8")

@@ -178,8 +178,9 @@ def load_lines_svg(design, nominal) -> str:
     ax.axvline(data["vce_sat"], color=PALETTE["soft"], lw=0.9, ls=":")
     ax.annotate(f"saturation\n{vname} ≈ {data['vce_sat']:g} V", (data["vce_sat"], 0), xytext=(4, 6),
                 textcoords="offset points", fontsize=7.5, color=PALETTE["ink"])
-    ax.annotate("cut-off", (cut, 0), xytext=(-10, 8), textcoords="offset points", fontsize=7.5,
-                color=PALETTE["accent"], ha="right")
+    ax.plot([cut], [0], marker="v", color=PALETTE["accent"], ms=6, clip_on=False, zorder=6)
+    ax.annotate("cut-off", (cut, 0), xytext=(0, -22), textcoords="offset points", fontsize=7.5,
+                color=PALETTE["accent"], ha="center", annotation_clip=False)
     vq, iq = data["q"]
     ax.plot([vq], [iq * 1e3], "o", color=PALETTE["ink"], ms=6, zorder=5)
     ax.annotate(f"Q: {vname} {format_si(vq, 'V', 3)}, IC {format_si(iq, 'A', 3)}", (vq, iq * 1e3),

@@ -12,7 +12,7 @@ from dataclasses import dataclass
 from pathlib import Path
 
 from ..parts import SpecError
-from ..stages import CAPACITOR_ROLES, RESISTOR_ROLES
+from ..stages import RESISTOR_ROLES
 from ..values import format_code, format_si
 from .design_file import DesignFile
 

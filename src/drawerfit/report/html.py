@@ -106,7 +106,6 @@ footer { margin-top: 2rem; font-size: .8rem; color: var(--muted); border-top: 1p
   tr, .verdict, .cautions { break-inside: avoid; page-break-inside: avoid; }
   .tag { border: 1px solid #000; color: #000; background: none !important; }
   .tag.bad { font-weight: 800; }
-  section.plots { break-before: page; }
   section.plots figure svg.pic { max-height: 92mm; }
   .pair figure svg.pic { max-height: 70mm; }
 }
@@ -237,7 +236,7 @@ def render_report(design: DesignFile, *, monte_carlo: int = 2000, seed: int = 0,
                   on_step: Callable[..., None] = NO_PROGRESS) -> str:
     """The report as one HTML string."""
     from .. import __version__
-    from .figures import TARGET_WORDS, gather, polarity_text
+    from .figures import gather, polarity_text
     from .plots import histogram_svg, load_lines_svg, response_svg
     from .schematic import schematic_svg, value_label
 

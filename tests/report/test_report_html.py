@@ -275,3 +275,19 @@ def test_stock_resolves_the_label_and_is_checked_against_the_design(tmp_path, sa
         res = CliRunner().invoke(main, ["report", str(design), "--stock", str(stock_file), "-o", str(out)])
         assert res.exit_code == 0, res.output
         assert words in out.read_text(encoding="utf-8")
+
+
+def test_user_text_cannot_break_the_page(tmp_path):
+    # a transistor label and a bin name with markup and schemdraw's math marker in them
+    hostile = 'Q<script>x</script>&$1$'
+    text = FOLLOWER.read_text(encoding="utf-8").replace('label = "QN-SIG-A"', f"label = '{hostile}'")
+    text = text.replace('location = "R-04"', 'location = "<b>R4</b>"')
+    design = tmp_path / "hostile.toml"
+    design.write_text(text, encoding="utf-8")
+    out = _report(tmp_path, design, monte_carlo=20)
+    page = _parse(out)
+    assert page.errors == [] and page.stack == []
+    assert not any(tag in ("script", "b") for tag, _ in page.tags)
+    texts = page.svgs["schematic of the stage"]
+    assert "Q<script>x</script>&\uff041\uff04" in texts  # shown as text; '$' by its look-alike
+    assert "&lt;b&gt;R4&lt;/b&gt;" in out.read_text(encoding="utf-8")

@@ -17,6 +17,15 @@ __all__ = ["schematic_svg", "value_label"]
 _LEAD = 0.8  # schemdraw units: wire between the transistor and an output tap
 
 
+def _safe(text: str) -> str:
+    """User text (a transistor label) made safe for schemdraw's SVG: XML-escaped, on one line,
+    with '$' (schemdraw's math-mode marker) replaced by a look-alike.
+    """
+    import html
+
+    return html.escape(" ".join(str(text).split()), quote=False).replace("$", "\uff04")
+
+
 def value_label(role: str, value: float) -> str:
     """The value as printed beside a part: the IEC 60062 letter code (4k7, 830R, 22µ, 4n7)."""
     return format_code(value, "ohm" if role.startswith("R") else "F")
@@ -37,7 +46,7 @@ def schematic_svg(design, nominal, *, labels: Mapping[str, str] | None = None) -
     labels = dict(labels or {})
 
     def text(role: str) -> str:
-        return f"{role}\n{labels.get(role) or value_label(role, parts[role].value)}"
+        return f"{role}\n{_safe(labels.get(role) or value_label(role, parts[role].value))}"
 
     e_dir = -1.0 if npn else 1.0  # the emitter side points at this rail
     stack_e = (3.0 + (3.0 if "RE2" in parts else 0.0)) if ce else _LEAD + 3.0
@@ -52,7 +61,7 @@ def schematic_svg(design, nominal, *, labels: Mapping[str, str] | None = None) -
     d.config(fontsize=11, lw=1.4, font="sans-serif")  # this drawing only: no global settings
     xq = 0.7516666666666666  # collector/emitter x of schemdraw's BJT with base at (0, 0)
     q = elm.BjtNpn(circle=True) if npn else elm.BjtPnp(circle=True)
-    d += q.at((0, 0)).anchor("base").label(f"Q1\n{stage.transistor.label or stage.polarity.upper()}",
+    d += q.at((0, 0)).anchor("base").label(f"Q1\n{_safe(stage.transistor.label) or stage.polarity.upper()}",
                                             loc="right", ofst=(0.35, 0))
     top_pin, bottom_pin = (q.collector, q.emitter) if npn else (q.emitter, q.collector)
     e_pin, c_pin = (q.emitter, q.collector)

@@ -291,3 +291,15 @@ def test_user_text_cannot_break_the_page(tmp_path):
     texts = page.svgs["schematic of the stage"]
     assert "Q<script>x</script>&\uff041\uff04" in texts  # shown as text; '$' by its look-alike
     assert "&lt;b&gt;R4&lt;/b&gt;" in out.read_text(encoding="utf-8")
+
+
+@pytest.mark.parametrize("r1, r2, rc", [("1M", "1k", "4k7"), ("10k", "47k", "47k")], ids=["cut-off", "saturated"])
+def test_a_stage_out_of_its_active_region_is_reported_not_hidden(tmp_path, r1, r2, rc):
+    # divider 1M/1k puts the base at 12 mV (cut off); 10k/47k with RC 47k saturates (VBE 0.65 V and
+    # VCE(sat) 0.2 V, common practice): either way there is no corner and the page says so
+    spec = tmp_path / "s.toml"
+    spec.write_text('topology = "common-emitter"\nsupply = "12 V"\n[transistor]\nhfe = 100\n[parts]\n'
+                    f'R1 = "{r1}"\nR2 = "{r2}"\nRE = "1k"\nRC = "{rc}"\nC1 = "10u"\nC2 = "10u"\n')
+    text = _report(tmp_path, spec, monte_carlo=50).read_text(encoding="utf-8")
+    assert "Not ready to build" in text and "Q1 state" in text
+    assert "50 of 50 builds: no value (not active)" in text

@@ -203,9 +203,14 @@ def histogram_svg(samples, *, unit: str, scale: float, axis_label: str, lines=()
     target far outside them is named at the edge with an arrow instead of squeezing the bars.
     """
     x = np.asarray(samples, float)
+    missing = int(np.count_nonzero(~np.isfinite(x)))
     x = x[np.isfinite(x)] * scale
     fig = _figure(4.0, 2.8)
     ax = fig.add_subplot()
+    if missing:
+        # builds outside the active region have no small-signal figures: say how many
+        ax.text(0.02, 0.98 if x.size else 0.5, f"{missing} of {missing + x.size} builds: no value (not active)",
+                transform=ax.transAxes, fontsize=7.5, va="top" if x.size else "center", color=PALETTE["accent"])
     lo, hi = (float(x.min()), float(x.max())) if x.size else (0.0, 1.0)
     span = max(hi - lo, abs(hi) * 1e-3, 1e-12)
     view_lo, view_hi = lo - 0.15 * span, hi + 0.15 * span

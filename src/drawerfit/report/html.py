@@ -336,6 +336,7 @@ def render_report(design: DesignFile, *, monte_carlo: int = 2000, seed: int = 0,
 <table><thead><tr><th>figure</th><th class="num">nominal</th><th class="num">lowest</th><th class="num">highest</th></tr></thead>
 <tbody>{summary}</tbody></table>
 <p class="note">Node voltages are to ground. Lowest and highest are taken over the corners of the tolerance, hFE and ambient box. Gain is signed: negative means the output is inverted.</p>
+<p><strong>Bench check:</strong> with the supply on and no signal, measure VB, VE and VC to ground; a stage built from these parts should read between the lowest and highest values above. A reading outside them points at a wrong part, a part fitted the wrong way round, or a transistor outside its stated hFE range.</p>
 </section>
 <section class="plots"><h2>Magnitude response</h2>
 <figure>{resp}<figcaption>Gain from the source to the load in dB over frequency, every coupling and bypass capacitor included. Dashed: the target corner.</figcaption></figure>

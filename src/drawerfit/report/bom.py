@@ -160,6 +160,7 @@ def write_bom_xlsx(design: DesignFile, out: str | Path) -> int:
     for cell in ws[1]:
         cell.font = Font(bold=True)
     _text_only(ws)
+    _fit_columns(ws)
     ws.freeze_panes = "A2"
     if design.pick_list:
         pl = wb.create_sheet("pick list")
@@ -171,8 +172,19 @@ def write_bom_xlsx(design: DesignFile, out: str | Path) -> int:
         for cell in pl[1]:
             cell.font = Font(bold=True)
         _text_only(pl)
+        _fit_columns(pl)
+        pl.freeze_panes = "A2"
     wb.save(out)
     return len(rows)
+
+
+def _fit_columns(ws) -> None:
+    # widths from the longest cell, so the sheet reads without resizing columns by hand
+    from openpyxl.utils import get_column_letter
+
+    for i, col in enumerate(ws.iter_cols(values_only=True), start=1):
+        width = max((len(str(v)) for v in col if v is not None), default=6)
+        ws.column_dimensions[get_column_letter(i)].width = min(max(width + 2, 6), 48)
 
 
 def _text_only(ws) -> None:

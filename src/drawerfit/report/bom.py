@@ -197,10 +197,26 @@ def _text_only(ws) -> None:
 
 
 def write_bom(design: DesignFile, out: str | Path) -> int:
-    """CSV or XLSX by the file's suffix; returns the number of part rows written."""
-    suffix = Path(out).suffix.lower()
-    if suffix == ".csv":
-        return write_bom_csv(design, out)
-    if suffix == ".xlsx":
-        return write_bom_xlsx(design, out)
-    raise SpecError(f"{out}: the parts list is written as .csv or .xlsx, not {suffix or 'a file with no suffix'}")
+    """CSV or XLSX by the file's suffix, written atomically; returns the number of part rows."""
+    import os
+    import tempfile
+
+    out = Path(out)
+    suffix = out.suffix.lower()
+    writer = {".csv": write_bom_csv, ".xlsx": write_bom_xlsx}.get(suffix)
+    if writer is None:
+        raise SpecError(f"{out}: the parts list is written as .csv or .xlsx, not {suffix or 'a file with no suffix'}")
+    # through a temporary file and a rename, so a failed run leaves no half-written list
+    fd, tmp = tempfile.mkstemp(prefix=".drawerfit-", suffix=suffix, dir=out.parent)
+    os.close(fd)
+    try:
+        rows = writer(design, tmp)
+        mask = os.umask(0)
+        os.umask(mask)
+        os.chmod(tmp, 0o666 & ~mask)
+        os.replace(tmp, out)
+    except BaseException:
+        if os.path.exists(tmp):
+            os.unlink(tmp)
+        raise
+    return rows

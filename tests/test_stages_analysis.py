@@ -146,7 +146,10 @@ def test_netlist_tunes_is_to_the_tool_vbe():
     # Diode law: IC = IS·(exp(VBE/VT) − 1) at 25 °C with VT from scipy.constants.
     ic = i_sat * math.expm1(float(f.vbe) / thermal_voltage(25.0))
     assert ic == pytest.approx(float(f.ic), rel=1e-6)
-    assert "RE2 n vcc 1200" in deck and "CE n vcc 0.00022" in deck and "RC 0 c 5600" in deck
+    # PNP: RE2 and CE return to the supply; CE's + end (first node) is the supply side.
+    assert "RE2 n vcc 1200" in deck and "RC 0 c 5600" in deck
+    assert "CE vcc n 0.00022  ; polarized: + end on the first node" in deck
+    assert "C1 b in " in deck and "C2 c out " in deck
     assert deck.rstrip().endswith(".end")
     no_load = Stage("emitter-follower", "npn", 12.0, follower().parts, Q)
     assert "RLEAK out 0" in stage_netlist(no_load)
@@ -157,3 +160,26 @@ def test_conditions_change_the_worst_case():
     narrow = analyse(s, Conditions(ambient_min=25, ambient_max=25))
     wide = analyse(s, Conditions(ambient_min=-20, ambient_max=70))
     assert float(wide.worst.high["ie"]) > float(narrow.worst.high["ie"])
+
+
+@pytest.mark.parametrize("make", [follower, pnp_ce,
+                                  lambda: follower(RE=Part(47, 0.05, 0.25)),
+                                  lambda: follower(C1=Part(22e-6, 0.2, 6.3, True))])
+def test_vectorised_rating_margins_agree_with_the_checks(make):
+    from drawerfit.analysis.targets import rating_margins
+
+    s = make()
+    a = analyse(s)
+    t = s.transistor
+    m = rating_margins(a.worst.low, a.worst.high, conditions=a.conditions, supply=s.supply,
+                       power_ratings={r: p.rating for r, p in s.parts.items()
+                                      if not r.startswith("C") and p.rating is not None},
+                       voltage_ratings={r: p.rating for r, p in s.parts.items()
+                                        if r.startswith("C") and p.rating is not None},
+                       polarized={r: p.polarized for r, p in s.parts.items() if r.startswith("C")},
+                       pd=t.pd, vceo=t.vceo, ic_max=t.ic_max)
+    checks = {c.name: c for c in a.checks}
+    assert m, "some ratings to compare"
+    for name, margin in m.items():
+        if name in checks:
+            assert (float(margin) >= 0) == checks[name].ok, name

@@ -14,7 +14,7 @@ from hypothesis import given, settings, strategies as st
 from drawerfit.analysis import core
 from drawerfit.analysis.core import (
     ACTIVE, CUTOFF, LIMIT_CUTOFF, LIMIT_SATURATION, SATURATED, evaluate, evaluate_dc,
-    low_corner, meets_corner, monte_carlo, worst_case,
+    low_corner, meets_corner, monte_carlo, worst_case, worst_case_by_signs,
 )
 from drawerfit.constants import thermal_voltage
 
@@ -60,7 +60,11 @@ def test_gain_rule_from_design_notes():
     f = evaluate_dc(topology="common-emitter", supply=12, r1=47e3, r2=10e3, re=220, re2=1e3,
                     rc=4.7e3, rl=10e3, hfe=HUGE_BETA, bypassed=True)
     rl_par = 4.7e3 * 10e3 / 14.7e3
-    assert float(f.gain_base) == pytest.approx(-rl_par / (float(f.re_small) + 220), rel=1e-9)
+    # By hand, base current neglected: VB = 12·10/57, IE = (VB − 0.65)/(220 + 1000), re = VT/IE.
+    ie = (12 * 10 / 57 - 0.65) / 1220
+    re = thermal_voltage(25) / ie
+    assert float(f.ie) == pytest.approx(ie, rel=1e-9)
+    assert float(f.gain_base) == pytest.approx(-rl_par / (re + 220), rel=1e-9)
     assert float(f.rout) == 4.7e3
 
 
@@ -282,6 +286,22 @@ def test_monte_carlo_is_seeded_and_inside_the_worst_case():
             assert np.all(vals <= hi + 1e-12 * abs(hi)), name
 
 
+def test_worst_case_vertices_against_a_dense_grid_common_emitter():
+    # Oracle: brute force over a 5-point grid per parameter of a small box.
+    tols = dict(r1=0.05, r2=0.05, rc=0.05, re2=0.05)
+    base = dict(topology="common-emitter", supply=12, r1=47e3, r2=10e3, re=220, re2=1e3,
+                rc=4.7e3, rs=600, rl=10e3, c1=10e-6, c2=10e-6, ce=100e-6)
+    wc = worst_case(tolerances=tols, hfe_min=100, hfe_max=300, **base)
+    g = 1 + 0.05 * np.linspace(-1, 1, 5)
+    R1, R2, RC, RE2, B = np.meshgrid(47e3 * g, 10e3 * g, 4.7e3 * g, 1e3 * g,
+                                     np.linspace(100, 300, 5), indexing="ij")
+    grid = evaluate(**{**base, "r1": R1, "r2": R2, "rc": RC, "re2": RE2}, hfe=B)
+    for name in ("ie", "vc", "gain", "rin", "swing_peak", "f_low"):
+        assert float(wc.low[name]) == pytest.approx(getattr(grid, name).min(), rel=1e-9), name
+        if name != "swing_peak":
+            assert float(wc.high[name]) == pytest.approx(getattr(grid, name).max(), rel=1e-9), name
+
+
 def test_worst_case_vertices_against_a_dense_grid():
     # Oracle: brute force over a 5-point grid per parameter of a small box.
     tols = dict(r1=0.05, r2=0.05, re=0.05)
@@ -295,3 +315,102 @@ def test_worst_case_vertices_against_a_dense_grid():
     for name in ("ie", "ve", "gain", "rin", "rout", "swing_peak", "f_low"):
         assert float(wc.low[name]) == pytest.approx(getattr(grid, name).min(), rel=1e-9), name
         assert float(wc.high[name]) == pytest.approx(getattr(grid, name).max(), rel=1e-9), name
+
+
+def test_worst_case_over_candidate_arrays():
+    # Batch of candidates == each candidate alone; meets_f_target == (worst f_low <= target).
+    rng = np.random.default_rng(5)
+    n = 40
+    r1 = rng.uniform(30e3, 70e3, n)
+    c1 = rng.uniform(0.5e-6, 10e-6, n)
+    kw = {**NOMINAL, "r1": r1, "c1": c1}
+    wc = worst_case(tolerances=TOLS, hfe_min=100, hfe_max=300, temp_min=0, temp_max=50,
+                    f_target=12.0, **kw)
+    fast = worst_case(tolerances=TOLS, hfe_min=100, hfe_max=300, temp_min=0, temp_max=50,
+                      corner=False, **kw)
+    assert "f_low" not in fast.low
+    np.testing.assert_array_equal(fast.low["ie"], wc.low["ie"])
+    active = wc.all_active
+    assert np.array_equal(wc.meets_f_target[active], (wc.high["f_low"] <= 12.0)[active])
+    assert 0 < wc.meets_f_target.sum() < n
+    for i in (0, 17, 39):
+        one = worst_case(tolerances=TOLS, hfe_min=100, hfe_max=300, temp_min=0, temp_max=50,
+                         **{**NOMINAL, "r1": r1[i], "c1": c1[i]})
+        for name in ("ie", "gain", "f_low", "swing_peak"):
+            assert wc.low[name][i] == pytest.approx(float(one.low[name]), rel=1e-6)
+            assert wc.high[name][i] == pytest.approx(float(one.high[name]), rel=1e-6)
+
+
+@pytest.mark.parametrize("topology", core.TOPOLOGIES)
+@pytest.mark.parametrize("polarity", core.POLARITIES)
+def test_worst_case_by_signs_equals_vertex_enumeration(topology, polarity):
+    # Oracle: full vertex enumeration (itself checked against a dense grid above).
+    rng = np.random.default_rng(9)
+    n = 300
+    ra, rb = rng.uniform(20e3, 80e3, n), rng.uniform(5e3, 15e3, n)
+    r1, r2 = (ra, rb) if polarity == "npn" else (rb, ra)
+    kw = dict(topology=topology, polarity=polarity, supply=12, r1=r1, r2=r2,
+              re=rng.uniform(100, 1e3, n), re2=1e3, rc=rng.uniform(2e3, 6e3, n), rs=600,
+              rl=rng.choice([220.0, 10e3, np.inf], n), c1=rng.uniform(1e-6, 10e-6, n), c2=10e-6,
+              ce=100e-6)
+    if topology == "emitter-follower":
+        kw.update(r1=kw["r1"] / 8, r2=kw["r2"] * (4 if polarity == "npn" else 1) / 8 * 2)
+    box = dict(tolerances=TOLS, hfe_min=80, hfe_max=320, temp_min=-10, temp_max=60)
+    full = worst_case(f_target=15.0, **box, **kw)
+    fast = worst_case_by_signs(corner=True, f_target=15.0, **box, **kw)
+    ok = full.all_active
+    assert ok.sum() > n // 2
+    np.testing.assert_array_equal(fast.all_active, full.all_active)
+    # IE and VCE are monotone in every parameter for both stages: exact.
+    for name in ("ie", "vce"):
+        np.testing.assert_allclose(fast.low[name][ok], full.low[name][ok], rtol=1e-9, err_msg=name)
+        np.testing.assert_allclose(fast.high[name][ok], full.high[name][ok], rtol=1e-9, err_msg=name)
+    # The other figures are not monotone in every parameter (R2 raises IE, so re falls, but it
+    # also lowers the divider's impedance; VCE falls as RC grows while RC∥RL rises), so the sign
+    # at the centre can pick the wrong end: the two methods differ by a few percent at most.
+    rtol = 5e-2
+    np.testing.assert_allclose(fast.low["swing_peak"][ok], full.low["swing_peak"][ok], rtol=rtol)
+    for name in ("gain", "rin", "rout"):
+        np.testing.assert_allclose(fast.low[name][ok], full.low[name][ok], rtol=rtol, err_msg=name)
+        np.testing.assert_allclose(fast.high[name][ok], full.high[name][ok], rtol=rtol, err_msg=name)
+    np.testing.assert_allclose(fast.high["f_low"][ok], full.high["f_low"][ok], rtol=rtol)
+    differ = ok & (fast.meets_f_target != full.meets_f_target)
+    assert np.all(np.abs(full.high["f_low"][differ] / 15.0 - 1) < rtol)
+
+
+def test_outer_broadcasting_of_resistors_against_capacitors():
+    # A search may score every divider against every capacitor: shapes (n, 1) × (1, m).
+    r1 = np.array([30e3, 47e3, 68e3])[:, None]
+    c1 = np.array([1e-6, 4.7e-6, 22e-6, 100e-6])[None, :]
+    dc = evaluate_dc(topology="common-emitter", supply=12, r1=r1, r2=10e3, re=220, re2=1e3,
+                     rc=4.7e3, rs=600, rl=10e3, hfe=150, bypassed=True)
+    c = low_corner(dc, c1=c1, c2=10e-6, ce=100e-6)
+    assert c.f_low.shape == (3, 4)
+    ok = meets_corner(dc, c1=c1, c2=10e-6, ce=100e-6, f_target=10.0)
+    assert ok.shape == (3, 4)
+    for i in range(3):
+        for j in range(4):
+            one = evaluate(topology="common-emitter", supply=12, r1=float(r1[i, 0]), r2=10e3, re=220,
+                           re2=1e3, rc=4.7e3, rs=600, rl=10e3, hfe=150, c1=float(c1[0, j]),
+                           c2=10e-6, ce=100e-6)
+            assert c.f_low[i, j] == pytest.approx(float(one.f_low), rel=1e-9)
+            assert ok[i, j] == (float(one.f_low) <= 10.0)
+
+
+@pytest.mark.parametrize("topology", core.TOPOLOGIES)
+def test_polynomial_magnitude_equals_the_complex_transfer(topology):
+    # Two independent reductions of the same circuit: the corner search's real polynomial
+    # factors against the complex impedance form (itself checked against scipy.signal).
+    rng = np.random.default_rng(3)
+    n = 500
+    dc = evaluate_dc(topology=topology, supply=12, r1=rng.uniform(20e3, 60e3, n), r2=10e3,
+                     re=rng.uniform(100, 1e3, n), re2=rng.uniform(0, 2e3, n), rc=4.7e3,
+                     rs=rng.choice([0.0, 600.0, 10e3], n), rl=rng.choice([47.0, 10e3, np.inf], n),
+                     hfe=rng.uniform(50, 400, n), bypassed=rng.random(n) < 0.5)
+    c1, c2 = rng.uniform(1e-7, 1e-4, n), rng.uniform(1e-6, 1e-3, n)
+    ce = np.where(dc.inputs["bypassed"], rng.uniform(1e-5, 1e-3, n), 0.0)
+    f = np.logspace(-2, 4, 13)[:, None]
+    h = core.transfer(dc, c1=c1, c2=c2, ce=ce, f=f)
+    mag = core._Magnitude(dc, c1, c2, ce)((2 * np.pi * f) ** 2)
+    act = np.broadcast_to(dc.state == ACTIVE, h.shape)
+    np.testing.assert_allclose(mag[act], (np.abs(h) ** 2)[act], rtol=1e-9)

@@ -197,7 +197,7 @@ def parse_spec(data: Mapping[str, Any], path: str = "<spec>", stock=None) -> Spe
 
 
 def _transistor(r: _Reader, data, polarity, stock):
-    from .constants import VBE_DEFAULT, VBE_TEMPCO, VCE_SAT_DEFAULT
+    from .constants import VBE_DEFAULT, VCE_SAT_DEFAULT
     from .stages import TransistorModel
 
     if "transistor" not in data:

@@ -64,14 +64,23 @@ wrdata ac.txt vm(out) vr(out) vm(b) mag(vs#branch)
 _PRINTED = re.compile(r"^\s*(?:\w+\.)?(\S+)\s*=\s*([-+0-9.eE]+)\s*$")
 
 
-def simulate(stage, workdir: Path, temp_c: float = 25.0) -> SimResult:
-    """Write the stage's netlist into ``workdir``, run ngspice on it, parse the results."""
+def simulate(stage, workdir: Path, temp_c: float = 25.0, sim_temp_c: float | None = None) -> SimResult:
+    """Write the stage's netlist into ``workdir``, run ngspice on it, parse the results.
+
+    ``sim_temp_c``: run the simulator at another temperature than the one IS was tuned at
+    (``temp_c``), leaving the temperature dependence to ngspice's own transistor model.
+    """
     from drawerfit.report.netlist import stage_netlist
 
     exe = require_ngspice()
     deck = workdir / "stage.cir"
     control = _CONTROL if stage.topology == "common-emitter" else _CONTROL.replace(" v(c)", "")
-    deck.write_text(stage_netlist(stage, temp_c=temp_c, control=control))
+    text = stage_netlist(stage, temp_c=temp_c, control=control)
+    if sim_temp_c is not None:
+        old = f".options TNOM={temp_c:.10g} TEMP={temp_c:.10g}"
+        assert old in text
+        text = text.replace(old, f".options TNOM={temp_c:.10g} TEMP={sim_temp_c:.10g}")
+    deck.write_text(text)
     run = subprocess.run([exe, "-b", deck.name], cwd=workdir, capture_output=True, text=True,
                          timeout=60)
     values = {}
@@ -126,3 +135,22 @@ def simulate_clipping(stage, workdir: Path, amplitude: float, freq: float = 20e3
         raise AssertionError(f"ngspice transient failed:\n{run.stdout}\n{run.stderr}")
     v = np.loadtxt(out)[:, 1]
     return float(v.max()), float(v.min())
+
+
+def simulate_rout(stage, workdir: Path) -> float:
+    """Output impedance seen by the load: source EMF at zero, the load replaced by a 1 A AC
+    current source into the output node, |v(out)| read far above every corner."""
+    from drawerfit.report.netlist import stage_netlist
+
+    exe = require_ngspice()
+    control = f"ac dec 10 {F_STOP / 10:g} {F_STOP:g}\nwrdata rout.txt vm(out)\n"
+    deck = stage_netlist(stage, control=control)
+    deck = re.sub(r"^(VS \S+ 0) DC 0 AC 1$", r"\1 DC 0 AC 0", deck, flags=re.M)
+    # Keep a DC path at the output node (a floating node makes the operating point fail).
+    deck = re.sub(r"^(RL|RLEAK) out 0 .*$", "IOUT 0 out DC 0 AC 1\nRLEAK out 0 1e12", deck, flags=re.M)
+    (workdir / "rout.cir").write_text(deck)
+    run = subprocess.run([exe, "-b", "rout.cir"], cwd=workdir, capture_output=True, text=True, timeout=60)
+    out = workdir / "rout.txt"
+    if not out.exists():
+        raise AssertionError(f"ngspice failed:\n{run.stdout}\n{run.stderr}")
+    return float(np.loadtxt(out)[-1, 1])

@@ -72,11 +72,14 @@ def stage_checks(stage, conditions, nominal, worst, targets: Targets | None) -> 
             else:
                 value = _lo(worst, fig) if side == "low" else _hi(worst, fig)
             word = "at least" if side == "low" else "at most"
-            shown = f"{value:.4g}" if unit == "" else format_si(value, unit)
+            if not np.isfinite(value):
+                shown = "no value (Q1 not active throughout)"
+            else:
+                shown = f"{value:.4g}" if unit == "" else format_si(value, unit)
             goal = f"{bound:.4g}" if unit == "" else format_si(bound, unit)
             ok = m >= 0
             msg = (f"worst case {shown}, target {word} {goal}"
-                   + ("" if ok else f" (missed by {abs(m) * 100:.3g} %)" if np.isfinite(m) else " (no value)"))
+                   + ("" if ok or not np.isfinite(m) else f" (missed by {abs(m) * 100:.3g} %)"))
             out.append(Check(f"target {name}", ok, value, bound, msg, unit, "target"))
 
     for role, attr in POWER_FIGURE.items():

@@ -22,8 +22,13 @@ rs=0, rl=inf, hfe, vbe=0.65, vce_sat=0.2, temp_c=25, vbe_tempco=-2e-3, i_sat=Non
     Both of the above; ``bypassed`` defaults to ``ce > 0``.
 ``transfer(dc, *, c1, c2, ce=0, f) -> complex array``
     Source-to-load voltage transfer at frequencies ``f`` (Hz), broadcast against the stage.
-``worst_case(*, tolerances, hfe_min, hfe_max, temp_min, temp_max, **nominal) -> WorstCase``
-    Lowest and highest of every figure over the corners of the tolerance box.
+``worst_case(*, tolerances, hfe_min, hfe_max, temp_min, temp_max, corner=True, f_target=None,
+names=None, **nominal) -> WorstCase``
+    Lowest and highest of every figure over the corners of the tolerance box (``f_target``:
+    also whether the corner meets it at every vertex).
+``worst_case_by_signs(*, tolerances, ..., names, corner=False, f_target=None, **nominal)``
+    The same from (k + 1) + 2·figures evaluations, choosing each figure's extreme vertex from
+    the signs of its changes at the centre of the box: for searches over many candidates.
 ``monte_carlo(n, *, seed, tolerances, hfe_min, hfe_max, temp_min, temp_max, **nominal) -> Figures``
     ``n`` seeded random builds of one nominal stage, evaluated in one vectorised call.
 
@@ -44,7 +49,10 @@ Conventions:
   small-signal figures have no meaning; ``gain`` and ``swing_peak`` are 0 there and ``rin`` is
   the divider alone.
 * ``swing_limit``: ``LIMIT_CUTOFF`` (0) or ``LIMIT_SATURATION`` (1), whichever bounds the
-  symmetric peak; ``LIMIT_NONE`` (-1) outside the active region.
+  symmetric peak; ``LIMIT_NONE`` (-1) outside the active region.  ``swing_up`` is the room at
+  the output away from the emitter's rail (upward for NPN, downward for PNP), ``swing_down``
+  toward it; ``swing_peak`` = max(0, min of the two) when active.
+* Powers ``p_r1``, ``p_r2``, ``p_re``, ``p_rc``, ``p_re2``, ``p_q`` are quiescent, in W.
 
 Model: Ebers-Moll transistor without Early effect, base resistance or junction capacitance;
 IC = hFE·IB; VBE fixed (``vbe`` at 25 °C) or, when ``i_sat`` is given, from the diode law
@@ -67,7 +75,8 @@ __all__ = [
     "LIMIT_NONE", "LIMIT_CUTOFF", "LIMIT_SATURATION", "LIMIT_NAMES",
     "TOPOLOGIES", "POLARITIES",
     "DCFigures", "Corners", "Figures", "WorstCase",
-    "evaluate_dc", "low_corner", "meets_corner", "evaluate", "transfer", "worst_case", "monte_carlo",
+    "evaluate_dc", "low_corner", "meets_corner", "evaluate", "transfer", "worst_case",
+    "worst_case_by_signs", "monte_carlo",
     "TOLERANCE_KEYS",
 ]
 
@@ -404,6 +413,64 @@ def _own_corners(dc: DCFigures, c1, c2, ce):
             np.broadcast_to(f_ce, shape))
 
 
+class _Magnitude:
+    """|H(f)|² of the stage as a ratio of real polynomials in x = ω², factored, per candidate.
+
+    From the same circuit as ``_Kernel``, multiplied through by the capacitor admittances:
+
+    follower:        H = (β+1)·C1·C2·s² / (q0 + q1·s + q2·s²)
+    common emitter:  H = −β·C1·C2·s²·(1 + s·CE·RE2) / ((p0 + p1·s + p2·s²)·(o0 + o1·s))
+
+    so |H|² = N(x)/D(x) with N, D products of small real factors (no complex arithmetic, and
+    no expanded polynomial whose terms could cancel).  Used by the corner search, which
+    evaluates it many times; ``transfer`` keeps the complex form.
+    """
+
+    def __init__(self, dc: DCFigures, c1, c2, ce, take=None, shape=None):
+        inp = dc.inputs
+        self.follower = inp["topology"] == "emitter-follower"
+
+        def arr(x):
+            x = np.asarray(x, float)
+            if take is None or x.ndim == 0:
+                return x
+            return np.broadcast_to(x, shape).reshape(-1)[take]
+
+        beta, rs, rbias, re, rl = (arr(inp[k]) for k in ("beta", "rs", "rbias", "re", "rl"))
+        c1, c2 = arr(c1), arr(c2)
+        rpi = (beta + 1.0) * arr(dc.re_small)
+        gb = 1.0 / rbias
+        gl = np.where(np.isfinite(rl), 1.0 / np.where(np.isfinite(rl), rl, 1.0), 0.0)
+        if self.follower:
+            gre = 1.0 / re
+            a0, a1 = gre * gl, c2 * (gre + gl)  # (emitter admittance)·(gl + s·C2)
+            d0, d1 = rpi * a0 + (beta + 1.0) * gl, rpi * a1 + (beta + 1.0) * c2
+            e0, e1 = gb * d0 + a0, gb * d1 + a1
+            self.q0 = e0
+            self.q1 = c1 * d0 + e1 + c1 * rs * e0
+            self.q2 = c1 * d1 + c1 * rs * e1
+            self.k = ((beta + 1.0) * c1 * c2) ** 2
+        else:
+            re2, grc, ce = arr(inp["re2"]), 1.0 / arr(inp["rc"]), arr(ce)
+            tau = ce * re2  # CE·RE2 (0 without bypass)
+            b0 = rpi + (beta + 1.0) * (re + re2)
+            b1 = tau * (rpi + (beta + 1.0) * re)
+            u0, u1 = gb * b0 + 1.0, gb * b1 + tau
+            self.q0 = u0
+            self.q1 = c1 * b0 + u1 + c1 * rs * u0
+            self.q2 = c1 * b1 + c1 * rs * u1
+            self.o0, self.o1 = grc * gl, c2 * (grc + gl)
+            self.tau2 = tau**2
+            self.k = (beta * c1 * c2) ** 2
+
+    def __call__(self, x):
+        """|H|² at x = ω² (rad²/s²)."""
+        den = (self.q0 - self.q2 * x) ** 2 + self.q1**2 * x
+        if self.follower:
+            return self.k * x * x / den
+        return self.k * x * x * (1.0 + self.tau2 * x) / (den * (self.o0**2 + self.o1**2 * x))
+
+
 def low_corner(dc: DCFigures, *, c1, c2, ce=0.0, rtol: float = 1e-7) -> Corners:
     """Whole-stage −3 dB low corner and each capacitor's own corner, Hz.
 
@@ -411,10 +478,11 @@ def low_corner(dc: DCFigures, *, c1, c2, ce=0.0, rtol: float = 1e-7) -> Corners:
     with every capacitor (not a sum of poles).  |H| rises monotonically with f for these
     high-pass networks, so the root of g(t) = ln|H(e^t)|² − ln(|H_mid|²/2) is bracketed in
     t = ln f and found by the Illinois variant of regula falsi, all candidates at once, to a
-    relative error of about ``rtol`` in f.  The bracket is [max/2, 2·sum] of the capacitors'
-    own corners (where the stage corner lies in practice), widened to [max/1e3, 1e3·sum] for
-    any candidate it does not bracket.  Only active candidates are computed.  Stages outside
-    the active region, or whose root is not in the wide bracket, get NaN.
+    relative error of about ``rtol`` in f; |H|² is evaluated as a ratio of real polynomial
+    factors (``_Magnitude``).  The bracket is [max/2, 2·sum] of the capacitors' own corners
+    (where the stage corner lies in practice), widened to [max/1e3, 1e3·sum] for any candidate
+    it does not bracket.  Only active candidates are computed.  Stages outside the active
+    region, or whose root is not in the wide bracket, get NaN.
     """
     c1 = np.asarray(c1, float)
     c2 = np.asarray(c2, float)
@@ -429,27 +497,27 @@ def low_corner(dc: DCFigures, *, c1, c2, ce=0.0, rtol: float = 1e-7) -> Corners:
     f_low = np.full(shape, np.nan)
     if take.size:
         with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-            kernel = _Kernel(dc, c1, c2, ce).subset(shape, take)
+            mag = _Magnitude(dc, c1, c2, ce, take, shape)
             gain = np.broadcast_to(dc.gain, shape).reshape(-1)[take]
             log_target = np.log(0.5) + 2.0 * np.log(np.abs(gain))
             fmax = f_max.reshape(-1)[take]
             fsum = f_sum.reshape(-1)[take]
-            roots = _illinois(kernel, log_target, np.log(0.5 * fmax), np.log(2.0 * fsum), rtol)
+            roots = _illinois(mag, log_target, np.log(0.5 * fmax), np.log(2.0 * fsum), rtol)
             missed = np.flatnonzero(np.isnan(roots))
             if missed.size:
-                wide = _illinois(kernel.subset(take.shape, missed), log_target[missed],
-                                 np.log(1e-3 * fmax[missed]), np.log(1e3 * fsum[missed]), rtol)
-                roots[missed] = wide
+                sub = _Magnitude(dc, c1, c2, ce, take[missed], shape)
+                roots[missed] = _illinois(sub, log_target[missed], np.log(1e-3 * fmax[missed]),
+                                          np.log(1e3 * fsum[missed]), rtol)
         f_low.reshape(-1)[take] = np.exp(roots)
     return Corners(f_low=f_low, f_c1=f_c1, f_c2=f_c2, f_ce=f_ce)
 
 
-def _illinois(kernel: "_Kernel", log_target, a, b, rtol: float, max_iter: int = 100):
-    """Root in t of ln|H(e^t)|² − log_target on [a, b] (flat arrays); NaN where not bracketed."""
+def _illinois(mag: "_Magnitude", log_target, a, b, rtol: float, max_iter: int = 100):
+    """Root in t = ln f of ln|H|² − log_target on [a, b] (flat arrays); NaN where not bracketed."""
+    w2 = _TWO_PI**2
 
     def g(t):
-        h = kernel(np.exp(t))
-        return np.log(h.real**2 + h.imag**2) - log_target
+        return np.log(mag(w2 * np.exp(2.0 * t))) - log_target
 
     ga, gb = g(a), g(b)
     ok = (ga < 0) & (gb > 0)
@@ -479,8 +547,7 @@ def meets_corner(dc: DCFigures, *, c1, c2, ce=0.0, f_target) -> np.ndarray:
     f_low ≤ f_target exactly when |H(f_target)|² ≥ |H_mid|²/2.  For filtering many candidates.
     """
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-        h = _Kernel(dc, c1, c2, ce)(np.asarray(f_target, float))
-        mag2 = h.real**2 + h.imag**2
+        mag2 = _Magnitude(dc, c1, c2, ce)((_TWO_PI * np.asarray(f_target, float)) ** 2)
         return (dc.state == ACTIVE) & (mag2 >= 0.5 * dc.gain**2)
 
 
@@ -492,7 +559,10 @@ def evaluate(*, c1, c2, ce=0.0, bypassed=None, **kwargs) -> Figures:
     if bypassed is None:
         bypassed = np.asarray(ce, float) > 0
     dc = evaluate_dc(bypassed=bypassed, **kwargs)
-    corners = low_corner(dc, c1=c1, c2=c2, ce=ce)
+    return _with_corners(dc, low_corner(dc, c1=c1, c2=c2, ce=ce))
+
+
+def _with_corners(dc: DCFigures, corners: Corners) -> Figures:
     shape = corners.f_low.shape
     values = {f.name: getattr(dc, f.name) for f in fields(DCFigures)}
     if shape != dc.shape:
@@ -520,27 +590,11 @@ class WorstCase:
     high: Mapping[str, np.ndarray]
     all_active: np.ndarray
     vertices: int
+    meets_f_target: np.ndarray | None = None  # corner ≤ f_target at every vertex (if asked)
 
 
-def worst_case(
-    *,
-    tolerances: Mapping[str, object],
-    hfe_min,
-    hfe_max,
-    temp_min=NOMINAL_TEMP_C,
-    temp_max=NOMINAL_TEMP_C,
-    **nominal,
-) -> WorstCase:
-    """Lowest and highest figures over part tolerances, the hFE range and the ambient range.
-
-    Vertex enumeration: every resistor with a non-zero tolerance at its two ends, hFE at
-    ``hfe_min`` and ``hfe_max``, temperature at both ends; the capacitors are held at their
-    lowest values (value·(1 − tol)), because every corner falls as capacitance grows.  Exact for
-    figures monotone in each parameter on the box, which the DC and mid-band figures are; for
-    the symmetric swing (a minimum of two monotone limits) the low end is exact.  The loop is
-    over the at most 2**7 vertices, each a vectorised call over all candidates.
-    ``tolerances`` maps parameter names (``TOLERANCE_KEYS``) to fractions (floats or arrays).
-    """
+def _box(tolerances, nominal, hfe_min, hfe_max, temp_min, temp_max):
+    """(nominal with capacitors at their low ends, [(parameter, (low end, high end)), ...])."""
     bad = set(tolerances) - set(TOLERANCE_KEYS)
     if bad:
         raise ValueError(f"no tolerance for {sorted(bad)}; use {TOLERANCE_KEYS}")
@@ -559,23 +613,173 @@ def worst_case(
             continue
         base = np.asarray(nominal[key], float)
         axes.append((key, (base * (1.0 - tol), base * (1.0 + tol))))
-    axes.append(("hfe", (hfe_min, hfe_max)))
+    axes.append(("hfe", (np.asarray(hfe_min, float), np.asarray(hfe_max, float))))
     if np.any(np.asarray(temp_min) != np.asarray(temp_max)):
-        axes.append(("temp_c", (temp_min, temp_max)))
+        axes.append(("temp_c", (np.asarray(temp_min, float), np.asarray(temp_max, float))))
     else:
         nominal["temp_c"] = temp_min
+    return nominal, axes
+
+
+def _split_caps(kw):
+    kw = dict(kw)
+    caps = {k: kw.pop(k) for k in _CAP_KEYS if k in kw}
+    bypassed = kw.pop("bypassed", None)
+    if bypassed is None:
+        bypassed = np.asarray(caps.get("ce", 0.0), float) > 0
+    return kw, caps, bypassed
+
+
+def worst_case_by_signs(
+    *,
+    tolerances: Mapping[str, object],
+    hfe_min,
+    hfe_max,
+    temp_min=NOMINAL_TEMP_C,
+    temp_max=NOMINAL_TEMP_C,
+    names=("ie", "vce", "gain", "rin", "rout", "swing_peak"),
+    corner: bool = False,
+    f_target=None,
+    **nominal,
+) -> WorstCase:
+    """The worst case of ``names`` from a few evaluations instead of every vertex: for searches.
+
+    The sign of each figure's change along each parameter is taken at the centre of the box
+    (one extra evaluation per parameter), and each figure is then evaluated at its own lowest
+    and highest vertex (chosen per candidate).  Equal to ``worst_case`` when every figure is
+    monotone in each parameter over the box (tests compare the two).  ``all_active`` is judged
+    at the vertices of lowest IE (cut-off comes first there) and lowest VCE (saturation).
+    ``swing_peak``'s low end is the lower of the two swing limits' low ends; its high end is
+    an upper bound.  ``corner``/``f_target``: the vertex that minimises |H(f)|/|H_mid| (at
+    ``f_target``, else at the centre's corner) gives ``high["f_low"]`` and ``meets_f_target``.
+    ``all_active`` is False also where the centre of the box is not active.
+    Costs (k + 1) + 2·(figures) DC evaluations for k parameters, against 2**k.
+
+    Measured against ``worst_case`` (tests/test_stages_core.py): IE and VCE agree exactly for
+    both stages; the other figures are not monotone in every parameter (R2 raises IE, so re
+    falls, but lowers the divider's impedance; VCE falls as RC grows while RC∥RL rises) and
+    differ by up to a few percent.  A search that uses this to prune should confirm its final
+    answer with ``worst_case``.
+    """
+    nominal, axes = _box(tolerances, nominal, hfe_min, hfe_max, temp_min, temp_max)
+    base, caps, bypassed = _split_caps(nominal)
+    centre = {key: 0.5 * (lo + hi) for key, (lo, hi) in axes}
+    dc_names = set(names) | {"ie", "vce"}
+    if "swing_peak" in dc_names:
+        dc_names |= {"swing_up", "swing_down"}
+    dc_names.discard("swing_peak")
+    dc_names = sorted(dc_names - {"f_low", "f_c1", "f_c2", "f_ce"})
+    want_corner = corner or f_target is not None
+
+    def run(kw):
+        return evaluate_dc(bypassed=bypassed, **{**base, **kw})
+
+    f0 = run(centre)
+    f_probe = None
+    if want_corner:
+        f_probe = (np.asarray(f_target, float) if f_target is not None
+                   else low_corner(f0, **caps).f_low)
+
+    def ratio(dc):
+        with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+            mag = _Magnitude(dc, caps.get("c1"), caps.get("c2"), caps.get("ce", 0.0))
+            return mag((_TWO_PI * f_probe) ** 2) / dc.gain**2
+
+    r0 = ratio(f0) if want_corner else None
+    signs: dict[tuple[str, str], np.ndarray] = {}
+    for key, (lo, hi) in axes:
+        f1 = run({**centre, key: centre[key] + 1e-4 * (hi - lo)})
+        for name in dc_names:
+            signs[key, name] = np.sign(getattr(f1, name) - getattr(f0, name))
+        if want_corner:
+            with np.errstate(invalid="ignore"):  # inactive candidates: NaN, judged by all_active
+                signs[key, "ratio"] = np.sign(ratio(f1) - r0)
+
+    def vertex(name, toward):  # toward = -1 for the low vertex, +1 for the high
+        return {key: np.where(toward * signs[key, name] > 0, hi, lo) for key, (lo, hi) in axes}
+
+    low: dict[str, np.ndarray] = {}
+    high: dict[str, np.ndarray] = {}
+    states = []
+    for name in dc_names:
+        f_lo = run(vertex(name, -1))
+        f_hi = run(vertex(name, +1))
+        low[name] = getattr(f_lo, name)
+        high[name] = getattr(f_hi, name)
+        if name in ("ie", "vce"):
+            states.append(f_lo.state == ACTIVE)
+    # Signs taken where the centre is not active say nothing; such a candidate fails anyway.
+    all_active = states[0] & states[1] & (f0.state == ACTIVE)
+    if "swing_peak" in names:
+        low["swing_peak"] = np.maximum(np.minimum(low["swing_up"], low["swing_down"]), 0.0)
+        high["swing_peak"] = np.maximum(np.minimum(high["swing_up"], high["swing_down"]), 0.0)
+    meets = None
+    if want_corner:
+        worst_dc = run(vertex("ratio", -1))
+        if f_target is not None:
+            meets = meets_corner(worst_dc, f_target=f_target, **caps)
+        if corner:
+            cor = low_corner(worst_dc, **caps)
+            high["f_low"] = cor.f_low
+    n_eval = 1 + len(axes) + 2 * len(dc_names) + (1 if want_corner else 0)
+    return WorstCase(low=low, high=high, all_active=all_active, vertices=n_eval,
+                     meets_f_target=meets)
+
+
+def worst_case(
+    *,
+    tolerances: Mapping[str, object],
+    hfe_min,
+    hfe_max,
+    temp_min=NOMINAL_TEMP_C,
+    temp_max=NOMINAL_TEMP_C,
+    corner: bool = True,
+    f_target=None,
+    names=None,
+    **nominal,
+) -> WorstCase:
+    """Lowest and highest figures over part tolerances, the hFE range and the ambient range.
+
+    Vertex enumeration: every resistor with a non-zero tolerance at its two ends, hFE at
+    ``hfe_min`` and ``hfe_max``, temperature at both ends; the capacitors are held at their
+    lowest values (value·(1 − tol)), because every corner falls as capacitance grows.  Exact for
+    figures monotone in each parameter on the box: currents, node voltages, VCE and powers.
+    Gain, impedances, swing and corner are not monotone in every parameter everywhere (R2 raises
+    IE but lowers the divider's impedance); over tolerance-sized boxes their extremes sat at
+    vertices in every case tested against a dense grid, which is evidence, not a proof.  The
+    loop is over the at most 2**7 vertices, each a vectorised call over all candidates.
+    ``tolerances`` maps parameter names (``TOLERANCE_KEYS``) to fractions (floats or arrays).
+
+    ``corner=False`` skips the corner search (DC and mid-band figures only, several times
+    faster); ``f_target`` (Hz) adds ``meets_f_target``, True where the whole-stage corner is at or
+    below it at every vertex, from one transfer evaluation per vertex (``meets_corner``), which
+    is how a search should test a corner target.  ``names`` limits the low/high reduction to
+    those figures (a search needs a handful, not all).  A vertex where the stage is not active yields
+    NaN corners, which the low/high reduction skips: check ``all_active``.
+    """
+    nominal, axes = _box(tolerances, nominal, hfe_min, hfe_max, temp_min, temp_max)
     n_vert = 2 ** len(axes)
     low: dict[str, np.ndarray] = {}
     high: dict[str, np.ndarray] = {}
     all_active = None
+    meets = None
     for v in range(n_vert):
         kw = dict(nominal)
         for bit, (key, ends) in enumerate(axes):
             kw[key] = ends[(v >> bit) & 1]
-        fig = evaluate(**kw)
+        kw, caps, bypassed = _split_caps(kw)
+        fig = evaluate_dc(bypassed=bypassed, **kw)
+        if corner:
+            cor = low_corner(fig, **caps)
+            fig = _with_corners(fig, cor)
+        if f_target is not None:
+            m = meets_corner(fig, f_target=f_target, **caps)
+            meets = m if meets is None else (meets & m)
         act = fig.state == ACTIVE
         all_active = act if all_active is None else (all_active & act)
-        for name in NUMERIC_FIELDS:
+        for name in (NUMERIC_FIELDS if names is None else names):
+            if not hasattr(fig, name) or getattr(fig, name) is None:
+                continue
             val = getattr(fig, name)
             if name in low:
                 low[name] = np.fmin(low[name], val)
@@ -583,7 +787,8 @@ def worst_case(
             else:
                 low[name] = np.array(val, copy=True)
                 high[name] = np.array(val, copy=True)
-    return WorstCase(low=low, high=high, all_active=all_active, vertices=n_vert)
+    return WorstCase(low=low, high=high, all_active=all_active, vertices=n_vert,
+                     meets_f_target=meets)
 
 
 def monte_carlo(

@@ -63,7 +63,13 @@ class Analysis:
 
     @property
     def warnings(self) -> tuple[Check, ...]:
-        return tuple(c for c in self.checks if c.ok is False)
+        """Failed checks, advice excluded."""
+        return tuple(c for c in self.checks if c.ok is False and c.kind != "advice")
+
+    @property
+    def notes(self) -> tuple[Check, ...]:
+        """Advice that did not hold (e.g. a divider that is not stiff): worth knowing, not a fault."""
+        return tuple(c for c in self.checks if c.ok is False and c.kind == "advice")
 
     def power(self) -> dict[str, float]:
         f = self.nominal

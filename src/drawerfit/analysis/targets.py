@@ -11,7 +11,7 @@ from typing import Mapping
 
 import numpy as np
 
-__all__ = ["Targets", "IE_WINDOW", "target_margins"]
+__all__ = ["Targets", "IE_WINDOW", "target_margins", "rating_margins"]
 
 # When a spec gives one IE, the window is ±10 % around it: our own default, wide enough for 5 %
 # resistors and a 2:1 hFE spread in a stiff divider, narrow enough to pin the operating point.
@@ -93,4 +93,48 @@ def target_margins(targets: Targets, low: Mapping[str, np.ndarray],
         with np.errstate(invalid="ignore", divide="ignore"):
             m = side * (np.asarray(val, float) - bound) / abs(bound)
         out[name] = np.where(np.isnan(m), -np.inf, m)
+    return out
+
+
+_POWER = {"R1": "p_r1", "R2": "p_r2", "RE": "p_re", "RC": "p_rc", "RE2": "p_re2"}
+_CAPV = {"C1": "v_c1", "C2": "v_c2", "CE": "v_ce"}
+
+
+def rating_margins(low: Mapping[str, np.ndarray], high: Mapping[str, np.ndarray], *, conditions,
+                   supply, power_ratings: Mapping[str, object] | None = None,
+                   voltage_ratings: Mapping[str, object] | None = None,
+                   polarized: Mapping[str, object] | None = None,
+                   pd=None, vceo=None, ic_max=None) -> dict[str, np.ndarray]:
+    """Relative margin of every rating check, vectorised: ≥ 0 within the rating, < 0 over.
+
+    The same rules as ``analyse``'s checks (analysis/checks.py), for candidate arrays:
+    resistor power (role → W rating) against ``conditions.resistor_derating``, Q1 power against
+    ``pd``·``transistor_derating``, the supply against ``vceo``, twice the highest IC against
+    ``ic_max``, each capacitor's largest DC voltage (role → V rating) against
+    ``cap_voltage_margin``.  ``polarized`` (role → bool array) adds "<role> polarity": +1 where
+    the DC voltage across keeps one sign over the box, −1 where it does not (only where
+    polarized).  ``low``/``high`` as from ``worst_case``.  Ratings may be arrays.
+    """
+    out: dict[str, np.ndarray] = {}
+    for role, rating in (power_ratings or {}).items():
+        limit = np.asarray(rating, float) * conditions.resistor_derating
+        out[f"{role} power"] = (limit - high[_POWER[role]]) / limit
+    if pd is not None:
+        limit = np.asarray(pd, float) * conditions.transistor_derating
+        out["Q1 power"] = (limit - high["p_q"]) / limit
+    if vceo is not None:
+        v = np.asarray(vceo, float)
+        out["Q1 VCEO"] = (v - supply) / v
+    if ic_max is not None:
+        i = np.asarray(ic_max, float)
+        out["Q1 IC max"] = (i - 2.0 * high["ic"]) / i
+    for role, rating in (voltage_ratings or {}).items():
+        attr = _CAPV[role]
+        v = np.maximum(np.abs(low[attr]), np.abs(high[attr]))
+        limit = np.asarray(rating, float) * conditions.cap_voltage_margin
+        out[f"{role} voltage"] = (limit - v) / limit
+    for role, flag in (polarized or {}).items():
+        attr = _CAPV[role]
+        one_sign = (np.sign(low[attr]) == np.sign(high[attr])) & (low[attr] != 0)
+        out[f"{role} polarity"] = np.where(np.asarray(flag, bool) & ~one_sign, -1.0, 1.0)
     return out

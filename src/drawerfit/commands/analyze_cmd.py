@@ -45,9 +45,17 @@ def _range(lo, hi, unit):
     return f"{_v(lo, unit)} … {_v(hi, unit)}"
 
 
-def summary_lines(result, spec, cautions) -> list[str]:
-    """The people's summary: warnings first, then the figures, then the cautions."""
+def summary_lines(result, spec=None, cautions=None) -> list[str]:
+    """The people's summary: warnings first, then the figures, then the cautions.
+
+    ``spec`` (optional) adds its title and the defaults it assumed; ``cautions`` default to
+    those that apply to ``result`` (design and report reuse this).
+    """
     from ..analysis.core import LIMIT_NAMES
+    from ..cautions import cautions_for
+
+    if cautions is None:
+        cautions = cautions_for(result, mains=bool(spec and spec.mains))
 
     s, f, w = result.stage, result.nominal, result.worst
     t = s.transistor
@@ -56,7 +64,7 @@ def summary_lines(result, spec, cautions) -> list[str]:
     head = f"{s.topology}, {s.polarity.upper()}, {_v(s.supply, 'V')} supply"
     head += f", source {_v(s.source_resistance, 'ohm')}" if s.source_resistance else ", ideal source"
     head += f", load {_v(s.load, 'ohm')}" if s.load is not None else ", no load"
-    out.append((spec.title + ": " if spec.title else "") + head)
+    out.append((spec.title + ": " if spec is not None and spec.title else "") + head)
     hfe = f"hFE {t.hfe_min:g}" if t.hfe_min == t.hfe_max else f"hFE {t.hfe_min:g}–{t.hfe_max:g} (nominal {t.hfe:.4g})"
     out.append(f"Q1 {t.label or '(unnamed)'}: {hfe}, VBE {_v(t.vbe, 'V')} at 25 °C")
     warnings = result.warnings
@@ -110,7 +118,9 @@ def summary_lines(result, spec, cautions) -> list[str]:
                    f"meet every target and rating {mc['meets_all']:.1%}")
         for name, frac in mc["meets"].items():
             out.append(f"  {name}: {frac:.1%}")
-    if spec.assumptions:
+    for ch in result.notes:
+        out.append(f"Note: {ch.name}: {ch.message}")
+    if spec is not None and spec.assumptions:
         out.append("Assumed: " + "; ".join(spec.assumptions))
     out.append("")
     out.append("Cautions")

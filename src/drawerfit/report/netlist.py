@@ -8,7 +8,6 @@ source and load as in the stage.
 
 from __future__ import annotations
 
-import math
 
 from ..constants import NOMINAL_TEMP_C
 from ..stages import Stage, saturation_current_for, topology_module
@@ -27,7 +26,8 @@ def stage_netlist(stage: Stage, *, temp_c: float = NOMINAL_TEMP_C, control: str 
     """The stage as a SPICE deck: supply, AC source (1 V, DC 0) with its resistance, parts, load.
 
     Nodes: vcc, src (source EMF), in (after the source resistance), b, e, c, n (RE/RE2
-    junction), out (load side of C2).  ``control`` is placed in a ``.control`` block when given
+    junction), out (load side of C2).  Each capacitor is written with its higher DC node first,
+    so for an electrolytic the first node is the + end.  ``control`` is placed in a ``.control`` block when given
     (for batch runs); the deck always ends with ``.end``.
     """
     from ..analysis.core import evaluate_dc
@@ -61,9 +61,14 @@ def stage_netlist(stage: Stage, *, temp_c: float = NOMINAL_TEMP_C, control: str 
         else:
             part = stage.parts[role]
             note = ""
-            if role.startswith("C") and part.polarized:
-                # SPICE ignores polarity; say which end is + for the person reading the deck.
-                note = "  ; polarized"
+            if role.startswith("C"):
+                # The higher DC node first, so the first node is the + end of an electrolytic.
+                stage_side = {"C1": "b", "C2": plus, "CE": "n"}[role]
+                other = minus if plus == stage_side else plus
+                higher = float(getattr(dc, "v_" + role.lower())) >= 0
+                plus, minus = (stage_side, other) if higher else (other, stage_side)
+                if part.polarized:
+                    note = "  ; polarized: + end on the first node"
             lines.append(f"{name} {plus} {minus} {_num(part.value)}{note}")
     if stage.load is not None:
         lines.append(f"RL out 0 {_num(stage.load)}")

@@ -29,7 +29,9 @@ TOPOLOGY_ROLES = {
 POLARIZED_FROM = 1e-6
 
 _TOP_KEYS = {"topology", "polarity", "supply", "source_resistance", "load", "mains", "pairs",
-             "transistor", "parts", "targets", "limits", "title"}
+             "transistor", "parts", "targets", "limits", "title", "bypass",
+             # written by `design --save` for take and report; analyze reads past them
+             "units", "stock_checksum", "stock_file", "pick_list", "design"}
 _TRANSISTOR_KEYS = {"label", "hfe", "hfe_min", "hfe_max", "vbe", "vce_sat", "vceo", "ic_max",
                     "pd", "i_sat", "vbe_tempco"}
 _TARGET_UNITS = {"ie": "A", "ie_min": "A", "ie_max": "A", "f_low": "Hz", "swing": "V",
@@ -61,6 +63,7 @@ class Spec:
     targets: Any = None  # analysis.targets.Targets
     conditions: Any = None  # stages.Conditions
     pairs: tuple[str, ...] = ()
+    bypass: bool = False  # design: common emitter with RE2 bypassed by CE
     title: str = ""
     assumptions: tuple[str, ...] = ()
 
@@ -179,6 +182,11 @@ def parse_spec(data: Mapping[str, Any], path: str = "<spec>", stock=None) -> Spe
     mains = data.get("mains", False)
     if not isinstance(mains, bool):
         raise r.fail("mains", mains, "expected true or false")
+    bypass = data.get("bypass", False)
+    if not isinstance(bypass, bool):
+        raise r.fail("bypass", bypass, "expected true or false")
+    if bypass and topology != "common-emitter":
+        raise r.fail("bypass", bypass, "only the common-emitter stage has a bypassed RE2")
     title = data.get("title", "")
     if not isinstance(title, str):
         raise r.fail("title", title, "expected text")
@@ -193,7 +201,7 @@ def parse_spec(data: Mapping[str, Any], path: str = "<spec>", stock=None) -> Spe
     return Spec(path=path, topology=topology, polarity=polarity, supply=supply,
                 source_resistance=rs, load=load, mains=mains, transistor=transistor,
                 transistor_label=label, parts=parts, targets=targets, conditions=conditions,
-                pairs=pairs, title=title, assumptions=tuple(r.assumptions))
+                pairs=pairs, bypass=bypass, title=title, assumptions=tuple(r.assumptions))
 
 
 def _transistor(r: _Reader, data, polarity, stock):

@@ -1,0 +1,183 @@
+"""``design``: the best stage the drawer can build for a spec, or why none, and what to buy.
+
+``design(problem, stock)`` returns a ``DesignResult``: its ``status`` ("optimal" or "infeasible"),
+the designs found (best first, with their objective keys), and for an infeasible problem the
+nearest design's failed constraints and a checked shopping list.  See ``engine`` for the
+objective and docs/method.md ("Design search") for the exactness argument.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from ..parts import Stock, StockLine
+from ..stages import Part, Stage, TransistorModel
+from .evaluate import Context
+from .engine import Found, search_transistor
+from .problem import DesignProblem
+from .tables import build_tables, with_default_ratings
+
+__all__ = ["design", "DesignResult", "DesignChoice", "transistor_model", "suitable_transistors"]
+
+
+@dataclass(frozen=True)
+class RoleChoice:
+    role: str
+    equivalent: object  # equivalents.Equivalent
+    tolerance: float
+    rating: float
+    margin: float | None = None  # voltage margin (capacitors)
+    orientation: str | None = None  # polarized capacitors: where the + end goes
+
+
+@dataclass(frozen=True)
+class DesignChoice:
+    """One design: the transistor line, a part choice per role, and its objective terms."""
+
+    transistor: StockLine
+    model: TransistorModel
+    roles: dict
+    part_count: int
+    distance: float
+    margin: float
+    stock_left: float
+    csum: float
+    bought: int
+    target_margins: dict
+    rating_margins: dict
+    key: tuple
+
+    def stage(self, problem: DesignProblem) -> Stage:
+        parts = {r: Part(c.equivalent.value, c.tolerance, c.rating, bool(c.equivalent.polarized))
+                 for r, c in self.roles.items()}
+        return Stage(problem.topology, problem.polarity, problem.supply, parts, self.model,
+                     problem.source_resistance, problem.load)
+
+    def uses(self) -> dict[int, tuple[StockLine, int]]:
+        """Stock lines and parts per unit, over all roles (and the transistor)."""
+        out: dict[int, list] = {self.transistor.index: [self.transistor, 1]}
+        for c in self.roles.values():
+            for line, n in c.equivalent.uses:
+                out.setdefault(line.index, [line, 0])[1] += n
+        return {k: (v[0], v[1]) for k, v in out.items()}
+
+
+@dataclass
+class DesignResult:
+    """What ``design`` found: status "optimal" or "infeasible", designs best first, and notes."""
+
+    problem: DesignProblem
+    status: str
+    designs: list
+    notes: list = field(default_factory=list)
+    reason: str = ""
+    nearest: dict | None = None
+    buy: list = field(default_factory=list)
+    buy_checked: bool = False
+    transistors_tried: list = field(default_factory=list)
+
+    @property
+    def feasible(self) -> bool:
+        return self.status == "optimal"
+
+    @property
+    def best(self) -> DesignChoice | None:
+        return self.designs[0] if self.designs else None
+
+
+def transistor_model(line: StockLine) -> TransistorModel:
+    from ..constants import VBE_DEFAULT, VCE_SAT_DEFAULT
+
+    return TransistorModel(
+        polarity=line.polarity, hfe_min=line.hfe_min, hfe_max=line.hfe_max,
+        vbe=line.vbe if line.vbe is not None else VBE_DEFAULT,
+        vce_sat=line.vce_sat if line.vce_sat is not None else VCE_SAT_DEFAULT,
+        vceo=line.vceo, ic_max=line.ic_max, pd=line.pd, label=line.label)
+
+
+def suitable_transistors(problem: DesignProblem, stock_lines) -> tuple[list[StockLine], list[str]]:
+    """Transistor lines the stage may use, and why the others may not."""
+    ok, why = [], []
+    for ln in stock_lines:
+        if ln.kind != "transistor":
+            continue
+        name = ln.label or f"row {ln.source.row}"
+        if problem.label is not None and ln.label.lower() != problem.label.lower():
+            continue
+        if ln.polarity != problem.polarity:
+            why.append(f"{name}: {ln.polarity or 'unknown'} polarity, the stage is {problem.polarity.upper()}")
+            continue
+        if ln.qty < problem.units:
+            why.append(f"{name}: {ln.qty} in stock, {problem.units} needed")
+            continue
+        if ln.hfe_min is None or ln.hfe_max is None:
+            why.append(f"{name}: no hFE range in the stock file")
+            continue
+        if ln.vceo is not None and ln.vceo < problem.supply:
+            why.append(f"{name}: VCEO {ln.vceo:g} V is below the {problem.supply:g} V supply")
+            continue
+        ok.append(ln)
+    return ok, why
+
+
+def _choice(problem: DesignProblem, ctx: Context, f: Found) -> DesignChoice:
+    b, pos, comp = f.batch, f.pos, f.completion
+    roles = {}
+    for r in ctx.res_roles:
+        t = b.tables[r]
+        i = int(b.idx[r][pos])
+        eq = t.table.equivalent(i)
+        roles[r] = RoleChoice(r, eq, float(t.tol[i]), float(t.rating[i]))
+    for r in ctx.cap_roles:
+        t, i = comp.caps[r]
+        eq = t.table.equivalent(i)
+        orient = None
+        if eq.polarized:
+            lo_v = float(b.ev.vnode[r][0][pos])
+            orient = "+ to the stage side" if lo_v > 0 else "+ to the outer side"
+        roles[r] = RoleChoice(r, eq, float(t.tol[i]), float(t.rating[i]), comp.cap_margins[r], orient)
+    tm = {k: float(a[pos]) for k, a in b.ev.target.items()}
+    rm = {k: float(a[pos]) for k, a in b.ev.rating.items()}
+    for r, m in comp.cap_margins.items():
+        rm[f"{r} voltage"] = m
+    key = f.key
+    return DesignChoice(
+        transistor=f.transistor, model=ctx.tr, roles={r: roles[r] for r in (*ctx.res_roles, *ctx.cap_roles)},
+        part_count=b.pr + comp.pc, distance=float(b.ev.distance[pos]),
+        margin=min(float(b.ev.margin_r[pos]), comp.margin_c),
+        stock_left=min(float(b.stock_left[pos]), comp.stock_left), csum=comp.csum,
+        bought=int(b.bought[pos]) + comp.bought, target_margins=tm, rating_margins=rm, key=key)
+
+
+def _run(problem: DesignProblem, lines, top: int, exhaustive: bool, virtual_ids=()):
+    res_lines = [ln for ln in lines if ln.kind == "resistor"]
+    cap_lines = [ln for ln in lines if ln.kind == "capacitor"]
+    rtables = build_tables(res_lines, "resistor", problem.max_parts, problem.units)
+    ctables = build_tables(cap_lines, "capacitor", problem.max_parts, problem.units)
+    trs, why = suitable_transistors(problem, lines)
+    found = []
+    for tr in trs:
+        ctx = Context(problem, transistor_model(tr))
+        for f in search_transistor(ctx, tr, rtables, ctables, lines, top, exhaustive=exhaustive,
+                                   virtual_ids=virtual_ids):
+            found.append((f, ctx))
+    found.sort(key=lambda fc: fc[0].key)
+    return [_choice(problem, ctx, f) for f, ctx in found[:top]], trs, why
+
+
+def design(problem: DesignProblem, stock: Stock, *, top: int = 1, exhaustive: bool = False,
+           suggest: bool = True) -> DesignResult:
+    """The ``top`` best designs from ``stock`` for ``problem`` (exhaustive: naive enumeration)."""
+    lines, notes = with_default_ratings(stock.lines)
+    designs, trs, why = _run(problem, lines, top, exhaustive)
+    result = DesignResult(problem, "optimal" if designs else "infeasible", designs, notes,
+                          transistors_tried=[t.label for t in trs])
+    if designs:
+        return result
+    from .shopping import explain_infeasible
+
+    explain_infeasible(result, lines, trs, why, suggest=suggest)
+    return result

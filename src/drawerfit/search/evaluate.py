@@ -1,0 +1,250 @@
+"""Judging candidate designs in bulk: worst case over the tolerance box, margins, distance to target.
+
+Both the pruned search and the naive enumeration (``exhaustive``) judge designs here, so they
+agree on what is feasible and on every figure of the objective.  The figures come from
+``analysis.core`` (``evaluate_dc`` and ``meets_corner``); this module only walks the vertices of
+the box (each resistor at value·(1 ± tol), hFE at its two ends, the ambient at its two ends) and
+turns figures into margins.  With ``guarantee = "nominal"`` the box shrinks to one point.
+"""
+
+from __future__ import annotations
+
+import itertools
+from dataclasses import dataclass
+from typing import Mapping
+
+import numpy as np
+
+from ..analysis import core
+from ..stages import TransistorModel
+from .problem import DesignProblem
+
+__all__ = ["Context", "ResistorEval", "evaluate_resistors", "vertex_dc", "cap_node", "nominal_distance"]
+
+CAP_NODE = {"C1": "v_c1", "C2": "v_c2", "CE": "v_ce"}
+_POWER = {"R1": "p_r1", "R2": "p_r2", "RE": "p_re", "RC": "p_rc", "RE2": "p_re2"}
+# The same rules and names as analyse's checks (analysis/targets.rating_margins).
+
+
+def cap_node(role: str) -> str:
+    return CAP_NODE[role]
+
+
+@dataclass(frozen=True)
+class Vertex:
+    """One corner of the box: 0 = low end, 1 = high end, per resistor role; hFE and ambient ends."""
+
+    res: Mapping[str, int]
+    hfe: float
+    temp: float
+    nominal: bool = False
+
+
+class Context:
+    """The fixed part of a search: problem, transistor, roles, vertices."""
+
+    def __init__(self, problem: DesignProblem, transistor: TransistorModel):
+        self.problem = problem
+        self.tr = transistor
+        self.res_roles, self.cap_roles = problem.roles
+        self.ra, self.rb = ("R1", "R2") if problem.polarity == "npn" else ("R2", "R1")
+        c = problem.conditions
+        self.t_lo, self.t_hi = c.ambient_min, c.ambient_max
+        self.vbe_at = lambda t: transistor.vbe + transistor.vbe_tempco * (t - c.nominal_temp)
+        self.vertices = self._vertices()
+        self.nominal = Vertex({r: -1 for r in self.res_roles}, transistor.hfe, c.nominal_temp, True)
+
+    def _vertices(self) -> list[Vertex]:
+        p, tr = self.problem, self.tr
+        if p.guarantee == "nominal":
+            return [Vertex({r: -1 for r in self.res_roles}, tr.hfe, p.conditions.nominal_temp, True)]
+        temps = (self.t_lo, self.t_hi) if self.t_hi > self.t_lo else (self.t_lo,)
+        hfes = (tr.hfe_min, tr.hfe_max) if tr.hfe_max > tr.hfe_min else (tr.hfe_min,)
+        # IE is highest with RA low, RB high, RE and RE2 low, hFE high, hot (VBE low); visit the two
+        # IE extremes first: most candidates that fail, fail there.
+        hi = {r: 1 for r in self.res_roles}
+        hi.update({self.ra: 0, "RE": 0, "RE2": 0, "RC": 0})
+        hi = {r: hi[r] for r in self.res_roles}
+        lo = {r: 1 - b for r, b in hi.items()}
+        first = [Vertex(hi, hfes[-1], temps[-1]), Vertex(lo, hfes[0], temps[0])]
+        out = list(first)
+        for bits in itertools.product((0, 1), repeat=len(self.res_roles)):
+            res = dict(zip(self.res_roles, bits))
+            for h in hfes:
+                for t in temps:
+                    v = Vertex(res, h, t)
+                    if not any(v == f for f in first):
+                        out.append(v)
+        return out
+
+    def dc_args(self, values: Mapping[str, np.ndarray]) -> dict:
+        p, tr = self.problem, self.tr
+        kw = dict(topology=p.topology, polarity=p.polarity, supply=p.supply,
+                  rs=p.source_resistance, rl=p.rl, vce_sat=tr.vce_sat, vbe=tr.vbe,
+                  vbe_tempco=tr.vbe_tempco, bypassed=p.bypass and p.topology == "common-emitter")
+        for role in self.res_roles:
+            kw[role.lower()] = values[role]
+        return kw
+
+
+def _pick(vertex: Vertex, role: str, v, tol):
+    b = vertex.res[role]
+    if b < 0:
+        return v
+    return v * (1 - tol) if b == 0 else v * (1 + tol)
+
+
+def vertex_dc(ctx: Context, vertex: Vertex, v: Mapping[str, np.ndarray], tol: Mapping[str, np.ndarray]):
+    """``core.evaluate_dc`` at one vertex for arrays of resistor values and tolerances."""
+    vals = {r: _pick(vertex, r, v[r], tol[r]) for r in ctx.res_roles}
+    return core.evaluate_dc(**ctx.dc_args(vals), hfe=vertex.hfe, temp_c=vertex.temp)
+
+
+@dataclass
+class ResistorEval:
+    """Worst-case judgement of resistor sets (arrays over the sets that were kept).
+
+    ``keep`` indexes the input arrays; ``target`` and ``rating`` map constraint names to their
+    smallest relative margin over the box; ``vnode`` maps C1/C2/CE to (lowest, highest) signed DC
+    voltage; ``distance`` is the normalised distance of the nominal figures to the target centres;
+    ``margin_r`` the smallest rating margin; ``nominal`` holds nominal IE and |gain|.
+    """
+
+    keep: np.ndarray
+    target: dict
+    rating: dict
+    active: np.ndarray
+    vnode: dict
+    distance: np.ndarray
+    margin_r: np.ndarray
+    nominal: dict
+
+
+def _target_margins(ctx: Context, dc) -> dict[str, np.ndarray]:
+    t = ctx.problem.targets
+    ie = dc.ie
+    out = {"ie_min": (ie - t.ie_min) / t.ie_min, "ie_max": (t.ie_max - ie) / t.ie_max}
+    if t.swing is not None:
+        out["swing"] = (dc.swing_peak - t.swing) / t.swing
+    if t.rin_min is not None:
+        out["rin_min"] = (dc.rin - t.rin_min) / t.rin_min
+    if t.rout_max is not None:
+        out["rout_max"] = (t.rout_max - dc.rout) / t.rout_max
+    g = np.abs(dc.gain)
+    if t.gain_min is not None:
+        out["gain_min"] = (g - t.gain_min) / t.gain_min
+    if t.gain_max is not None:
+        out["gain_max"] = (t.gain_max - g) / t.gain_max
+    return out
+
+
+def _rating_margins(ctx: Context, dc, ratings: Mapping[str, np.ndarray]) -> dict[str, np.ndarray]:
+    c, tr = ctx.problem.conditions, ctx.tr
+    out = {}
+    for role in ctx.res_roles:
+        allowed = c.resistor_derating * ratings[role]
+        out[f"{role} power"] = (allowed - getattr(dc, _POWER[role])) / allowed
+    if tr.pd is not None:
+        allowed = c.transistor_derating * tr.pd
+        out["Q1 power"] = (allowed - dc.p_q) / allowed
+    if tr.vceo is not None:
+        out["Q1 VCEO"] = np.full(dc.ic.shape, (tr.vceo - ctx.problem.supply) / tr.vceo)
+    if tr.ic_max is not None:
+        out["Q1 IC max"] = (tr.ic_max - 2.0 * dc.ic) / tr.ic_max  # twice IC, as analyse checks it
+    return out
+
+
+def evaluate_resistors(ctx: Context, v: Mapping[str, np.ndarray], tol: Mapping[str, np.ndarray],
+                       ratings: Mapping[str, np.ndarray], *, drop: bool = True) -> ResistorEval:
+    """Judge resistor sets at every vertex; with ``drop`` the failing ones are left out as soon as
+    they fail (their margins are then not complete), else every set is judged at every vertex."""
+    n = len(next(iter(v.values()))) if v else 0
+    alive = np.arange(n)
+    tmin: dict[str, np.ndarray] = {}
+    rmin: dict[str, np.ndarray] = {}
+    vlo = {r: np.full(n, np.inf) for r in ctx.cap_roles}
+    vhi = {r: np.full(n, -np.inf) for r in ctx.cap_roles}
+    active = np.ones(n, bool)
+    for vert in ctx.vertices:
+        if not len(alive):
+            break
+        sub = {r: v[r][alive] for r in ctx.res_roles}
+        subt = {r: tol[r][alive] for r in ctx.res_roles}
+        dc = vertex_dc(ctx, vert, sub, subt)
+        act = dc.state == core.ACTIVE
+        active[alive] &= act
+        tm = _target_margins(ctx, dc)
+        rm = _rating_margins(ctx, dc, {r: ratings[r][alive] for r in ctx.res_roles})
+        for d, src in ((tmin, tm), (rmin, rm)):
+            for name, m in src.items():
+                m = np.where(act, m, -np.inf)
+                if name not in d:
+                    d[name] = np.full(n, np.inf)
+                d[name][alive] = np.minimum(d[name][alive], m)
+        for role in ctx.cap_roles:
+            x = getattr(dc, CAP_NODE[role])
+            vlo[role][alive] = np.minimum(vlo[role][alive], x)
+            vhi[role][alive] = np.maximum(vhi[role][alive], x)
+        if drop:
+            ok = act.copy()
+            for name in tm:
+                ok &= tmin[name][alive] >= 0
+            for name in rm:
+                ok &= rmin[name][alive] >= 0
+            alive = alive[ok]
+    if drop:
+        keep = alive
+    else:
+        keep = np.arange(n)
+    # nominal figures: the distance to the target centres
+    sub = {r: v[r][keep] for r in ctx.res_roles}
+    subt = {r: tol[r][keep] for r in ctx.res_roles}
+    distance, nominal = nominal_distance(ctx, sub, subt, figures=True)
+    rating = {k: a[keep] for k, a in rmin.items()}
+    margin_r = np.min(np.stack(list(rating.values())), axis=0) if rating else np.full(len(keep), np.inf)
+    return ResistorEval(
+        keep=keep, target={k: a[keep] for k, a in tmin.items()}, rating=rating, active=active[keep],
+        vnode={r: (vlo[r][keep], vhi[r][keep]) for r in ctx.cap_roles}, distance=distance,
+        margin_r=margin_r, nominal=nominal)
+
+
+def nominal_distance(ctx: Context, v, tol, figures: bool = False):
+    """D: √Σ((x − centre)/half-width)² over the two-sided targets, at the nominal point."""
+    n = len(next(iter(v.values())))
+    dcn = vertex_dc(ctx, ctx.nominal, v, tol)
+    nominal = {"ie": dcn.ie, "gain": np.abs(dcn.gain)}
+    dist2 = np.zeros(n)
+    for name, (centre, half) in ctx.problem.targets.centres().items():
+        dist2 = dist2 + ((nominal[name] - centre) / half) ** 2
+    distance = np.sqrt(dist2)
+    return (distance, nominal) if figures else distance
+
+
+def cap_margin(lo_v, hi_v, rating, polarized, margin_fraction):
+    """Voltage margin of capacitors (arrays broadcast) at a node whose DC voltage spans [lo_v, hi_v].
+
+    A polarized part needs one sign over the whole box (it is fitted with its + end towards the
+    higher end); otherwise -inf.  Margin = (fraction·rating − |V|max) / (fraction·rating).
+    """
+    allowed = margin_fraction * rating
+    vmax = np.maximum(np.abs(lo_v), np.abs(hi_v))
+    m = (allowed - vmax) / allowed
+    one_sign = (lo_v > 0) | (hi_v < 0)
+    return np.where(polarized & ~one_sign, -np.inf, m)
+
+
+def corner_ok(ctx: Context, dcs: list, caps: Mapping[str, np.ndarray]) -> np.ndarray:
+    """Whole-stage corner at or below the target at every vertex (``dcs``: DCFigures per vertex)."""
+    f = ctx.problem.targets.f_low
+    ok = None
+    for dc in dcs:
+        m = core.meets_corner(dc, c1=caps["C1"], c2=caps["C2"], ce=caps.get("CE", 0.0), f_target=f)
+        ok = m if ok is None else (ok & m)
+    return ok
+
+
+def lowest_caps(ctx: Context, values: Mapping[str, np.ndarray], tols: Mapping[str, np.ndarray]):
+    """The capacitor values the corner is judged at: the low end of the tolerance (nominal: as is)."""
+    if ctx.problem.guarantee == "nominal":
+        return dict(values)
+    return {r: values[r] * (1 - tols[r]) for r in values}

@@ -1,0 +1,140 @@
+"""The design problem: what the stage must do, what it is judged by, and which shapes are allowed.
+
+A ``DesignProblem`` is what the search needs from a design spec, in SI units: the circuit
+around the stage (topology, polarity, supply, source and load), the targets, the limits
+(derating, capacitor voltage margin, ambient range) and the search settings (roles that may be
+pairs, most parts per role, units to build, the guarantee and the preference).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field, replace
+
+from ..parts import SpecError
+from ..stages import Conditions
+
+__all__ = ["DesignTargets", "DesignProblem", "IE_WINDOW", "GUARANTEES", "PREFERENCES", "roles_of"]
+
+# A spec that gives one IE gets the window ie·(1 ± 10 %): our own default, wide enough for 5 %
+# resistors and a 2:1 hFE spread in a stiff divider, narrow enough to pin the operating point.
+IE_WINDOW = 0.10
+GUARANTEES = ("worst-case", "nominal")
+PREFERENCES = ("fewest-parts", "closest")
+
+_RESISTORS = {"emitter-follower": ("R1", "R2", "RE"), "common-emitter": ("R1", "R2", "RE", "RC")}
+_CAPACITORS = {"emitter-follower": ("C1", "C2"), "common-emitter": ("C1", "C2")}
+
+
+def roles_of(topology: str, bypass: bool) -> tuple[tuple[str, ...], tuple[str, ...]]:
+    """(resistor roles, capacitor roles) of a topology; ``bypass`` adds RE2 and CE (common emitter)."""
+    res, caps = _RESISTORS[topology], _CAPACITORS[topology]
+    if bypass and topology == "common-emitter":
+        return res + ("RE2",), caps + ("CE",)
+    return res, caps
+
+
+@dataclass(frozen=True)
+class DesignTargets:
+    """Targets in SI units; None means no target.
+
+    ``ie_min``/``ie_max`` bound the emitter current (A); ``f_low`` is the highest allowed whole-stage
+    −3 dB corner (Hz); ``swing`` the least symmetric output peak into the load (V); ``rin_min``,
+    ``rout_max`` in ohm; ``gain_min``/``gain_max`` bound the magnitude of the source-to-load gain.
+    """
+
+    ie_min: float
+    ie_max: float
+    f_low: float | None = None
+    swing: float | None = None
+    rin_min: float | None = None
+    rout_max: float | None = None
+    gain_min: float | None = None
+    gain_max: float | None = None
+
+    def __post_init__(self) -> None:
+        if not (0 < self.ie_min <= self.ie_max and math.isfinite(self.ie_max)):
+            raise SpecError(f"[targets]: need 0 < ie_min <= ie_max (got {self.ie_min}, {self.ie_max})")
+        for name in ("f_low", "swing", "rin_min", "rout_max", "gain_min", "gain_max"):
+            v = getattr(self, name)
+            if v is not None and not (v > 0 and math.isfinite(v)):
+                raise SpecError(f"[targets]: {name} must be positive, not {v!r}")
+        if self.gain_min is not None and self.gain_max is not None and self.gain_min > self.gain_max:
+            raise SpecError("[targets]: gain_min is above gain_max")
+
+    def centres(self) -> dict[str, tuple[float, float]]:
+        """Two-sided windows as (centre, half width): IE always, gain when both ends are given."""
+        out = {"ie": (0.5 * (self.ie_min + self.ie_max), 0.5 * (self.ie_max - self.ie_min))}
+        if self.gain_min is not None and self.gain_max is not None:
+            out["gain"] = (0.5 * (self.gain_min + self.gain_max), 0.5 * (self.gain_max - self.gain_min))
+        return out
+
+    def to_dict(self) -> dict:
+        return {k: getattr(self, k) for k in self.__dataclass_fields__}
+
+
+@dataclass(frozen=True)
+class DesignProblem:
+    """Everything the search needs, in SI units (resistances ohm, supply V).
+
+    ``pairs`` lists the roles that may be made of several parts (up to ``max_parts``); the others
+    take single parts.  ``label`` restricts the transistor to stock lines of that label.
+    """
+
+    topology: str
+    polarity: str
+    supply: float
+    targets: DesignTargets
+    conditions: Conditions = field(default_factory=Conditions)
+    source_resistance: float = 0.0
+    load: float | None = None
+    bypass: bool = False
+    label: str | None = None
+    pairs: tuple[str, ...] | None = None  # None: every role
+    max_parts: int = 2
+    units: int = 1
+    guarantee: str = "worst-case"
+    prefer: str = "fewest-parts"
+
+    def __post_init__(self) -> None:
+        if self.topology not in _RESISTORS:
+            raise SpecError(f"topology must be emitter-follower or common-emitter, not {self.topology!r}")
+        if self.polarity not in ("npn", "pnp"):
+            raise SpecError(f"polarity must be npn or pnp, not {self.polarity!r}")
+        if not (self.supply > 0 and math.isfinite(self.supply)):
+            raise SpecError("the supply must be a positive voltage")
+        if self.guarantee not in GUARANTEES:
+            raise SpecError(f"--guarantee must be one of {', '.join(GUARANTEES)}")
+        if self.prefer not in PREFERENCES:
+            raise SpecError(f"--prefer must be one of {', '.join(PREFERENCES)}")
+        if not 1 <= self.max_parts <= 3:
+            raise SpecError("--max-parts must be 1, 2 or 3")
+        if self.units < 1:
+            raise SpecError("--units must be at least 1")
+        if self.targets.f_low is None:
+            raise SpecError("[targets]: f_low is needed to choose the capacitors")
+        gain_given = self.targets.gain_min is not None or self.targets.gain_max is not None
+        if gain_given and self.topology == "emitter-follower":
+            raise SpecError("[targets]: gain_min/gain_max apply to the common-emitter stage")
+        res, caps = self.roles
+        if self.pairs is not None:
+            bad = sorted(set(self.pairs) - set(res) - set(caps))
+            if bad:
+                raise SpecError(f"[design] pairs: this stage has no role {', '.join(bad)}")
+
+    @property
+    def roles(self) -> tuple[tuple[str, ...], tuple[str, ...]]:
+        return roles_of(self.topology, self.bypass)
+
+    def counts_for(self, role: str) -> tuple[int, ...]:
+        """The part counts a role may take."""
+        if self.pairs is not None and role not in self.pairs:
+            return (1,)
+        return tuple(range(1, self.max_parts + 1))
+
+    @property
+    def rl(self) -> float:
+        return math.inf if self.load is None else self.load
+
+    def with_(self, **changes) -> "DesignProblem":
+        return replace(self, **changes)

@@ -321,7 +321,7 @@ def render_report(design: DesignFile, *, monte_carlo: int = 2000, seed: int = 0,
 {verdict}
 <section class="cautions"><h2>Before you build</h2><ul>{cautions}</ul></section>
 <section><h2>Schematic</h2>
-<figure class="schematic">{schem}<figcaption>Designators and chosen values (IEC 60062 letter code). Electrolytics are drawn with their + end where the DC voltage puts it. Supply {_e(format_si(stage.supply, 'V', 3))}, single rail.</figcaption></figure>
+<figure class="schematic">{schem}<figcaption>Designators and chosen values (IEC 60062 letter code). Electrolytics are drawn with their + end where the DC voltage puts it. Supply {_e(format_si(stage.supply, 'V', 3))}, single rail. Pin order differs between transistor packages: find emitter, base and collector of the part in hand before fitting it.</figcaption></figure>
 </section>
 <section><h2>Checks</h2>
 <p class="note">Each figure is judged at its worst case over part tolerances, the hFE range ({stage.transistor.hfe_min:g} to {stage.transistor.hfe_max:g}) and the ambient range ({design.conditions.ambient_min:g} to {design.conditions.ambient_max:g} °C); the margin is the distance to the limit as a share of the limit (positive: room left). Advice is a rule of thumb, not a requirement.</p>

@@ -159,3 +159,20 @@ def test_bom_needs_csv_or_xlsx(tmp_path):
     res = CliRunner().invoke(main, ["export", str(FOLLOWER), "--bom", str(out)])
     assert res.exit_code == 2 and ".csv or .xlsx" in res.stderr
     assert not out.exists()
+
+
+def test_export_refuses_one_file_for_both_outputs_and_the_design_itself(tmp_path):
+    copy = tmp_path / "design.toml"
+    copy.write_bytes(FOLLOWER.read_bytes())
+    before = copy.read_bytes()
+    same = tmp_path / "x.csv"
+    res = CliRunner().invoke(main, ["export", str(copy), "--netlist", str(same), "--bom", str(same)])
+    assert res.exit_code == 2 and "different files" in res.stderr and not same.exists()
+    res = CliRunner().invoke(main, ["export", str(copy), "--netlist", str(copy)])
+    assert res.exit_code == 2 and "input file" in res.stderr
+    assert copy.read_bytes() == before
+
+
+def test_export_needs_something_to_write():
+    res = CliRunner().invoke(main, ["export", str(FOLLOWER)])
+    assert res.exit_code == 2 and "--netlist" in res.stderr

@@ -303,7 +303,8 @@ def render_report(design: DesignFile, *, monte_carlo: int = 2000, seed: int = 0,
         stock_bits.append(f"parts from <code>{_e(design.stock_file)}</code>")
     if stock_note:
         stock_bits.append(_e(stock_note))
-    units = f"{design.units} unit{'s' if design.units != 1 else ''}" if design.is_design else "single stage"
+    units = (f"{design.units} unit{'s' if design.units != 1 else ''}" if design.is_design or design.units > 1
+             else "single stage")
     summary = "".join(f"<tr><td>{_e(a)}</td><td class='num'>{b}</td><td class='num'>{c}</td>"
                       f"<td class='num'>{d}</td></tr>" for a, b, c, d in _summary_rows(fig, worst, design))
     cautions = "".join(f"<li>{_e(c)}</li>" for c in figs.cautions)

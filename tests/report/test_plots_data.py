@@ -61,3 +61,18 @@ def test_dc_load_line_passes_through_the_quiescent_point(tmp_path):
         vq, iq = data["q"]
         on_line = y0 + (vq - x0) * (y1 - y0) / (x1 - x0)
         assert on_line == pytest.approx(iq, rel=1e-9), d.path
+
+
+def test_every_random_build_lies_within_the_reported_range(tmp_path):
+    # property: each Monte Carlo build is a point inside the tolerance box, so its figures must
+    # lie between the lowest and highest the report gives (corner: capacitors at either end)
+    from drawerfit.report.figures import gather
+
+    for d in [load_design(p) for p in (FOLLOWER, CE_PNP)] + [load_design(write_spec(tmp_path, "ce-npn-re2-bypassed"))]:
+        f = gather(d, monte_carlo=3000, seed=3)
+        corner = f.mc.f_low[np.isfinite(f.mc.f_low)]
+        assert corner.min() >= f.lowest_f_low * (1 - 1e-9), d.path
+        assert corner.max() <= float(f.worst.high["f_low"]) * (1 + 1e-9), d.path
+        assert f.lowest_f_low < float(f.nominal.f_low) < float(f.worst.high["f_low"])
+        assert f.mc.ie.min() >= float(f.worst.low["ie"]) * (1 - 1e-9)
+        assert f.mc.ie.max() <= float(f.worst.high["ie"]) * (1 + 1e-9)

@@ -53,6 +53,7 @@ class ReportFigures:
     checks: list[Check] = field(default_factory=list)
     cautions: list[str] = field(default_factory=list)
     mc_fraction: Mapping[str, float] = field(default_factory=dict)
+    lowest_f_low: float = float("nan")  # the corner with every capacitor at its high end
 
     @property
     def nominal(self):
@@ -105,6 +106,18 @@ def gather(design: DesignFile, *, monte_carlo: int = 2000, seed: int = 0,
         mc = core.monte_carlo(int(monte_carlo), seed=seed, tolerances=tolerances, hfe_min=t.hfe_min,
                               hfe_max=t.hfe_max, temp_min=cond.ambient_min, temp_max=cond.ambient_max,
                               **stage.core_arguments())
+    # analysis.core's worst case holds the capacitors at their low ends, which bounds the corner
+    # from above only; the same vertex search with them at their high ends bounds it from below.
+    tolerances = {k: v for k, v in stage.tolerances().items() if k in core.TOLERANCE_KEYS}
+    kw_high = dict(stage.core_arguments())
+    for cap in ("c1", "c2", "ce"):
+        tol = tolerances.get(cap, 0.0)
+        if kw_high.get(cap):
+            kw_high[cap] = kw_high[cap] * (1.0 + tol) / (1.0 - tol)
+    t = stage.transistor
+    high_caps = core.worst_case(tolerances=tolerances, hfe_min=t.hfe_min, hfe_max=t.hfe_max,
+                                temp_min=cond.ambient_min, temp_max=cond.ambient_max, **kw_high)
+    lowest_f_low = float(high_caps.low["f_low"])
     margins = {}
     if targets is not None:
         margins = {k: np.asarray(v) for k, v in target_margins(
@@ -135,4 +148,4 @@ def gather(design: DesignFile, *, monte_carlo: int = 2000, seed: int = 0,
         if targets is not None or frac:
             frac["all"] = float(analysis.monte_carlo.get("meets_all", float("nan")))
     return ReportFigures(analysis=analysis, mc=mc, mc_runs=monte_carlo, seed=seed, checks=checks,
-                         cautions=cautions, mc_fraction=frac)
+                         cautions=cautions, mc_fraction=frac, lowest_f_low=lowest_f_low)

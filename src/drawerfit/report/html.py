@@ -125,7 +125,7 @@ def _share_name(key: str, design: DesignFile) -> str:
     return key.replace(" power", " within its derated power")
 
 
-def _summary_rows(fig, worst, design: DesignFile) -> list[tuple[str, str, str, str]]:
+def _summary_rows(fig, worst, design: DesignFile, lowest_f_low: float) -> list[tuple[str, str, str, str]]:
     pnp = design.stage.polarity == "pnp"
     rows = [
         ("VB, base to ground", "vb", "V"), ("VE, emitter to ground", "ve", "V"),
@@ -139,6 +139,8 @@ def _summary_rows(fig, worst, design: DesignFile) -> list[tuple[str, str, str, s
     for label, key, unit in rows:
         nom = float(getattr(fig, key))
         lo, hi = float(worst.low[key]), float(worst.high[key])
+        if key == "f_low":
+            lo = lowest_f_low
         if unit is None:
             out.append((label, f"{nom:.3g}", f"{lo:.3g}", f"{hi:.3g}"))
         else:
@@ -306,7 +308,7 @@ def render_report(design: DesignFile, *, monte_carlo: int = 2000, seed: int = 0,
     units = (f"{design.units} unit{'s' if design.units != 1 else ''}" if design.is_design or design.units > 1
              else "single stage")
     summary = "".join(f"<tr><td>{_e(a)}</td><td class='num'>{b}</td><td class='num'>{c}</td>"
-                      f"<td class='num'>{d}</td></tr>" for a, b, c, d in _summary_rows(fig, worst, design))
+                      f"<td class='num'>{d}</td></tr>" for a, b, c, d in _summary_rows(fig, worst, design, figs.lowest_f_low))
     cautions = "".join(f"<li>{_e(c)}</li>" for c in figs.cautions)
     on_step(note="writing")
     doc = f"""<!DOCTYPE html>

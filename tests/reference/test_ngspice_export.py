@@ -1,14 +1,18 @@
-"""The exported netlist simulates to the tool's operating point.
+"""The exported netlist simulates to the tool's operating point and response.
 
 Expected values: ngspice (batch mode, Debian package) run on the deck `drawerfit export
 --netlist` writes, with a .control block added that prints the node voltages and the
-transistor's currents.  Target from the issue: IE and VE within 1.5 %.
+transistor's currents, and sweeps the response.  Targets from the issues: IE and VE within
+1.5 %, mid-band gain within 2 %, the -3 dB corner within 5 %.
 """
 
 from __future__ import annotations
 
+import math
 import re
 import subprocess
+
+import numpy as np
 
 import pytest
 from click.testing import CliRunner
@@ -18,7 +22,7 @@ from drawerfit.cli import main
 from drawerfit.report.design_file import load_design
 
 from ..report.helpers import CE_PNP, FOLLOWER, PLAIN, VARIANTS, write_spec
-from .spice_harness import require_ngspice
+from .spice_harness import _corner, require_ngspice
 
 pytestmark = pytest.mark.ngspice
 
@@ -26,6 +30,8 @@ _CONTROL = """.control
 option reltol=1e-7 abstol=1e-15 vntol=1e-9
 op
 print v(e) v(b) @q1[ic] @q1[ib]
+ac dec 200 1e-3 1e6
+wrdata ac.txt vm(out) vr(out)
 .endc
 """
 _PRINTED = re.compile(r"^\s*(?:\w+\.)?(\S+)\s*=\s*([-+0-9.eE]+)\s*$")
@@ -63,6 +69,11 @@ def test_exported_netlist_gives_the_tools_operating_point(tmp_path, source):
     ie_sim = abs(sim["@q1[ic]"]) + abs(sim["@q1[ib]"])
     assert ie_sim == pytest.approx(float(fig.ie), rel=0.015)
     assert sim["v(e)"] == pytest.approx(float(fig.ve), rel=0.015)
+    data = np.loadtxt(tmp_path / "ac.txt")
+    freq, mag, real = data[:, 0], data[:, 1], data[:, 3]
+    gain = math.copysign(mag[-1], real[-1])
+    assert gain == pytest.approx(float(fig.gain), rel=0.02)
+    assert _corner(freq, mag, mag[-1]) == pytest.approx(float(fig.f_low), rel=0.05)
 
 
 def test_netlist_carries_the_ratings_and_says_where_parts_come_from(tmp_path):

@@ -185,3 +185,25 @@ def test_any_letter_code_value_reads_back(mant, exp):
     spec = parse_spec({"topology": "emitter-follower", "supply": 12, "transistor": {"hfe": 100},
                        "parts": {"R1": code, "R2": "10k", "RE": "1k", "C1": "1u", "C2": "10u"}})
     assert spec.parts["R1"].value == pytest.approx(value, rel=1e-12)
+
+
+def test_examples_in_the_docs_and_samples_load():
+    # The documented examples must stay valid: every complete ```toml block of
+    # docs/spec-format.md and the sample specs.
+    import re
+    import tomllib
+    from pathlib import Path
+
+    root = Path(__file__).resolve().parents[1]
+    doc = (root / "docs" / "spec-format.md").read_text(encoding="utf-8")
+    blocks = [b for b in re.findall(r"```toml\n(.*?)```", doc, flags=re.S) if "topology" in b]
+    assert blocks
+    for block in blocks:
+        spec = parse_spec(tomllib.loads(block), "docs/spec-format.md")
+        assert spec.kind == "design" and spec.targets.ie_min == pytest.approx(22.5e-3)
+        assert spec.transistor is None and spec.transistor_label == "LabNPN-S1"
+    for sample in ("follower_bench.toml",):
+        assert load_spec(root / "inventory_samples" / sample).stage()
+    # The PNP sample names its transistor by label: without a stock it says what it needs.
+    with pytest.raises(SpecError, match="needs --stock"):
+        load_spec(root / "inventory_samples" / "ce_repair_pnp.toml")

@@ -45,8 +45,8 @@ _PART_KEYS = {"value", "tolerance", "rating", "polarized"}
 class Spec:
     """A parsed spec; values in SI units.  ``parts`` is empty for a design spec.
 
-    ``transistor`` is None when the spec leaves the choice to the stock (design), and
-    ``transistor_label`` names a stock line when given.  ``pairs`` lists the roles that may be
+    ``transistor`` is None when the spec leaves the choice to the stock (design), or names a
+    stock line by ``transistor_label`` and no stock was given to resolve it.  ``pairs`` lists the roles that may be
     built from two parts (design).  ``assumptions`` says which defaults were applied.
     """
 
@@ -191,7 +191,7 @@ def parse_spec(data: Mapping[str, Any], path: str = "<spec>", stock=None) -> Spe
     if not isinstance(title, str):
         raise r.fail("title", title, "expected text")
 
-    transistor, label = _transistor(r, data, polarity, stock)
+    transistor, label = _transistor(r, data, polarity, stock, design="parts" not in data)
     parts = _parts(r, data, topology)
     targets = _targets(r, data, Targets, IE_WINDOW)
     conditions = _limits(r, data, Conditions)
@@ -204,7 +204,7 @@ def parse_spec(data: Mapping[str, Any], path: str = "<spec>", stock=None) -> Spe
                 pairs=pairs, bypass=bypass, title=title, assumptions=tuple(r.assumptions))
 
 
-def _transistor(r: _Reader, data, polarity, stock):
+def _transistor(r: _Reader, data, polarity, stock, design: bool = False):
     from .constants import VBE_DEFAULT, VCE_SAT_DEFAULT
     from .stages import TransistorModel
 
@@ -241,6 +241,9 @@ def _transistor(r: _Reader, data, polarity, stock):
         only = "hfe_min" if "hfe_min" in fields else "hfe_max"
         raise r.fail(f"transistor.{only}", t.get(only), "give both hfe_min and hfe_max (or one hfe)")
     if "hfe_min" not in fields:
+        if label is not None and stock is None and design:
+            # A design spec names a stock line; the design command resolves it with its stock.
+            return None, label.strip()
         if label is not None and stock is None:
             raise r.fail("transistor.label", label, "needs --stock to look up its hFE (or give hfe here)")
         if label is not None:

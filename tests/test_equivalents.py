@@ -84,10 +84,14 @@ def test_window_holds_exactly_what_brute_force_finds(drawer, lo, ratio):
     lines = build(kind, spec)
     scale = 1.0 if kind == "resistor" else 1e-9
     lo, hi = lo * scale, lo * ratio * scale
-    ref = {(_key(v), ids, form) for v, ids, form in brute_force(lines, units) if lo <= v <= hi}
+    every = brute_force(lines, units)
+    # a value on the window's edge may round either way in floating point: such edge cases may or may
+    # not be found; everything strictly inside must be, and nothing outside
+    eps = 1e-9
+    strict = {(_key(v), ids, form) for v, ids, form in every if lo * (1 + eps) <= v <= hi * (1 - eps)}
+    loose = {(_key(v), ids, form) for v, ids, form in every if lo * (1 - eps) <= v <= hi * (1 + eps)}
     got = table_set(equivalents_in_window(lines, lo, hi, max_parts=3, units=units))
-    # a set comparison: every brute-force equivalent is found, and nothing else
-    assert got == ref
+    assert strict <= got <= loose
 
 
 @settings(max_examples=150, deadline=None)

@@ -143,7 +143,77 @@ def analyze(spec, stock_file, as_json, monte_carlo, seed) -> None:
 # --- design (optimizer) and demo -------------------------------------------------------------
 
 
+@main.command()
+@click.argument("spec", type=click.Path(dir_okay=False))
+@click.option("--stock", "stock_file", required=True, type=click.Path(dir_okay=False), help="Stock file (CSV or XLSX).")
+@click.option("--units", type=click.IntRange(1), default=1, show_default=True, help="How many stages to build.")
+@click.option("--max-parts", type=click.IntRange(1, 3), default=2, show_default=True,
+              help="Most parts per role (2: pairs, 3: triples).")
+@click.option("--guarantee", type=click.Choice(["worst-case", "nominal"]), default="worst-case", show_default=True,
+              help="Hold the constraints over tolerances, hFE and ambient, or at the nominal point only.")
+@click.option("--prefer", type=click.Choice(["fewest-parts", "closest"]), default="fewest-parts", show_default=True,
+              help="Fewest parts first, or closest to the target centres first.")
+@click.option("--top", type=click.IntRange(1), default=1, show_default=True, help="Show this many designs.")
+@click.option("--json", "as_json", is_flag=True, help="Print the design as JSON (SI units).")
+@click.option("--save", type=click.Path(dir_okay=False), default=None, help="Write an analyze-ready DESIGN.toml.")
+@click.option("--exhaustive", is_flag=True, help="Enumerate every candidate naively (slow; for cross-checks).")
+@click.option("--report", type=click.Path(dir_okay=False), default=None, help="Write an HTML report.")
+@click.option("--quiet", is_flag=True, help="Shorter output; no stock notes.")
+@click.option("--strict", is_flag=True, help="Fail (exit 2) if any stock line cannot be read.")
+@user_errors
+def design(spec, stock_file, units, max_parts, guarantee, prefer, top, as_json, save, exhaustive, report, quiet,
+           strict) -> None:
+    """Design the stage in SPEC (TOML with [targets]) from the parts in the stock file."""
+    from .commands.design_cmd import run_design
+
+    run_design(spec, stock_file, units=units, max_parts=max_parts, guarantee=guarantee, prefer=prefer, top=top,
+               as_json=as_json, save=save, exhaustive=exhaustive, report=report, quiet=quiet, strict=strict)
+
+
+@main.command()
+@user_errors
+def demo() -> None:
+    """Design a bench buffer and a gain stage from the sample teaching-lab drawer (writes nothing)."""
+    from .commands.design_cmd import run_demo
+
+    run_demo()
+
+
 # --- kit and take (parts lists, stock updates) -----------------------------------------------
+
+
+@main.command()
+@click.argument("parts_list", metavar="LIST", type=click.Path(dir_okay=False))
+@click.option("--stock", "stock_file", required=True, type=click.Path(dir_okay=False), help="Stock file.")
+@click.option("--units", type=click.IntRange(1), default=1, show_default=True, help="How many boards to build.")
+@click.option("--max-parts", type=click.IntRange(1, 3), default=2, show_default=True,
+              help="Most parts combined to make one value.")
+@click.option("--time-limit", type=click.FloatRange(0.1), default=30.0, show_default=True,
+              help="Seconds the allocation may take; past it the best found is shown, marked not proven.")
+@click.option("--json", "as_json", is_flag=True, help="Print the result as JSON (save it for `take`).")
+@user_errors
+def kit(parts_list, stock_file, units, max_parts, time_limit, as_json) -> None:
+    """Fill a parts list (CSV or XLSX) from the drawer for N units and list what to buy."""
+    from .commands.kit_cmd import run_kit_cmd
+
+    run_kit_cmd(parts_list, stock_file, units=units, max_parts=max_parts, time_limit=time_limit,
+                as_json=as_json)
+
+
+@main.command()
+@click.argument("pick_file", metavar="DESIGN.toml|KIT.json", required=False, type=click.Path(dir_okay=False))
+@click.option("--stock", "stock_file", required=True, type=click.Path(dir_okay=False), help="Stock file to change.")
+@click.option("--units", type=click.IntRange(1), default=None, help="Units to take (default: as saved).")
+@click.option("--dry-run", is_flag=True, help="Show what would change; change nothing.")
+@click.option("--undo", is_flag=True, help="Put back the last take recorded for the stock file.")
+@click.option("--json", "as_json", is_flag=True, help="Print what changed as JSON.")
+@user_errors
+def take(pick_file, stock_file, units, dry_run, undo, as_json) -> None:
+    """Take a design's or kit's parts out of the stock file (backup, lock, log, atomic write)."""
+    from .commands.take_cmd import run_take_cmd
+
+    run_take_cmd(pick_file, stock_file, units=units, dry_run=dry_run, undo=undo, as_json=as_json)
+
 
 
 # --- report and export -----------------------------------------------------------------------

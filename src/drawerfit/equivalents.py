@@ -244,10 +244,23 @@ def _dedupe(t: EquivalentTable) -> EquivalentTable:
     b + (a ∥ c) when a and b are two lines of one value), keeping the first."""
     if len(t) < 2:
         return t
+    # one exact integer key for (form, lines with counts): the (up to) three parts as sorted line
+    # indices with repeats, 20 bits each, and the form in the top bits
+    flat = np.where(t.counts[:, :, None] > np.arange(3)[None, None, :], t.members[:, :, None], -1).reshape(len(t), 9)
+    flat = np.sort(flat, axis=1)[:, -3:]  # the (up to) three parts, as line indices with repeats
+    if flat.max(initial=0) >= (1 << 20) - 1:
+        raise ValueError("more than a million stock lines")
+    slot = np.where(flat < 0, (1 << 20) - 1, flat).astype(np.int64)
+    key = (t.form.astype(np.int64) << 60) | (slot[:, 0] << 40) | (slot[:, 1] << 20) | slot[:, 2]
     # the same lines combined the same way give bit-identical floats, so the bits are a fair key
-    key = np.column_stack([t.form, t.members, t.counts, np.ascontiguousarray(t.value, np.float64).view(np.int64)])
-    _, first = np.unique(key, axis=0, return_index=True)
-    return t.take(np.sort(first)) if len(first) < len(t) else t
+    bits = np.ascontiguousarray(t.value, np.float64).view(np.int64)
+    order = np.lexsort((np.arange(len(t)), bits, key))
+    ks, bs = key[order], bits[order]
+    first = np.ones(len(t), bool)
+    first[1:] = (ks[1:] != ks[:-1]) | (bs[1:] != bs[:-1])
+    if first.all():
+        return t
+    return t.take(np.sort(order[first]))
 
 
 def _concat(kind: str, tables: list[EquivalentTable], lines: dict[int, StockLine]) -> EquivalentTable:
@@ -325,6 +338,91 @@ def _inverse(outer_recip: bool, a, target):
 # --- public entry points ---------------------------------------------------------------------
 
 
+class EquivalentIndex:
+    """The single parts and the sorted pair tables of one kind, built once and searched many times.
+
+    Building the pairs is the costly step (all i <= j of the pool); a parts list or a design
+    search asks many windows of the same drawer, so they keep one index per kind and units.
+    """
+
+    def __init__(self, lines: Sequence[StockLine], units: int = 1):
+        self.units = units
+        self.pool = _pool(lines, units)
+        self._pairs: dict[bool, _Pairs] = {}
+
+    @property
+    def kind(self) -> str:
+        return self.pool.kind
+
+    def pairs(self, recip: bool) -> _Pairs:
+        if recip not in self._pairs:
+            self._pairs[recip] = _pairs(self.pool, recip, self.units)
+        return self._pairs[recip]
+
+    def window(self, lo: float, hi: float, *, max_parts: int = 2, min_rating: float | None = None,
+               allow_polarized_series: bool = True) -> EquivalentTable:
+        """Every equivalent whose nominal value lies in [lo, hi]."""
+        pool = self.pool
+        tables = []
+        if len(pool.v):
+            tables.append(_singles(pool, (pool.v >= lo) & (pool.v <= hi)))
+        if max_parts >= 2 and len(pool.v):
+            for recip in (False, True):
+                pr = self.pairs(recip)
+                first, last = np.searchsorted(pr.v, lo, side="left"), np.searchsorted(pr.v, hi, side="right")
+                tables.append(_pair_table(pool, pr, recip, slice(first, last)))
+                if max_parts >= 3:
+                    for outer_recip in (False, True):
+                        ta, tk = _window_pairs(pool, pr, outer_recip, lo, hi)
+                        tables.append(_triples(pool, pr, recip, outer_recip, ta, tk, self.units))
+        table = _dedupe(_concat(pool.kind, tables, pool.lines))
+        return _filter(table, min_rating, allow_polarized_series, None)
+
+    def nearest(self, target: float, k: int, *, max_parts: int = 2, min_rating: float | None = None,
+                allow_polarized_series: bool = True,
+                exclude_window: tuple[float, float] | None = None) -> EquivalentTable:
+        """The k equivalents with the smallest |relative error| to ``target`` (ties: tighter tolerance).
+
+        Exact without enumerating triples: for each single part and triple form the error grows
+        monotonically away from the pair value that would hit the target, so neighbours on the
+        sorted pair array are examined outward until the k-th best found beats every unexamined
+        candidate.  ``exclude_window`` leaves out equivalents whose value lies in that window.
+        """
+        pool = self.pool
+        if not len(pool.v):
+            return _concat(pool.kind, [], pool.lines)
+        opts = (min_rating, allow_polarized_series, exclude_window)
+        singles = _best(_filter(_singles(pool), *opts), target, k)
+        recips = (False, True) if max_parts >= 2 else ()
+        longest = max([len(self.pairs(r).v) for r in recips] + [1])
+        # the k best are spread over the pairs and, for triples, over len(pool) single parts and
+        # four forms: start narrow and widen until the k-th best beats every unexamined candidate
+        pair_span = 2 * k
+        span = max(4, -(-2 * k // len(pool.v)))
+        while True:
+            found = [singles]
+            bound = np.inf
+            for recip in recips:
+                pr = self.pairs(recip)
+                centre = int(np.searchsorted(pr.v, target))
+                lo_i, hi_i = max(0, centre - pair_span), min(len(pr.v), centre + pair_span)
+                found.append(_filter(_pair_table(pool, pr, recip, slice(lo_i, hi_i)), *opts))
+                for edge in (lo_i - 1, hi_i):
+                    if 0 <= edge < len(pr.v):
+                        bound = min(bound, abs(pr.v[edge] / target - 1.0))
+                if max_parts >= 3:
+                    for outer_recip in (False, True):
+                        t, b = _neighbour_triples(pool, pr, recip, outer_recip, target, span, self.units)
+                        found.append(_filter(t, *opts))
+                        bound = min(bound, b)
+            best = _best(_dedupe(_concat(pool.kind, found, pool.lines)), target, k)
+            kth = abs(best.value[-1] / target - 1.0) if len(best) == k else np.inf
+            if kth <= bound or (span >= longest and pair_span >= longest) or not recips:
+                return best
+            span *= 4
+            pair_span *= 4
+
+
 def equivalents(lines: Sequence[StockLine], *, max_parts: int = 2, units: int = 1) -> EquivalentTable:
     """Every equivalent of one kind: singles, pairs, and (max_parts=3) every triple.
 
@@ -337,26 +435,17 @@ def equivalents_in_window(lines: Sequence[StockLine], lo: float, hi: float, *, m
                           units: int = 1, min_rating: float | None = None,
                           allow_polarized_series: bool = True) -> EquivalentTable:
     """Every equivalent whose nominal value lies in [lo, hi], feasible in stock for ``units`` builds."""
-    pool = _pool(lines, units)
-    tables = []
-    if len(pool.v):
-        tables.append(_singles(pool, (pool.v >= lo) & (pool.v <= hi)))
-    if max_parts >= 2 and len(pool.v):
-        for recip in (False, True):
-            pr = _pairs(pool, recip, units)
-            first, last = np.searchsorted(pr.v, lo, side="left"), np.searchsorted(pr.v, hi, side="right")
-            tables.append(_pair_table(pool, pr, recip, slice(first, last)))
-            if max_parts >= 3:
-                for outer_recip in (False, True):
-                    ta, tk = _window_pairs(pool, pr, outer_recip, lo, hi)
-                    tables.append(_triples(pool, pr, recip, outer_recip, ta, tk, units))
-    table = _dedupe(_concat(pool.kind, tables, pool.lines))
-    keep = np.ones(len(table), bool)
-    if min_rating is not None:
-        keep &= table.rating >= min_rating * (1 - 1e-12)
-    if not allow_polarized_series:
-        keep &= ~table.polarized_series
-    return table.take(np.flatnonzero(keep)) if not keep.all() else table
+    return EquivalentIndex(lines, units).window(lo, hi, max_parts=max_parts, min_rating=min_rating,
+                                                allow_polarized_series=allow_polarized_series)
+
+
+def nearest(lines: Sequence[StockLine], target: float, k: int, *, max_parts: int = 2, units: int = 1,
+            min_rating: float | None = None, allow_polarized_series: bool = True,
+            exclude_window: tuple[float, float] | None = None) -> EquivalentTable:
+    """The k equivalents nearest ``target``; see ``EquivalentIndex.nearest``."""
+    return EquivalentIndex(lines, units).nearest(target, k, max_parts=max_parts, min_rating=min_rating,
+                                                 allow_polarized_series=allow_polarized_series,
+                                                 exclude_window=exclude_window)
 
 
 def _window_pairs(pool: _Pool, pr: _Pairs, outer_recip: bool, lo: float, hi: float):
@@ -385,46 +474,6 @@ def _ranges(owner: np.ndarray, start: np.ndarray, stop: np.ndarray) -> tuple[np.
     offsets = np.repeat(stop - lens.cumsum(), lens)  # start_i - (cumulative before i)
     k = np.arange(total) + offsets
     return a.astype(np.int64), k.astype(np.int64)
-
-
-def nearest(lines: Sequence[StockLine], target: float, k: int, *, max_parts: int = 2, units: int = 1,
-            min_rating: float | None = None, allow_polarized_series: bool = True,
-            exclude_window: tuple[float, float] | None = None) -> EquivalentTable:
-    """The k equivalents with the smallest |relative error| to ``target`` (ties: tighter tolerance).
-
-    Exact without enumerating triples: for each single part and triple form the error grows
-    monotonically away from the pair value that would hit the target, so neighbours on the sorted
-    pair array are examined outward until the k-th best found beats every unexamined candidate.
-    ``exclude_window`` leaves out equivalents whose value lies in that window (they are ranked
-    elsewhere).
-    """
-    pool = _pool(lines, units)
-    if not len(pool.v):
-        return _concat(pool.kind, [], pool.lines)
-    tables = [_singles(pool)]
-    pair_sets = []
-    if max_parts >= 2:
-        for recip in (False, True):
-            pr = _pairs(pool, recip, units)
-            pair_sets.append((recip, pr))
-            tables.append(_pair_table(pool, pr, recip))
-    base = _filter(_concat(pool.kind, tables, pool.lines), min_rating, allow_polarized_series, exclude_window)
-    if max_parts < 3:
-        return _best(base, target, k)
-    span = max(k, 4)
-    while True:
-        found = [base]
-        bound = np.inf
-        for recip, pr in pair_sets:
-            for outer_recip in (False, True):
-                t, b = _neighbour_triples(pool, pr, recip, outer_recip, target, span, units)
-                found.append(_filter(t, min_rating, allow_polarized_series, exclude_window))
-                bound = min(bound, b)
-        best = _best(_dedupe(_concat(pool.kind, found, pool.lines)), target, k)
-        kth = abs(best.value[-1] / target - 1.0) if len(best) == k else np.inf
-        if kth <= bound or span >= 4 * max(len(p.v) for _, p in pair_sets):
-            return best
-        span *= 4
 
 
 def _neighbour_triples(pool, pr, recip, outer_recip, target, span, units):

@@ -78,10 +78,11 @@ class DesignResult:
     buy: list = field(default_factory=list)
     buy_checked: bool = False
     transistors_tried: list = field(default_factory=list)
+    stats: dict = field(default_factory=dict)
 
     @property
     def feasible(self) -> bool:
-        return self.status == "optimal"
+        return self.status in ("optimal", "best-found")
 
     @property
     def best(self) -> DesignChoice | None:
@@ -152,19 +153,31 @@ def _choice(problem: DesignProblem, ctx: Context, f: Found) -> DesignChoice:
         bought=int(b.bought[pos]) + comp.bought, target_margins=tm, rating_margins=rm, key=key)
 
 
-def _run(problem: DesignProblem, lines, top: int, exhaustive: bool, virtual_ids=()):
+def _run(problem: DesignProblem, lines, top: int, exhaustive: bool, virtual_ids=(), min_bought: int = 0,
+         stats_out: dict | None = None, budget: int | None = None):
     res_lines = [ln for ln in lines if ln.kind == "resistor"]
     cap_lines = [ln for ln in lines if ln.kind == "capacitor"]
     rtables = build_tables(res_lines, "resistor", problem.max_parts, problem.units)
     ctables = build_tables(cap_lines, "capacitor", problem.max_parts, problem.units)
     trs, why = suitable_transistors(problem, lines)
     found = []
+    stats: dict = {}
+    if budget is None and not exhaustive:
+        from .engine import SET_BUDGET
+
+        budget = SET_BUDGET
     for tr in trs:
         ctx = Context(problem, transistor_model(tr))
+        one: dict = {}
+        left = None if budget is None else max(0, budget - stats.get("sets", 0))
         for f in search_transistor(ctx, tr, rtables, ctables, lines, top, exhaustive=exhaustive,
-                                   virtual_ids=virtual_ids):
+                                   virtual_ids=virtual_ids, min_bought=min_bought, stats=one, budget=left):
             found.append((f, ctx))
+        stats["sets"] = stats.get("sets", 0) + one.get("sets", 0)
+        stats["truncated"] = stats.get("truncated", False) or one.get("truncated", False)
     found.sort(key=lambda fc: fc[0].key)
+    if stats_out is not None:
+        stats_out.update(stats)
     return [_choice(problem, ctx, f) for f, ctx in found[:top]], trs, why
 
 
@@ -172,9 +185,19 @@ def design(problem: DesignProblem, stock: Stock, *, top: int = 1, exhaustive: bo
            suggest: bool = True) -> DesignResult:
     """The ``top`` best designs from ``stock`` for ``problem`` (exhaustive: naive enumeration)."""
     lines, notes = with_default_ratings(stock.lines)
-    designs, trs, why = _run(problem, lines, top, exhaustive)
+    stats: dict = {}
+    designs, trs, why = _run(problem, lines, top, exhaustive, stats_out=stats)
     result = DesignResult(problem, "optimal" if designs else "infeasible", designs, notes,
                           transistors_tried=[t.label for t in trs])
+    result.stats = stats
+    if stats.get("truncated"):
+        result.notes.append(
+            f"the search stopped after {stats['sets']:,} candidate resistor sets"
+            + (": the designs shown are the best found, not proven optimal" if designs else
+               ": no design was found, but it is not proven that none exists (try --max-parts 1, or name "
+               "the transistor with [transistor] label, or list fewer roles in pairs)"))
+        if designs:
+            result.status = "best-found"
     if designs:
         return result
     from .shopping import explain_infeasible

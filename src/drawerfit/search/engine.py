@@ -39,7 +39,8 @@ __all__ = ["RSet", "Completion", "Found", "search_transistor", "stock_usage", "r
 
 HUGE_CAP_FACTOR = 10.0
 LB_CHUNK = 256  # resistor sets whose capacitor bound is computed together
-JUDGE_CHUNK = 4096  # resistor sets judged over the whole box together
+JUDGE_CHUNK = 4096
+SET_BUDGET = 4_000_000  # resistor sets one search may enumerate before it gives up proving  # resistor sets judged over the whole box together
 
 
 @dataclass
@@ -207,6 +208,18 @@ class CapSide:
                 best = np.maximum.accumulate(low[order][::-1])[::-1] if len(order) else np.zeros(0)
                 self._by_rating[(c, polar_ok)] = (t.rating[order], best)
 
+    def may_complete(self, T, idx) -> np.ndarray:
+        """False where even the largest capacitors of the drawer miss the corner at the vertex of
+        highest IE (a necessary condition, one evaluation instead of the whole box)."""
+        ctx = self.ctx
+        if not self.tables:
+            return np.zeros(len(idx[ctx.res_roles[0]]), bool)
+        top = max(float((t.v if self.nominal else t.lo).max()) for t in self.tables.values())
+        v = {r: T[r].v[idx[r]] for r in ctx.res_roles}
+        tol = {r: T[r].tol[idx[r]] for r in ctx.res_roles}
+        dc = vertex_dc(ctx, ctx.vertices[0], v, tol)
+        return corner_ok(ctx, [dc], {r: top for r in ctx.cap_roles})
+
     def _dcs(self, batch: RBatch, pos):
         ctx = self.ctx
         T = batch.tables
@@ -354,13 +367,21 @@ def design_key(prefer: str, b: int, p: int, d: float, m: float, s: float, csum: 
 
 
 def search_transistor(ctx: Context, transistor: StockLine, rtables, ctables, lines, top: int,
-                      *, exhaustive: bool = False, virtual_ids=()) -> list[Found]:
+                      *, exhaustive: bool = False, virtual_ids=(), min_bought: int = 0,
+                      stats: dict | None = None, budget: int | None = None) -> list[Found]:
     """The ``top`` best designs with this transistor, at most one per resistor set.
 
     ``virtual_ids`` are stock-line indices that stand for parts one could buy: the objective then
     starts with the number of such parts, and a set whose cheapest capacitors need a purchase is
-    re-queued at the next count in case more parts mean fewer purchases.
+    re-queued at the next count in case more parts mean fewer purchases.  ``min_bought`` is a
+    known lower bound on the parts to buy (1 once the drawer alone is proven not to do).
+    ``stats`` (a dict) receives the counts of sets looked at and whether ``budget`` (resistor sets
+    enumerated) stopped the search before it had proven its answer.
     """
+    stats = {} if stats is None else stats
+    budget = SET_BUDGET if budget is None else budget
+    stats.setdefault("sets", 0)
+    stats.setdefault("truncated", False)
     qty = _qty_lookup(lines)
     virtual = np.zeros(len(qty), np.int64)
     for i in virtual_ids:
@@ -378,6 +399,9 @@ def search_transistor(ctx: Context, transistor: StockLine, rtables, ctables, lin
                 found.append(_found(ctx, b, pos, comp, transistor, prefer))
         found.sort(key=lambda f: f.key)
         return found[:top]
+    def bkey(nb, p, d):
+        return _bound_key(prefer, max(nb, min_bought), p, d)
+
     # Shapes (part counts per resistor role) are opened lazily in order of their part count: a
     # shape with pR resistors cannot give a design with fewer than pR + (one per capacitor role)
     # parts, so under fewest-parts it is opened only when the heap holds nothing better.  Inside a
@@ -399,6 +423,10 @@ def search_transistor(ctx: Context, transistor: StockLine, rtables, ctables, lin
         T = {r: rtables[c] for r, c in shape.items()}
         pr = sum(shape.values())
         for idx in candidate_sets(ctx, T):
+            stats["sets"] += len(idx[ctx.res_roles[0]])
+            if stats["sets"] > budget:
+                stats["truncated"] = True
+                return
             v = {r: T[r].v[idx[r]] for r in ctx.res_roles}
             tol = {r: T[r].tol[idx[r]] for r in ctx.res_roles}
             dist = nominal_distance(ctx, v, tol)
@@ -410,12 +438,13 @@ def search_transistor(ctx: Context, transistor: StockLine, rtables, ctables, lin
     def push_raw(ri, start):
         T, idx, dist, nb, pr = raws[ri]
         if start < len(dist):
-            push(_bound_key(prefer, int(nb[start]), pr + min_caps, float(dist[start])), 0, ri, start, 0)
+            push(bkey(int(nb[start]), pr + min_caps, float(dist[start])), 0, ri, start, 0)
 
     def open_raw(ri, start):
         T, idx, dist, nb, pr = raws[ri]
         part = {r: a[start:start + JUDGE_CHUNK] for r, a in idx.items()}
-        bt = _judge_sets(ctx, T, part, qty, pr, virtual)
+        part = {r: a[caps.may_complete(T, part)] for r, a in part.items()}
+        bt = _judge_sets(ctx, T, part, qty, pr, virtual) if len(part[ctx.res_roles[0]]) else None
         push_raw(ri, start + JUDGE_CHUNK)
         if bt is None:
             return
@@ -427,7 +456,7 @@ def search_transistor(ctx: Context, transistor: StockLine, rtables, ctables, lin
         bt, order = batches[bi], orders[bi]
         if start < len(order):
             q = order[start]
-            push(_bound_key(prefer, int(bt.bought[q]), bt.pr + min_caps, float(bt.ev.distance[q])), 1, bi, start, 0)
+            push(bkey(int(bt.bought[q]), bt.pr + min_caps, float(bt.ev.distance[q])), 1, bi, start, 0)
 
     def open_lb(bi, start):
         bt, order = batches[bi], orders[bi]
@@ -436,7 +465,7 @@ def search_transistor(ctx: Context, transistor: StockLine, rtables, ctables, lin
         for q, l in zip(pos, lb):
             if np.isfinite(l):
                 p = bt.pr + int(l)
-                push(_bound_key(prefer, int(bt.bought[q]), p, float(bt.ev.distance[q])), 2, bi, int(q), p)
+                push(bkey(int(bt.bought[q]), p, float(bt.ev.distance[q])), 2, bi, int(q), p)
         push_lb(bi, start + LB_CHUNK)
 
     out: list[Found] = []
@@ -444,7 +473,7 @@ def search_transistor(ctx: Context, transistor: StockLine, rtables, ctables, lin
     si = 0
     while len(out) < top:
         # open every shape whose best possible key could come before the heap's top
-        while si < len(shapes):
+        while si < len(shapes) and not stats["truncated"]:
             p_min = sum(shapes[si].values()) + min_caps
             if heap and prefer != "closest" and (0, p_min) > heap[0][0][:2]:
                 break
@@ -473,7 +502,7 @@ def search_transistor(ctx: Context, transistor: StockLine, rtables, ctables, lin
             f = _found(ctx, bt, pos, comp, transistor, prefer)
             push(f.key, 3, ref, pos, p, f)
         if (comp is None or (buying and comp.bought > 0)) and pc < max_pc:
-            push(_bound_key(prefer, int(bt.bought[pos]), p + 1, d), 2, ref, pos, p + 1)
+            push(bkey(int(bt.bought[pos]), p + 1, d), 2, ref, pos, p + 1)
     return out
 
 

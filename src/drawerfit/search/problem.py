@@ -14,11 +14,8 @@ from dataclasses import dataclass, field, replace
 from ..parts import SpecError
 from ..stages import Conditions
 
-__all__ = ["DesignTargets", "DesignProblem", "IE_WINDOW", "GUARANTEES", "PREFERENCES", "roles_of"]
+__all__ = ["DesignTargets", "DesignProblem", "GUARANTEES", "PREFERENCES", "roles_of", "problem_from_spec"]
 
-# A spec that gives one IE gets the window ie·(1 ± 10 %): our own default, wide enough for 5 %
-# resistors and a 2:1 hFE spread in a stiff divider, narrow enough to pin the operating point.
-IE_WINDOW = 0.10
 GUARANTEES = ("worst-case", "nominal")
 PREFERENCES = ("fewest-parts", "closest")
 
@@ -138,3 +135,33 @@ class DesignProblem:
 
     def with_(self, **changes) -> "DesignProblem":
         return replace(self, **changes)
+
+
+def problem_from_spec(spec, *, units: int = 1, max_parts: int = 2, guarantee: str = "worst-case",
+                      prefer: str = "fewest-parts") -> DesignProblem:
+    """The design problem a design spec (``drawerfit.spec.Spec``) describes, with the CLI's settings."""
+    if spec.parts:
+        raise SpecError(f"{spec.path}: this spec has [parts]: it describes a built stage; use "
+                        "`drawerfit analyze`, or remove [parts] to design one")
+    t = spec.targets
+    if t is None:
+        raise SpecError(f"{spec.path}: a design spec needs a [targets] table")
+    given = t.given()
+    if "ie_min" not in given or "ie_max" not in given:
+        raise SpecError(f"{spec.path}: [targets] needs ie (or ie_min and ie_max): the operating point")
+    if "f_low" not in given:
+        raise SpecError(f"{spec.path}: [targets] needs f_low, the highest allowed low-frequency corner")
+    try:
+        targets = DesignTargets(**{k: given.get(k) for k in DesignTargets.__dataclass_fields__})
+    except SpecError as exc:
+        raise SpecError(f"{spec.path}: {exc}") from None
+    res, caps = roles_of(spec.topology, spec.bypass)
+    pairs = tuple(r for r in spec.pairs if r in res or r in caps)
+    try:
+        return DesignProblem(
+            topology=spec.topology, polarity=spec.polarity, supply=spec.supply, targets=targets,
+            conditions=spec.conditions, source_resistance=spec.source_resistance, load=spec.load,
+            bypass=spec.bypass, label=spec.transistor_label, pairs=pairs, max_parts=max_parts,
+            units=units, guarantee=guarantee, prefer=prefer)
+    except SpecError as exc:
+        raise SpecError(f"{spec.path}: {exc}") from None

@@ -1,0 +1,375 @@
+"""`drawerfit design` and `drawerfit demo`: the best stage from the drawer, shown, saved, reported."""
+
+from __future__ import annotations
+
+import math
+import os
+from pathlib import Path
+
+import click
+
+from ..parts import DrawerfitError, NoDesignError, SpecError
+from ..values import format_code, format_si
+
+__all__ = ["run_design", "run_demo", "design_json", "saved_design", "pick_list"]
+
+_UNIT = {"resistor": "ohm", "capacitor": "F"}
+
+
+def _code(value: float, kind: str) -> str:
+    return format_code(value, _UNIT[kind], ascii_only=False)
+
+
+def _rating(kind: str, r: float) -> str:
+    return format_si(r, "W" if kind == "resistor" else "V", 3)
+
+
+def _src(line) -> dict:
+    return {"file": line.source.file, "sheet": line.source.sheet or "", "row": line.source.row}
+
+
+def _part_name(line) -> str:
+    if line.kind == "transistor":
+        return f"{line.label} {line.polarity.upper()}" if line.polarity else line.label
+    rating = line.power if line.kind == "resistor" else line.voltage
+    extra = f" {line.tolerance:.0%}" if line.tolerance is not None else ""
+    if rating is not None:
+        extra += f" {_rating(line.kind, rating)}"
+    if line.kind == "capacitor" and line.polarized:
+        extra += " electrolytic"
+    return f"{line.kind} {_code(line.value, line.kind)}{extra}"
+
+
+def pick_list(choice, units: int) -> list[dict]:
+    """Bin, part and count for ``units`` builds, one entry per stock line, in bin order."""
+    out = []
+    for line, per in choice.uses().values():
+        out.append({"location": line.location, "part": _part_name(line), "per_unit": per, "count": per * units,
+                    "source": _src(line)})
+    out.sort(key=lambda e: (e["location"], e["source"]["row"]))
+    return out
+
+
+def _analysis(problem, spec, choice):
+    from ..analysis import analyse
+
+    return analyse(choice.stage(problem), spec.conditions, targets=spec.targets)
+
+
+def _role_json(choice) -> dict:
+    out = {}
+    for role, c in choice.roles.items():
+        eq = c.equivalent
+        out[role] = {
+            "value": eq.value, "code": _code(eq.value, eq.kind), "arrangement": eq.arrangement,
+            "describe": eq.describe(), "part_count": eq.part_count, "tolerance": c.tolerance,
+            ("power" if eq.kind == "resistor" else "voltage"): c.rating,
+            "polarized": bool(eq.polarized), "orientation": c.orientation,
+            "parts": [{"value": m.value, "location": m.location, "source": _src(m)} for m in eq.members],
+        }
+    return out
+
+
+def _finite(x):
+    return None if x is None or not math.isfinite(x) else x
+
+
+def design_json(result, spec, analysis=None, cautions=()) -> dict:
+    problem = result.problem
+    if not result.feasible:
+        near = result.nearest
+        out = {"feasible": False, "units": problem.units, "reason": result.reason,
+               "nearest": None, "buy": [_buy_json(b) for b in result.buy], "buy_checked": result.buy_checked,
+               "notes": list(result.notes)}
+        if near:
+            ch = near["choice"]
+            out["nearest"] = {
+                "transistor": ch.transistor.label, "parts": _role_json(ch),
+                "margins": {k: _finite(v) for k, v in near["margins"].items()}, "missed": near["missed"],
+                "f_low_worst": _finite(near["f_low_worst"])}
+        return out
+    best = result.best
+    tr = best.transistor
+    wc = analysis.worst if analysis is not None else None
+    out = {
+        "feasible": True, "status": result.status, "units": problem.units, "part_count": best.part_count,
+        "guarantee": problem.guarantee, "prefer": problem.prefer,
+        "objective": {"part_count": best.part_count, "distance": best.distance, "margin": _finite(best.margin),
+                      "fewest_left": _finite(best.stock_left), "capacitance": best.csum},
+        "transistor": {"label": tr.label, "location": tr.location, "source": _src(tr), "polarity": tr.polarity,
+                       "hfe_min": tr.hfe_min, "hfe_max": tr.hfe_max, "vceo": tr.vceo, "ic_max": tr.ic_max,
+                       "pd": tr.pd, "vbe": best.model.vbe, "vce_sat": best.model.vce_sat},
+        "parts": _role_json(best),
+        "performance": analysis.to_dict() if analysis is not None else None,
+        "worst_case": {
+            "target_margins": {k: _finite(v) for k, v in best.target_margins.items()},
+            "rating_margins": {k: _finite(v) for k, v in best.rating_margins.items()},
+            "binding": binding(best),
+            "low": {k: _finite(float(wc.low[k])) for k in ("ie", "ve", "vce", "rin", "rout", "swing_peak", "f_low")}
+            if wc is not None else None,
+            "high": {k: _finite(float(wc.high[k])) for k in ("ie", "ve", "vce", "rin", "rout", "swing_peak", "f_low")}
+            if wc is not None else None,
+        },
+        "pick_list": pick_list(best, problem.units),
+        "cautions": [c.to_dict() for c in cautions],
+        "alternatives": [{"part_count": d.part_count, "distance": d.distance, "transistor": d.transistor.label,
+                          "parts": {r: c.equivalent.describe() for r, c in d.roles.items()}}
+                         for d in result.designs[1:]],
+        "notes": list(result.notes),
+        "stock_checksum": None,
+    }
+    return out
+
+
+def _buy_json(b: dict) -> dict:
+    return {"kind": b["kind"], "value": b["value"], "code": _code(b["value"], b["kind"]),
+            "tolerance": b["tolerance"], ("power" if b["kind"] == "resistor" else "voltage"): b["rating"],
+            "polarized": b["polarized"], "per_unit": b["per_unit"], "count": b["count"], "roles": b["roles"]}
+
+
+def binding(choice, n: int = 3) -> list[dict]:
+    """The constraints with the smallest worst-case margins (those that decide the design)."""
+    allm = [(m, k) for k, m in {**choice.target_margins, **choice.rating_margins}.items() if math.isfinite(m)]
+    allm.sort()
+    return [{"name": k, "margin": m} for m, k in allm[:n]]
+
+
+# --- saving -------------------------------------------------------------------------------
+
+
+def saved_design(result, spec, stock, stock_file: str) -> dict:
+    """The TOML tree of a saved design (docs/spec-format.md, "Saved designs")."""
+    problem, best = result.problem, result.best
+    m = best.model
+    doc = {"title": spec.title or f"designed by drawerfit from {os.path.basename(stock_file)}",
+           "topology": problem.topology, "polarity": problem.polarity, "supply": problem.supply,
+           "source_resistance": problem.source_resistance}
+    if problem.load is not None:
+        doc["load"] = problem.load
+    if problem.topology == "common-emitter":
+        doc["bypass"] = problem.bypass
+    if spec.mains:
+        doc["mains"] = True
+    doc["units"] = problem.units
+    doc["stock_file"] = str(stock_file)
+    doc["stock_checksum"] = stock.checksum
+    tr = {"label": m.label, "hfe_min": m.hfe_min, "hfe_max": m.hfe_max, "vbe": m.vbe, "vce_sat": m.vce_sat,
+          "vbe_tempco": m.vbe_tempco}
+    for k in ("vceo", "ic_max", "pd"):
+        if getattr(m, k) is not None:
+            tr[k] = getattr(m, k)
+    doc["transistor"] = tr
+    parts = {}
+    for role, c in best.roles.items():
+        entry = {"value": c.equivalent.value, "tolerance": c.tolerance, "rating": c.rating}
+        if c.equivalent.kind == "capacitor":
+            entry["polarized"] = bool(c.equivalent.polarized)
+        parts[role] = entry
+    doc["parts"] = parts
+    doc["targets"] = {k: v for k, v in problem.targets.to_dict().items() if v is not None}
+    c = problem.conditions
+    doc["limits"] = {"resistor_derating": c.resistor_derating, "transistor_derating": c.transistor_derating,
+                     "cap_voltage_margin": c.cap_voltage_margin, "ambient_min": c.ambient_min,
+                     "ambient_max": c.ambient_max}
+    doc["pick_list"] = pick_list(best, problem.units)
+    roles = {}
+    for role, ch in best.roles.items():
+        eq = ch.equivalent
+        roles[role] = {"value": eq.value, "arrangement": eq.arrangement, "describe": eq.describe(),
+                       "tolerance": ch.tolerance, "rating": ch.rating,
+                       "parts": [{"value": mm.value, "location": mm.location, "source": _src(mm)} for mm in eq.members]}
+        if ch.orientation:
+            roles[role]["orientation"] = ch.orientation
+    t = best.transistor
+    roles["Q1"] = {"describe": t.label, "parts": [{"location": t.location, "source": _src(t)}]}
+    doc["design"] = {"roles": roles}
+    return doc
+
+
+def _write_toml(path: Path, doc: dict) -> None:
+    import tomli_w
+
+    tmp = path.with_name(path.name + ".tmp")
+    with open(tmp, "wb") as fh:
+        tomli_w.dump(doc, fh)
+    os.replace(tmp, path)
+
+
+# --- text for people ----------------------------------------------------------------------------
+
+
+def _print_choice(result, spec, analysis, cautions, quiet: bool) -> None:
+    from .analyze_cmd import summary_lines
+
+    problem, best = result.problem, result.best
+    per = f" for {problem.units} units" if problem.units > 1 else ""
+    tr = best.transistor
+    state = "optimal" if result.status == "optimal" else "best found (not proven optimal)"
+    click.echo(f"Design ({state}, {problem.guarantee} guarantee, {problem.prefer}){per}: "
+               f"{problem.topology} {problem.polarity.upper()} on {format_si(problem.supply, 'V')}, "
+               f"{best.part_count} resistors and capacitors")
+    click.echo(f"  Q1   {tr.label}  [{tr.location or '-'}; row {tr.source.row}]  hFE {tr.hfe_min:g}..{tr.hfe_max:g}")
+    click.echo(f"  {'role':4} {'value':>9}  {'arrangement':15} {'tol':>5} {'rating':>7} {'dissip.':>9}  parts (bin; row)")
+    power = analysis.power() if analysis is not None else {}
+    wc = analysis.worst if analysis is not None else None
+    for role, c in best.roles.items():
+        eq = c.equivalent
+        kind = eq.kind
+        if kind == "resistor":
+            key = {"R1": "p_r1", "R2": "p_r2", "RE": "p_re", "RC": "p_rc", "RE2": "p_re2"}[role]
+            dis = format_si(float(wc.high[key]), "W", 3) if wc is not None else ""
+        else:
+            dis = ""
+        parts = ", ".join(f"{_code(m.value, kind)} [{m.location or '-'}; row {m.source.row}]" for m in eq.members)
+        click.echo(f"  {role:4} {format_si(eq.value, _UNIT[kind], 4):>9}  {eq.describe() if eq.part_count > 1 else eq.arrangement:15}"
+                   f" {c.tolerance * 100:4.1f}% {_rating(kind, c.rating):>7} {dis:>9}  {parts}")
+        if c.orientation:
+            click.echo(f"       polarized: fit with {c.orientation} (DC across it stays one sign over the box)")
+    click.echo("")
+    click.echo("Binding constraints (smallest worst-case margins):")
+    for b in binding(best):
+        click.echo(f"  {b['name']}: {b['margin']:+.1%}")
+    if not quiet and analysis is not None:
+        click.echo("")
+        click.echo("Stage figures (nominal, and worst case over tolerances, hFE and ambient):")
+        for line in summary_lines(analysis, spec, cautions):
+            click.echo(f"  {line}")
+    elif cautions:
+        for c in cautions:
+            click.echo(f"caution: {c.text}")
+    click.echo("")
+    click.echo(f"Pick list ({problem.units} unit{'s' if problem.units > 1 else ''}):")
+    for e in pick_list(best, problem.units):
+        click.echo(f"  {e['location'] or '-':10} {e['part']:38} x{e['count']}  (row {e['source']['row']})")
+    if len(result.designs) > 1:
+        click.echo("")
+        click.echo("Next best:")
+        for i, d in enumerate(result.designs[1:], 2):
+            vals = ", ".join(f"{r}={c.equivalent.describe()}" for r, c in d.roles.items())
+            click.echo(f"  {i}. {d.part_count} parts, D={d.distance:.4f}, {d.transistor.label}: {vals}")
+    for n in result.notes:
+        click.echo(f"note: {n}", err=True)
+
+
+def _print_infeasible(result) -> None:
+    click.echo("No design: " + result.reason)
+    near = result.nearest
+    if near:
+        ch = near["choice"]
+        vals = ", ".join(f"{r}={c.equivalent.describe()}" for r, c in ch.roles.items())
+        click.echo(f"  nearest design ({ch.transistor.label}): {vals}")
+        if "f_low" in near["missed"]:
+            click.echo(f"  its worst-case corner: {format_si(near['f_low_worst'], 'Hz')} "
+                       f"(target {format_si(result.problem.targets.f_low, 'Hz')})")
+    if result.buy:
+        ok = "checked: the search finds a design with them added" if result.buy_checked else "NOT confirmed by a second search"
+        click.echo(f"What to buy ({ok}):")
+        for b in result.buy:
+            r = _rating(b["kind"], b["rating"])
+            pol = " electrolytic" if b["polarized"] else ""
+            click.echo(f"  {b['count']} x {b['kind']} {_code(b['value'], b['kind'])} {b['tolerance']:.0%} {r}{pol}"
+                       f"  ({b['per_unit']} per unit, for {', '.join(b['roles'])})")
+    else:
+        click.echo("No purchase of standard single parts (E24 resistors, E12 capacitors) makes it feasible.")
+    for n in result.notes:
+        click.echo(f"note: {n}", err=True)
+
+
+def run_design(spec_file: str, stock_file: str, *, units: int = 1, max_parts: int = 2,
+               guarantee: str = "worst-case", prefer: str = "fewest-parts", top: int = 1, as_json: bool = False,
+               save: str | None = None, exhaustive: bool = False, report: str | None = None,
+               quiet: bool = False, strict: bool = False) -> None:
+    from ..cautions import cautions_for
+    from ..cli import emit_json
+    from ..search.design import design
+    from ..search.problem import problem_from_spec
+    from ..spec import load_spec
+    from .common import load_stock_reporting, report_problems
+
+    if report is not None:
+        _report_available()
+    from ..stock import load_stock
+
+    stock = load_stock(stock_file, strict=strict)
+    if not quiet:
+        report_problems(stock)
+    spec = load_spec(spec_file, stock=stock)
+    problem = problem_from_spec(spec, units=units, max_parts=max_parts, guarantee=guarantee, prefer=prefer)
+    result = design(problem, stock, top=top, exhaustive=exhaustive)
+    if not result.feasible:
+        if as_json:
+            emit_json(design_json(result, spec))
+        else:
+            _print_infeasible(result)
+        raise NoDesignError(result.reason)
+    analysis = _analysis(problem, spec, result.best)
+    cautions = cautions_for(analysis, mains=spec.mains)
+    if as_json:
+        data = design_json(result, spec, analysis, cautions)
+        data["stock_checksum"] = stock.checksum
+        emit_json(data)
+        for c in cautions:
+            click.echo(f"caution: {c.text}", err=True)
+    else:
+        _print_choice(result, spec, analysis, cautions, quiet)
+    if save is not None or report is not None:
+        target = Path(save) if save is not None else None
+        if target is None:
+            import tempfile
+
+            tmpdir = tempfile.mkdtemp(prefix="drawerfit-")
+            target = Path(tmpdir) / "design.toml"
+        _check_not_input(target, spec_file, stock_file)
+        _write_toml(target, saved_design(result, spec, stock, stock_file))
+        if save is not None and not as_json:
+            click.echo(f"saved: {target}")
+        if report is not None:
+            from ..report.html import write_report
+
+            _check_not_input(Path(report), spec_file, stock_file)
+            write_report(str(target), report, stock_file=stock_file)
+            if not as_json:
+                click.echo(f"report: {report}")
+
+
+def _check_not_input(path: Path, *inputs: str) -> None:
+    for p in inputs:
+        if Path(p).exists() and path.exists() and os.path.samefile(p, path):
+            raise SpecError(f"{path}: will not write over an input file")
+
+
+def _report_available() -> None:
+    try:
+        from ..report import html  # noqa: F401
+    except ImportError:
+        raise DrawerfitError("--report: the HTML report is not available yet in this build") from None
+    if not hasattr(html, "write_report"):
+        raise DrawerfitError("--report: the HTML report is not available yet in this build")
+
+
+# --- demo -----------------------------------------------------------------------------------
+
+DEMO_SPECS = ("bench_buffer.toml", "gain_stage.toml")
+
+
+def run_demo() -> None:
+    """Design the two sample stages from the sample teaching-lab drawer; writes nothing."""
+    root = _samples()
+    stock_file = root / "teaching_lab.csv"
+    for name in DEMO_SPECS:
+        spec = root / "specs" / name
+        click.echo(f"=== drawerfit design {spec.relative_to(root.parent)} --stock {stock_file.relative_to(root.parent)}")
+        try:
+            run_design(str(spec), str(stock_file), quiet=True)
+        except NoDesignError as exc:
+            click.echo(f"(no design: {exc})")
+        click.echo("")
+
+
+def _samples() -> Path:
+    here = Path(__file__).resolve()
+    for base in (here.parents[3], Path.cwd()):
+        cand = base / "inventory_samples"
+        if (cand / "teaching_lab.csv").exists():
+            return cand
+    raise SpecError("the sample drawer (inventory_samples/teaching_lab.csv) is not found next to the program")

@@ -302,7 +302,7 @@ def render_report(design: DesignFile, *, monte_carlo: int = 2000, seed: int = 0,
         "ideal source", f"load {format_si(stage.load, 'ohm', 3)}" if stage.load else "no load") if x)
     stock_bits = []
     if design.stock_file:
-        stock_bits.append(f"parts from <code>{_e(design.stock_file)}</code>")
+        stock_bits.append(f"parts from <code title=\"{_e(design.stock_file)}\">{_e(Path(design.stock_file).name)}</code>")
     if stock_note:
         stock_bits.append(_e(stock_note))
     units = (f"{design.units} unit{'s' if design.units != 1 else ''}" if design.is_design or design.units > 1

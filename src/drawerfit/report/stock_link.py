@@ -17,10 +17,10 @@ def link_stock(design: DesignFile, stock) -> tuple[DesignFile, str]:
     """The design with the transistor's bin filled from ``stock`` (a ``parts.Stock``) when
     missing, and a note on whether the stock file still matches the design's checksum.
     """
-    notes = [f"stock file {stock.files[0] if stock.files else ''} read (not changed)".replace("  ", " ")]
+    notes = []
     if design.stock_checksum:
         if stock.checksum == design.stock_checksum:
-            notes.append("stock file unchanged since the design was made")
+            notes.append("stock file checked: unchanged since the design was made")
         else:
             notes.append("the stock file has changed since the design was made: check the bins before you pick")
     t = design.stage.transistor

@@ -7,7 +7,6 @@ import os
 import subprocess
 import sys
 
-import pytest
 from click.testing import CliRunner
 
 from drawerfit.cli import main

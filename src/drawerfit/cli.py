@@ -219,5 +219,39 @@ def take(pick_file, stock_file, units, dry_run, undo, as_json) -> None:
 # --- report and export -----------------------------------------------------------------------
 
 
+@main.command()
+@click.argument("design_file", metavar="DESIGN.toml", type=click.Path(dir_okay=False))
+@click.option("-o", "--output", required=True, type=click.Path(dir_okay=False), help="HTML file to write.")
+@click.option("--stock", "stock_file", type=click.Path(dir_okay=False), default=None,
+              help="The stock file the design was made from: checked against the design, read only.")
+@click.option("--monte-carlo", "monte_carlo", type=click.IntRange(0), default=2000, show_default=True,
+              help="Random builds for the spread histograms (0: none).")
+@click.option("--seed", type=int, default=0, show_default=True, help="Seed of the random builds.")
+@click.option("--quiet", is_flag=True, help="No progress display and no closing line.")
+@user_errors
+def report(design_file, output, stock_file, monte_carlo, seed, quiet) -> None:
+    """Write one self-contained HTML page showing a saved design (or a stage spec)."""
+    from .commands.report_cmd import run_report
+
+    run_report(design_file, output, stock_file=stock_file, monte_carlo=monte_carlo, seed=seed, quiet=quiet)
+
+
+@main.command()
+@click.argument("design_file", metavar="DESIGN.toml", type=click.Path(dir_okay=False))
+@click.option("--netlist", type=click.Path(dir_okay=False), default=None, help="SPICE netlist to write (.cir).")
+@click.option("--bom", type=click.Path(dir_okay=False), default=None, help="Parts list to write (.csv or .xlsx).")
+@click.option("--stock", "stock_file", type=click.Path(dir_okay=False), default=None,
+              help="Stock file (read only), for a transistor given by its label.")
+@click.option("--quiet", is_flag=True, help="No progress display and no closing lines.")
+@user_errors
+def export(design_file, netlist, bom, stock_file, quiet) -> None:
+    """Carry a saved design elsewhere: a SPICE netlist and/or a parts list for N units."""
+    from .commands.report_cmd import run_export
+
+    if not netlist and not bom:
+        raise click.UsageError("give --netlist FILE, --bom FILE, or both")
+    run_export(design_file, netlist=netlist, bom=bom, quiet=quiet, stock_file=stock_file)
+
+
 if __name__ == "__main__":  # pragma: no cover
     main()

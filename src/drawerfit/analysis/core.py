@@ -741,8 +741,9 @@ def worst_case(
     """Lowest and highest figures over part tolerances, the hFE range and the ambient range.
 
     Vertex enumeration: every resistor with a non-zero tolerance at its two ends, hFE at
-    ``hfe_min`` and ``hfe_max``, temperature at both ends; the capacitors are held at their
-    lowest values (value·(1 − tol)), because every corner falls as capacitance grows.  Exact for
+    ``hfe_min`` and ``hfe_max``, temperature at both ends.  Every corner falls as capacitance
+    grows, so the highest corners come from the capacitors at their low ends (value·(1 − tol)) and
+    the lowest from the same vertices with them at their high ends.  Exact for
     figures monotone in each parameter on the box: currents, node voltages, VCE and powers.
     Gain, impedances, swing and corner are not monotone in every parameter everywhere (R2 raises
     IE but lowers the divider's impedance); over tolerance-sized boxes their extremes sat at
@@ -758,6 +759,11 @@ def worst_case(
     NaN corners, which the low/high reduction skips: check ``all_active``.
     """
     nominal, axes = _box(tolerances, nominal, hfe_min, hfe_max, temp_min, temp_max)
+    # _box holds the capacitors at their low ends (the highest corners); the lowest corners come
+    # from the same vertices with the capacitors at their high ends
+    cap_span = {k: (1.0 + np.asarray(tolerances[k], float)) / (1.0 - np.asarray(tolerances[k], float))
+                for k in _CAP_KEYS if k in tolerances and k in nominal}
+    corner_names = ("f_low", "f_c1", "f_c2", "f_ce")
     n_vert = 2 ** len(axes)
     low: dict[str, np.ndarray] = {}
     high: dict[str, np.ndarray] = {}
@@ -772,6 +778,14 @@ def worst_case(
         if corner:
             cor = low_corner(fig, **caps)
             fig = _with_corners(fig, cor)
+            if cap_span:
+                big = low_corner(fig, **{k: c * cap_span.get(k, 1.0) for k, c in caps.items()})
+                for name in corner_names:
+                    val = getattr(big, name)
+                    if val is None or (names is not None and name not in names):
+                        continue
+                    low[name] = np.fmin(low[name], val) if name in low else np.array(val, copy=True)
+                    high.setdefault(name, np.array(getattr(cor, name), copy=True))
         if f_target is not None:
             m = meets_corner(fig, f_target=f_target, **caps)
             meets = m if meets is None else (meets & m)
@@ -781,7 +795,9 @@ def worst_case(
             if not hasattr(fig, name) or getattr(fig, name) is None:
                 continue
             val = getattr(fig, name)
-            if name in low:
+            if corner and cap_span and name in corner_names:
+                high[name] = np.fmax(high[name], val)  # lows came from the high-end capacitors
+            elif name in low:
                 low[name] = np.fmin(low[name], val)
                 high[name] = np.fmax(high[name], val)
             else:

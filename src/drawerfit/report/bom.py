@@ -1,0 +1,222 @@
+"""The parts list of a design (per unit and for N units) as rows, CSV or XLSX.
+
+Every text cell that a spreadsheet could take for a formula (starting with = + - @, a tab or a
+carriage return) is neutralised by a leading apostrophe, so opening the file runs nothing.
+Numbers (counts, SI values, stock rows) are written as numbers in XLSX.
+"""
+
+from __future__ import annotations
+
+import csv
+from dataclasses import dataclass
+from pathlib import Path
+
+from ..parts import SpecError
+from ..stages import RESISTOR_ROLES
+from ..values import format_code, format_si
+from .design_file import DesignFile
+
+__all__ = ["BomRow", "COLUMNS", "bom_rows", "neutralise", "write_bom", "write_bom_csv", "write_bom_xlsx",
+           "FORMULA_STARTS"]
+
+# A spreadsheet reads a cell starting with one of these as a formula (or a formula's prefix).
+FORMULA_STARTS = ("=", "+", "-", "@", "\t", "\r")
+
+# (header, BomRow attribute); headers are what a person sees in the first row.
+COLUMNS = (
+    ("Designator", "designator"),
+    ("Role value", "role_value"),
+    ("Role code", "role_code"),
+    ("Role value (SI number)", "role_number"),
+    ("Made of", "arrangement"),
+    ("Part value", "part_value"),
+    ("Part code", "part_code"),
+    ("Tolerance", "tolerance"),
+    ("Rating (of the role)", "rating"),
+    ("Bin", "bin"),
+    ("Stock file", "stock_file"),
+    ("Stock sheet", "stock_sheet"),
+    ("Stock row", "stock_row"),
+    ("Per unit", "per_unit"),
+    ("Units", "units"),
+    ("For all units", "total"),
+)
+
+ROLE_ORDER = ("R1", "R2", "RE", "RE2", "RC", "C1", "C2", "CE")
+
+
+@dataclass(frozen=True)
+class BomRow:
+    designator: str
+    role_value: str
+    role_code: str
+    role_number: float | None
+    arrangement: str
+    part_value: str
+    part_code: str
+    tolerance: str
+    rating: str
+    bin: str
+    stock_file: str
+    stock_sheet: str
+    stock_row: int | None
+    per_unit: int
+    units: int
+
+    @property
+    def total(self) -> int:
+        return self.per_unit * self.units
+
+
+def neutralise(cell):
+    """A text cell made safe for a spreadsheet: prefixed with ' when it could start a formula."""
+    if isinstance(cell, str) and cell.startswith(FORMULA_STARTS):
+        return "'" + cell
+    return cell
+
+
+def _unit(role: str) -> str:
+    return "ohm" if role in RESISTOR_ROLES else "F"
+
+
+def _rating_text(role: str, rating: float | None) -> str:
+    if rating is None:
+        return ""
+    return format_si(rating, "W" if role in RESISTOR_ROLES else "V", 3)
+
+
+def bom_rows(design: DesignFile) -> list[BomRow]:
+    """One row per distinct stock part in each role (a pair of equal parts is one row of 2), then Q1."""
+    stage, units = design.stage, design.units
+    rows: list[BomRow] = []
+    for role in ROLE_ORDER:
+        part = stage.parts.get(role)
+        if part is None:
+            continue
+        unit = _unit(role)
+        choice = design.roles.get(role)
+        arrangement = choice.arrangement if choice else "single"
+        if choice and choice.describe and arrangement != "single":
+            arrangement = f"{arrangement}: {choice.describe}"
+        tol = f"{part.tolerance:.0%}".replace("%", " %") if part.tolerance else ""
+        common = dict(designator=role, role_value=format_si(part.value, unit), role_code=format_code(part.value, unit),
+                      role_number=part.value, arrangement=arrangement, tolerance=tol, units=units)
+        placed = choice.parts if choice and choice.parts else ()
+        if not placed:
+            rows.append(BomRow(part_value=format_si(part.value, unit), part_code=format_code(part.value, unit),
+                               rating=_rating_text(role, part.rating), bin="", stock_file="", stock_sheet="",
+                               stock_row=None, per_unit=1, **common))
+            continue
+        groups: dict[tuple, list] = {}
+        for p in placed:
+            key = (p.value, p.location, p.source.get("file"), p.source.get("sheet"), p.source.get("row"))
+            groups.setdefault(key, []).append(p)
+        for (value, location, file, sheet, row), same in groups.items():
+            rows.append(BomRow(part_value=format_si(value, unit), part_code=format_code(value, unit),
+                               rating=_rating_text(role, choice.rating if choice.rating is not None else part.rating),
+                               bin=location, stock_file=str(file or ""), stock_sheet=str(sheet or ""),
+                               stock_row=int(row) if row is not None else None, per_unit=len(same), **common))
+    t = stage.transistor
+    src = design.transistor_source
+    rating = ", ".join(x for x in (
+        f"VCEO {format_si(t.vceo, 'V', 3)}" if t.vceo else "",
+        f"IC max {format_si(t.ic_max, 'A', 3)}" if t.ic_max else "",
+        f"Pd {format_si(t.pd, 'W', 3)}" if t.pd else "") if x)
+    name = f"{t.label} ({t.polarity.upper()})" if t.label else t.polarity.upper()
+    rows.append(BomRow("Q1", name, t.label, None, f"hFE {t.hfe_min:g} to {t.hfe_max:g}", name, t.label, "", rating,
+                       design.transistor_location, str(src.get("file") or ""), str(src.get("sheet") or ""),
+                       int(src["row"]) if src.get("row") is not None else None, 1, units))
+    return rows
+
+
+def _cells(row: BomRow) -> list:
+    return [getattr(row, attr) for _, attr in COLUMNS]
+
+
+def write_bom_csv(design: DesignFile, out: str | Path) -> int:
+    """Write the parts list as CSV (UTF-8 with a byte-order mark, so spreadsheets read µ and Ω)."""
+    rows = bom_rows(design)
+    with open(out, "w", newline="", encoding="utf-8-sig") as fh:
+        w = csv.writer(fh)
+        w.writerow([neutralise(h) for h, _ in COLUMNS])
+        for row in rows:
+            w.writerow([neutralise("" if c is None else c if isinstance(c, str) else f"{c:.10g}"
+                                   if isinstance(c, float) else str(c)) for c in _cells(row)])
+    return len(rows)
+
+
+def write_bom_xlsx(design: DesignFile, out: str | Path) -> int:
+    """Write the parts list (and the pick list, when the design has one) as an XLSX workbook."""
+    from openpyxl import Workbook
+    from openpyxl.styles import Font
+
+    rows = bom_rows(design)
+    wb = Workbook()
+    ws = wb.active
+    ws.title = "parts"
+    ws.append([neutralise(h) for h, _ in COLUMNS])
+    for row in rows:
+        ws.append([neutralise(c) for c in _cells(row)])
+    for cell in ws[1]:
+        cell.font = Font(bold=True)
+    _text_only(ws)
+    _fit_columns(ws)
+    ws.freeze_panes = "A2"
+    if design.pick_list:
+        pl = wb.create_sheet("pick list")
+        pl.append(["Bin", "Part", "Per unit", "Units", "Take", "Stock file", "Stock sheet", "Stock row"])
+        for item in design.pick_list:
+            pl.append([neutralise(item.location), neutralise(item.part), item.per_unit, design.units, item.count,
+                       neutralise(str(item.source.get("file") or "")), neutralise(str(item.source.get("sheet") or "")),
+                       item.source.get("row")])
+        for cell in pl[1]:
+            cell.font = Font(bold=True)
+        _text_only(pl)
+        _fit_columns(pl)
+        pl.freeze_panes = "A2"
+    wb.save(out)
+    return len(rows)
+
+
+def _fit_columns(ws) -> None:
+    # widths from the longest cell, so the sheet reads without resizing columns by hand
+    from openpyxl.utils import get_column_letter
+
+    for i, col in enumerate(ws.iter_cols(values_only=True), start=1):
+        width = max((len(str(v)) for v in col if v is not None), default=6)
+        ws.column_dimensions[get_column_letter(i)].width = min(max(width + 2, 6), 48)
+
+
+def _text_only(ws) -> None:
+    # openpyxl takes a str starting with '=' for a formula; after neutralising none does, and
+    # marking every str cell as a string keeps it so whatever openpyxl's rules become.
+    for row in ws.iter_rows():
+        for cell in row:
+            if isinstance(cell.value, str):
+                cell.data_type = "s"
+
+
+def write_bom(design: DesignFile, out: str | Path) -> int:
+    """CSV or XLSX by the file's suffix, written atomically; returns the number of part rows."""
+    import os
+    import tempfile
+
+    out = Path(out)
+    suffix = out.suffix.lower()
+    writer = {".csv": write_bom_csv, ".xlsx": write_bom_xlsx}.get(suffix)
+    if writer is None:
+        raise SpecError(f"{out}: the parts list is written as .csv or .xlsx, not {suffix or 'a file with no suffix'}")
+    # through a temporary file and a rename, so a failed run leaves no half-written list
+    fd, tmp = tempfile.mkstemp(prefix=".drawerfit-", suffix=suffix, dir=out.parent)
+    os.close(fd)
+    try:
+        rows = writer(design, tmp)
+        mask = os.umask(0)
+        os.umask(mask)
+        os.chmod(tmp, 0o666 & ~mask)
+        os.replace(tmp, out)
+    except BaseException:
+        if os.path.exists(tmp):
+            os.unlink(tmp)
+        raise
+    return rows

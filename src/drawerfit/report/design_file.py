@@ -1,0 +1,190 @@
+"""Read a saved design (DESIGN.toml): the analyze-ready stage plus what the optimizer chose.
+
+A saved design is an analyze spec (topology, polarity, supply, source_resistance, load,
+[transistor], [parts]) with, when ``drawerfit design --save`` wrote it, these keys as well:
+``units``, ``stock_file``, ``stock_checksum``, ``[[pick_list]]``, ``[targets]``, ``[limits]`` and
+``[design.roles.<role>]`` (``design.roles.Q1`` may name the transistor's bin, with parts
+holding only location and source).  A plain analyze spec works too; it simply has no bins or
+pick list.
+"""
+
+from __future__ import annotations
+
+import math
+import tomllib
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Mapping
+
+from ..parts import SpecError
+from ..stages import CAPACITOR_ROLES, RESISTOR_ROLES, Conditions, Stage
+from ..values import ValueParseError, parse_tolerance, parse_value
+
+__all__ = ["PlacedPart", "RoleChoice", "PickItem", "DesignFile", "load_design", "DESIGN_KEYS"]
+
+
+@dataclass(frozen=True)
+class PlacedPart:
+    """One physical part of a role: its value, the bin it comes from and its stock-file row."""
+
+    value: float
+    location: str = ""
+    source: Mapping[str, object] = field(default_factory=dict)
+
+
+@dataclass(frozen=True)
+class RoleChoice:
+    """What fills one role: the equivalent value and the parts that make it."""
+
+    role: str
+    value: float
+    arrangement: str = "single"
+    describe: str = ""
+    tolerance: float | None = None
+    rating: float | None = None
+    parts: tuple[PlacedPart, ...] = ()
+
+    @property
+    def part_count(self) -> int:
+        return max(1, len(self.parts))
+
+
+@dataclass(frozen=True)
+class PickItem:
+    """One line of the pick list: take ``count`` of ``part`` from bin ``location``."""
+
+    location: str
+    part: str
+    per_unit: int
+    count: int
+    source: Mapping[str, object] = field(default_factory=dict)
+
+
+@dataclass(frozen=True)
+class DesignFile:
+    """Everything the report and the exports need from DESIGN.toml, in SI units."""
+
+    path: str
+    stage: Stage
+    conditions: Conditions
+    targets: Mapping[str, float]
+    units: int = 1
+    stock_file: str | None = None
+    stock_checksum: str | None = None
+    roles: Mapping[str, RoleChoice] = field(default_factory=dict)
+    pick_list: tuple[PickItem, ...] = ()
+    transistor_location: str = ""
+    transistor_source: Mapping[str, object] = field(default_factory=dict)
+    spec: object = None  # the spec.Spec the stage came from (targets, mains, assumptions)
+
+    @property
+    def is_design(self) -> bool:
+        """True when the file came from the optimizer (it names roles or a pick list)."""
+        return bool(self.roles or self.pick_list)
+
+
+def _where(path: str, key: str) -> str:
+    return f"{path}: {key}"
+
+
+def _value(path: str, key: str, raw, unit: str | None) -> float:
+    try:
+        return parse_value(raw, unit)
+    except ValueParseError as exc:
+        raise SpecError(f"{_where(path, key)}: {exc}") from None
+
+
+def _tol(path, key, raw) -> float:
+    try:
+        return parse_tolerance(raw)
+    except ValueParseError as exc:
+        raise SpecError(f"{_where(path, key)}: {exc}") from None
+
+
+def _source(raw) -> dict:
+    return dict(raw) if isinstance(raw, Mapping) else {}
+
+
+def _roles(path: str, table: Mapping) -> dict[str, RoleChoice]:
+    out = {}
+    for role, t in table.items():
+        if not isinstance(t, Mapping):
+            raise SpecError(f"{_where(path, f'design.roles.{role}')}: must be a table")
+        if role not in RESISTOR_ROLES + CAPACITOR_ROLES + ("Q1",):
+            raise SpecError(f"{_where(path, f'design.roles.{role}')}: no such role")
+        unit = "ohm" if role in RESISTOR_ROLES else "F" if role in CAPACITOR_ROLES else None
+        parts = []
+        for i, p in enumerate(t.get("parts", [])):
+            key = f"design.roles.{role}.parts[{i}]"
+            if not isinstance(p, Mapping) or ("value" not in p and unit):
+                raise SpecError(f"{_where(path, key)}: needs a value")
+            value = _value(path, key, p["value"], unit) if unit else math.nan
+            parts.append(PlacedPart(value, str(p.get("location", "")), _source(p.get("source"))))
+        value = _value(path, f"design.roles.{role}.value", t["value"], unit) if "value" in t else math.nan
+        tol = _tol(path, f"design.roles.{role}.tolerance", t["tolerance"]) if "tolerance" in t else None
+        rating = None
+        if "rating" in t:
+            rating = _value(path, f"design.roles.{role}.rating", t["rating"],
+                            "W" if unit == "ohm" else "V" if unit == "F" else None)
+        out[role] = RoleChoice(role, value, str(t.get("arrangement", "single")), str(t.get("describe", "")),
+                               tol, rating, tuple(parts))
+    return out
+
+
+def _pick_list(path: str, items) -> tuple[PickItem, ...]:
+    out = []
+    for i, p in enumerate(items or []):
+        key = f"pick_list[{i}]"
+        try:
+            out.append(PickItem(str(p.get("location", "")), str(p.get("part", "")), int(p.get("per_unit", 0)),
+                                int(p.get("count", 0)), _source(p.get("source"))))
+        except (TypeError, ValueError, AttributeError):
+            raise SpecError(f"{_where(path, key)}: per_unit and count must be whole numbers") from None
+    return tuple(out)
+
+
+DESIGN_KEYS = ("units", "stock_file", "stock_checksum", "pick_list", "design")
+
+
+def load_design(path: str | Path, stock=None) -> DesignFile:
+    """Read DESIGN.toml (or a plain analyze spec); SpecError names the file and the key.
+
+    The stage part goes through ``spec.parse_spec`` (the same reader as ``analyze``);
+    ``stock`` (a ``parts.Stock``) resolves a transistor given only by its label.
+    """
+    from ..spec import parse_spec
+
+    path = str(path)
+    try:
+        with open(path, "rb") as fh:
+            data = tomllib.load(fh)
+    except FileNotFoundError:
+        raise SpecError(f"{path}: no such file") from None
+    except tomllib.TOMLDecodeError as exc:
+        raise SpecError(f"{path}: not valid TOML ({exc})") from None
+    except OSError as exc:
+        raise SpecError(f"{path}: cannot read ({exc.strerror})") from None
+    spec = parse_spec({k: v for k, v in data.items() if k not in DESIGN_KEYS}, path, stock)
+    stage = spec.stage()
+    design = data.get("design", {})
+    if not isinstance(design, Mapping):
+        raise SpecError(f"{path}: design: must be a table")
+    role_tables = design.get("roles", {})
+    if not isinstance(role_tables, Mapping):
+        raise SpecError(f"{path}: design.roles: must be a table")
+    units = data.get("units", 1)
+    if isinstance(units, bool) or not isinstance(units, int) or units < 1:
+        raise SpecError(f"{path}: units = {units!r}: must be a whole number, 1 or more")
+    roles = _roles(path, role_tables)
+    q1 = roles.pop("Q1", None)
+    pick_list = _pick_list(path, data.get("pick_list"))
+    t_loc, t_src = "", {}
+    if q1 is not None and q1.parts:
+        t_loc, t_src = q1.parts[0].location, dict(q1.parts[0].source)
+    return DesignFile(
+        path=path, stage=stage, conditions=spec.conditions,
+        targets=spec.targets.given() if spec.targets is not None else {}, units=units,
+        stock_file=data.get("stock_file"), stock_checksum=data.get("stock_checksum"),
+        roles=roles, pick_list=pick_list, transistor_location=t_loc, transistor_source=t_src,
+        spec=spec,
+    )

@@ -103,18 +103,20 @@ def test_people_output_and_bad_spec(tmp_path, samples):
     assert r.exit_code == 2 and "ie" in r.output and "Traceback" not in r.output
 
 
-def test_report_option_says_plainly_when_unavailable_or_writes(tmp_path, samples):
-    out = tmp_path / "r.html"
+def test_report_option_writes_the_html_report(tmp_path, samples):
+    import tomllib
+
+    from drawerfit.values import format_code
+
+    out, saved = tmp_path / "r.html", tmp_path / "d.toml"
     r = CliRunner().invoke(main, ["design", str(samples / "specs" / "bench_buffer.toml"), "--stock",
-                                  str(samples / "teaching_lab.csv"), "--report", str(out), "--quiet"])
-    try:
-        from drawerfit.report.html import write_report  # noqa: F401
-    except ImportError:
-        assert r.exit_code == 2 and "not available yet" in r.output
-        assert not out.exists()
-    else:
-        assert r.exit_code == 0, r.output
-        assert out.read_text(encoding="utf-8").lstrip().lower().startswith("<!doctype html")
+                                  str(samples / "teaching_lab.csv"), "--report", str(out), "--save", str(saved),
+                                  "--quiet"])
+    assert r.exit_code == 0, r.output
+    page = out.read_text(encoding="utf-8")
+    re_value = tomllib.loads(saved.read_text(encoding="utf-8"))["design"]["roles"]["RE"]["value"]
+    assert page.lstrip().lower().startswith("<!doctype html")
+    assert format_code(float(re_value), "ohm") in page  # the chosen emitter resistor is on the page
 
 
 def test_demo_writes_nothing_into_the_samples(samples):

@@ -7,10 +7,8 @@ ngspice in tests/reference) for whether a chosen design meets its spec.
 
 from __future__ import annotations
 
-import json
 import math
 
-import pytest
 from hypothesis import HealthCheck, event, given, settings, strategies as st
 
 from drawerfit.analysis import analyse

@@ -8,7 +8,7 @@ from pathlib import Path
 
 import click
 
-from ..parts import DrawerfitError, NoDesignError, SpecError
+from ..parts import NoDesignError, SpecError
 from ..values import format_code, format_si
 
 __all__ = ["run_design", "run_demo", "design_json", "saved_design", "pick_list"]
@@ -210,7 +210,6 @@ def _print_choice(result, spec, analysis, cautions, quiet: bool) -> None:
                f"{best.part_count} resistors and capacitors")
     click.echo(f"  Q1   {tr.label}  [{tr.location or '-'}; row {tr.source.row}]  hFE {tr.hfe_min:g}..{tr.hfe_max:g}")
     click.echo(f"  {'role':4} {'value':>9}  {'arrangement':15} {'tol':>5} {'rating':>7} {'dissip.':>9}  parts (bin; row)")
-    power = analysis.power() if analysis is not None else {}
     wc = analysis.worst if analysis is not None else None
     for role, c in best.roles.items():
         eq = c.equivalent
@@ -284,10 +283,8 @@ def run_design(spec_file: str, stock_file: str, *, units: int = 1, max_parts: in
     from ..search.design import design
     from ..search.problem import problem_from_spec
     from ..spec import load_spec
-    from .common import load_stock_reporting, report_problems
+    from .common import report_problems
 
-    if report is not None:
-        _report_available()
     from ..stock import load_stock
 
     stock = load_stock(stock_file, strict=strict)
@@ -338,15 +335,6 @@ def _check_not_input(path: Path, *inputs: str) -> None:
             raise SpecError(f"{path}: will not write over an input file")
 
 
-def _report_available() -> None:
-    try:
-        from ..report import html  # noqa: F401
-    except ImportError:
-        raise DrawerfitError("--report: the HTML report is not available yet in this build") from None
-    if not hasattr(html, "write_report"):
-        raise DrawerfitError("--report: the HTML report is not available yet in this build")
-
-
 # --- demo -----------------------------------------------------------------------------------
 
 DEMO_SPECS = ("bench_buffer.toml", "gain_stage.toml")
@@ -360,7 +348,7 @@ def run_demo() -> None:
         spec = root / "specs" / name
         click.echo(f"=== drawerfit design {spec.relative_to(root.parent)} --stock {stock_file.relative_to(root.parent)}")
         try:
-            run_design(str(spec), str(stock_file), quiet=True)
+            run_design(str(spec), str(stock_file))
         except NoDesignError as exc:
             click.echo(f"(no design: {exc})")
         click.echo("")

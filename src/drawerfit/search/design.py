@@ -8,10 +8,7 @@ objective and docs/method.md ("Design search") for the exactness argument.
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass, field
-
-import numpy as np
 
 from ..parts import Stock, StockLine
 from ..stages import Part, Stage, TransistorModel

@@ -24,7 +24,7 @@ from __future__ import annotations
 
 import heapq
 import itertools
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from typing import Mapping, Sequence
 
 import numpy as np
@@ -35,7 +35,7 @@ from .evaluate import (Context, cap_margin, corner_ok, evaluate_resistors, lowes
 from .joins import candidate_sets
 from .tables import RoleTable, equivalent_key
 
-__all__ = ["RSet", "Completion", "Found", "search_transistor", "stock_usage", "resistor_sets_exhaustive"]
+__all__ = ["Completion", "Found", "search_transistor", "stock_usage", "resistor_sets_exhaustive"]
 
 HUGE_CAP_FACTOR = 10.0
 LB_CHUNK = 256  # resistor sets whose capacitor bound is computed together

@@ -30,7 +30,7 @@ from typing import Iterator, Mapping
 import numpy as np
 
 from ..analysis import core
-from .evaluate import Context, Vertex, vertex_dc
+from .evaluate import Context, vertex_dc
 from .tables import RoleTable
 
 __all__ = ["candidate_sets"]

@@ -192,17 +192,20 @@ class _Pairs:
     pol_series: np.ndarray
 
 
+def _combine(kind: str, recip: bool, a: tuple, b: tuple) -> tuple:
+    """(value, low end, high end, rating) of two blocks combined, each given as such a tuple."""
+    comb = combine_recip if recip else combine_sum
+    rate = rating_recip if recip else rating_sum
+    return comb(a[0], b[0]), comb(a[1], b[1]), comb(a[2], b[2]), rate(kind, a[0], a[3], b[0], b[3])
+
+
 def _pairs(pool: _Pool, recip: bool, units: int) -> _Pairs:
     n = len(pool.v)
     i, j = np.triu_indices(n)
     ok = (i != j) | (pool.qty[i] >= 2 * units)
     i, j = i[ok], j[ok]
-    comb = combine_recip if recip else combine_sum
-    rate = rating_recip if recip else rating_sum
-    v = comb(pool.v[i], pool.v[j])
-    lo = comb(pool.lo[i], pool.lo[j])
-    hi = comb(pool.hi[i], pool.hi[j])
-    r = rate(pool.kind, pool.v[i], pool.r[i], pool.v[j], pool.r[j])
+    v, lo, hi, r = _combine(pool.kind, recip, (pool.v[i], pool.lo[i], pool.hi[i], pool.r[i]),
+                            (pool.v[j], pool.lo[j], pool.hi[j], pool.r[j]))
     series_caps = pool.kind == "capacitor" and recip
     pol_series = (pool.pol[i] | pool.pol[j]) & series_caps
     order = np.argsort(v, kind="stable")
@@ -299,12 +302,8 @@ def _form_of(kind: str, pair_recip: bool, outer_recip: bool | None = None) -> in
 def _triples(pool: _Pool, pr: _Pairs, pair_recip: bool, outer_recip: bool, a: np.ndarray, k: np.ndarray,
              units: int) -> EquivalentTable:
     """Triples 'pool[a] <outer> pairs[k]' for matching index arrays a, k (already in range)."""
-    comb = combine_recip if outer_recip else combine_sum
-    rate = rating_recip if outer_recip else rating_sum
-    v = comb(pool.v[a], pr.v[k])
-    lo = comb(pool.lo[a], pr.lo[k])
-    hi = comb(pool.hi[a], pr.hi[k])
-    r = rate(pool.kind, pool.v[a], pool.r[a], pr.v[k], pr.r[k])
+    v, lo, hi, r = _combine(pool.kind, outer_recip, (pool.v[a], pool.lo[a], pool.hi[a], pool.r[a]),
+                            (pr.v[k], pr.lo[k], pr.hi[k], pr.r[k]))
     pos = np.stack([a, pr.i[k], pr.j[k]], axis=1)
     series_caps_outer = pool.kind == "capacitor" and outer_recip
     pol_series = pr.pol_series[k] | (series_caps_outer & (pool.pol[a] | pool.pol[pr.i[k]] | pool.pol[pr.j[k]]))

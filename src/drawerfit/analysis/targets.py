@@ -47,14 +47,13 @@ class Targets:
     def to_dict(self) -> dict:
         return asdict(self)
 
-    @property
-    def centre(self) -> dict[str, float]:
-        """The middle of each two-sided window (IE, gain), for "closest to target" scoring."""
+    def centres(self) -> dict[str, tuple[float, float]]:
+        """Two-sided windows (IE, gain) as (centre, half width), for "closest to target" scoring."""
         out = {}
         if self.ie_min is not None and self.ie_max is not None:
-            out["ie"] = 0.5 * (self.ie_min + self.ie_max)
+            out["ie"] = (0.5 * (self.ie_min + self.ie_max), 0.5 * (self.ie_max - self.ie_min))
         if self.gain_min is not None and self.gain_max is not None:
-            out["gain"] = 0.5 * (self.gain_min + self.gain_max)
+            out["gain"] = (0.5 * (self.gain_min + self.gain_max), 0.5 * (self.gain_max - self.gain_min))
         return out
 
 

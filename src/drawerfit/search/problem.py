@@ -12,6 +12,7 @@ import math
 from dataclasses import dataclass, field, replace
 
 from ..parts import SpecError
+from ..analysis.targets import Targets
 from ..stages import Conditions
 
 __all__ = ["DesignTargets", "DesignProblem", "GUARANTEES", "PREFERENCES", "roles_of", "problem_from_spec"]
@@ -32,42 +33,24 @@ def roles_of(topology: str, bypass: bool) -> tuple[tuple[str, ...], tuple[str, .
 
 
 @dataclass(frozen=True)
-class DesignTargets:
-    """Targets in SI units; None means no target.
+class DesignTargets(Targets):
+    """The analysis targets, checked for a design: the IE window is required, the rest optional.
 
     ``ie_min``/``ie_max`` bound the emitter current (A); ``f_low`` is the highest allowed whole-stage
     −3 dB corner (Hz); ``swing`` the least symmetric output peak into the load (V); ``rin_min``,
     ``rout_max`` in ohm; ``gain_min``/``gain_max`` bound the magnitude of the source-to-load gain.
     """
 
-    ie_min: float
-    ie_max: float
-    f_low: float | None = None
-    swing: float | None = None
-    rin_min: float | None = None
-    rout_max: float | None = None
-    gain_min: float | None = None
-    gain_max: float | None = None
-
     def __post_init__(self) -> None:
-        if not (0 < self.ie_min <= self.ie_max and math.isfinite(self.ie_max)):
-            raise SpecError(f"[targets]: need 0 < ie_min <= ie_max (got {self.ie_min}, {self.ie_max})")
+        lo, hi = self.ie_min, self.ie_max
+        if lo is None or hi is None or not (0 < lo <= hi and math.isfinite(hi)):
+            raise SpecError(f"[targets]: need 0 < ie_min <= ie_max (got {lo}, {hi})")
         for name in ("f_low", "swing", "rin_min", "rout_max", "gain_min", "gain_max"):
             v = getattr(self, name)
             if v is not None and not (v > 0 and math.isfinite(v)):
                 raise SpecError(f"[targets]: {name} must be positive, not {v!r}")
         if self.gain_min is not None and self.gain_max is not None and self.gain_min > self.gain_max:
             raise SpecError("[targets]: gain_min is above gain_max")
-
-    def centres(self) -> dict[str, tuple[float, float]]:
-        """Two-sided windows as (centre, half width): IE always, gain when both ends are given."""
-        out = {"ie": (0.5 * (self.ie_min + self.ie_max), 0.5 * (self.ie_max - self.ie_min))}
-        if self.gain_min is not None and self.gain_max is not None:
-            out["gain"] = (0.5 * (self.gain_min + self.gain_max), 0.5 * (self.gain_max - self.gain_min))
-        return out
-
-    def to_dict(self) -> dict:
-        return {k: getattr(self, k) for k in self.__dataclass_fields__}
 
 
 @dataclass(frozen=True)

@@ -23,6 +23,16 @@ class StageError(SpecError):
     """A stage that cannot be analysed as given (a missing or impossible part)."""
 
 
+def check_roles(parts, required, optional, stage_name: str) -> None:
+    """Every required role present and no role the topology lacks; StageError otherwise."""
+    missing = [r for r in required if r not in parts]
+    if missing:
+        raise StageError(f"{stage_name} needs {', '.join(missing)}")
+    extra = sorted(set(parts) - set(required) - set(optional))
+    if extra:
+        raise StageError(f"{stage_name} has no role {', '.join(extra)}")
+
+
 @dataclass(frozen=True)
 class Part:
     """One part in a role: value in ohm or farad, tolerance as a fraction.

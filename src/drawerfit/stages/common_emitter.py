@@ -16,14 +16,9 @@ OUTPUT_NODE = "c"
 
 
 def validate_roles(parts: Mapping[str, object]) -> None:
-    from .base import StageError
+    from .base import StageError, check_roles
 
-    missing = [r for r in REQUIRED if r not in parts]
-    if missing:
-        raise StageError(f"a common-emitter stage needs {', '.join(missing)}")
-    extra = sorted(set(parts) - set(REQUIRED) - set(OPTIONAL))
-    if extra:
-        raise StageError(f"a common-emitter stage has no role {', '.join(extra)}")
+    check_roles(parts, REQUIRED, OPTIONAL, "a common-emitter stage")
     if "CE" in parts and "RE2" not in parts:
         raise StageError("CE bypasses RE2, but there is no RE2")
 

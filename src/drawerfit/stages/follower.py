@@ -15,14 +15,9 @@ OUTPUT_NODE = "e"
 
 
 def validate_roles(parts: Mapping[str, object]) -> None:
-    from .base import StageError
+    from .base import check_roles
 
-    missing = [r for r in REQUIRED if r not in parts]
-    if missing:
-        raise StageError(f"an emitter follower needs {', '.join(missing)}")
-    extra = sorted(set(parts) - set(REQUIRED) - set(OPTIONAL))
-    if extra:
-        raise StageError(f"an emitter follower has no {', '.join(extra)} (that is a common-emitter role)")
+    check_roles(parts, REQUIRED, OPTIONAL, "an emitter follower")
 
 
 def elements(polarity: str, parts: Mapping[str, object]) -> list[tuple[str, str, str, str]]:

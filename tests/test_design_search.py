@@ -155,3 +155,19 @@ def test_exhaustive_flag_and_top_agree_on_a_sample_spec():
     b = design(p, stock, top=4, exhaustive=True, suggest=False)
     assert a.feasible and _keys(a) == _keys(b)
     assert [k[:3] for k in _keys(a)] == sorted(k[:3] for k in _keys(a))  # best first
+
+
+@settings(max_examples=8, deadline=None, derandomize=True, suppress_health_check=[HealthCheck.too_slow])
+@given(data=st.data(), ie=st.sampled_from([0.5e-3, 1e-3]), bypass=st.booleans(),
+       polarity=st.sampled_from(["npn", "pnp"]))
+def test_common_emitter_with_pairs_equals_exhaustive(data, ie, bypass, polarity):
+    # the same oracle as above, with every role allowed to be a pair (small drawers keep the naive
+    # enumeration affordable)
+    stock = data.draw(drawers(n_res=(2, 3), n_cap=(2, 2), polarity=polarity))
+    p = DesignProblem("common-emitter", polarity, 12.0,
+                      DesignTargets(ie_min=0.6 * ie, ie_max=1.4 * ie, f_low=500.0),
+                      load=10e3, max_parts=2, bypass=bypass)
+    fast = design(p, stock, top=2, suggest=False)
+    slow = design(p, stock, top=2, exhaustive=True, suggest=False)
+    event(fast.status)
+    assert _keys(fast) == _keys(slow)

@@ -13,7 +13,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any, Mapping
 
-from .constants import TOL_ELECTROLYTIC, TOL_FILM, TOL_RESISTOR
+from .constants import TOL_CERAMIC, TOL_ELECTROLYTIC, TOL_RESISTOR
 from .parts import SpecError
 from .values import ValueParseError, parse_tolerance, parse_value, parse_value_and_tolerance
 
@@ -317,7 +317,8 @@ def _parts(r: _Reader, data, topology) -> dict:
             if polarized:
                 assumed_polar.append(role)
         if tol is None:
-            tol = TOL_RESISTOR if unit == "ohm" else (TOL_ELECTROLYTIC if polarized else TOL_FILM)
+            # unknown construction: ceramic, as the stock loader assumes (docs/inventory-format.md)
+            tol = TOL_RESISTOR if unit == "ohm" else (TOL_ELECTROLYTIC if polarized else TOL_CERAMIC)
             assumed_tol.setdefault(tol, []).append(role)
         try:
             parts[role] = Part(value=value, tolerance=tol, rating=rating, polarized=bool(polarized))

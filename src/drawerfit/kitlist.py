@@ -17,6 +17,7 @@ from pathlib import Path
 
 from .constants import TOL_CERAMIC, TOL_RESISTOR
 from .parts import Problem, SpecError, UNIT_OF_KIND, KIND_OF_UNIT
+from .stock.headers import normalise
 from .values import (ValueParseError, format_si, implied_unit, parse_quantity, parse_tolerance,
                      parse_value_and_tolerance)
 
@@ -54,20 +55,14 @@ _RANGE_RE = re.compile(r"^([A-Za-z]+)(\d+)\s*[-–]\s*([A-Za-z]*)(\d+)$")
 _DESIG_LETTER = {"R": "resistor", "C": "capacitor", "Q": "transistor"}
 
 
-def _norm(text: str) -> str:
-    from .stock.headers import normalise
-
-    return normalise(text)
-
-
 def match_kit_header(text: object) -> str | None:
     """The field a parts-list header names, or None; a unit in the header ('Min power (W)') is ignored."""
     if text is None:
         return None
-    from .stock.headers import _split_unit
+    from .stock.headers import split_unit
 
-    words, _unit = _split_unit(str(text))
-    return _HEADER_OF.get(_norm(words)) or _HEADER_OF.get(_norm(str(text)))
+    words, _unit = split_unit(str(text))
+    return _HEADER_OF.get(normalise(words)) or _HEADER_OF.get(normalise(str(text)))
 
 
 @dataclass(frozen=True)
@@ -216,9 +211,9 @@ def _read_line(file, sheet, r, row, names, problems) -> KitLine | None:
     kind = None
     kind_text = str(row.get("kind", "")).strip()
     if kind_text:
-        from .stock.lines import _kind_from_word  # the stock loader's own kind words
+        from .stock.lines import kind_from_word  # the stock loader's own kind words
 
-        kind = _KIND_WORDS.get(_norm(kind_text)) or _kind_from_word(kind_text)[0]
+        kind = _KIND_WORDS.get(normalise(kind_text)) or kind_from_word(kind_text)[0]
         if kind is None:
             bad("kind", kind_text, "unknown kind (use resistor, capacitor or transistor)")
             return None

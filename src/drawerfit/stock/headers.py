@@ -64,7 +64,7 @@ def normalise(text: str) -> str:
 _QUALIFIERS = {"min", "max", "typ", "sat", "on", "total", "rated"}
 
 
-def _split_unit(header: str) -> tuple[str, str | None]:
+def split_unit(header: str) -> tuple[str, str | None]:
     m = _UNIT_IN_HEADER.match(header.strip())
     if m:
         inside = m.group(2).strip()
@@ -84,7 +84,7 @@ def match_header(text: object) -> str | None:
     """The field a header names, or None: 'Working Voltage (V)' -> 'voltage'."""
     if text is None:
         return None
-    words, _unit = _split_unit(str(text))
+    words, _unit = split_unit(str(text))
     key = normalise(words)
     if key in _WORD_TO_FIELD:
         return _WORD_TO_FIELD[key]
@@ -102,7 +102,7 @@ def column_for(header: object, index: int) -> Column | None:
     field = match_header(header)
     if field is None:
         return None
-    _words, unit_text = _split_unit(str(header))
+    _words, unit_text = split_unit(str(header))
     unit, scale = None, 1.0
     if unit_text:
         try:

@@ -45,7 +45,7 @@ def _text(cell: object) -> str:
     return str(cell).strip()
 
 
-def _kind_from_word(word: str) -> tuple[str | None, str | None, str | None]:
+def kind_from_word(word: str) -> tuple[str | None, str | None, str | None]:
     """(kind, dielectric, polarity) named by a kind cell such as 'Electrolytic' or 'NPN'."""
     key = normalise(word)
     if key in _WORD_KIND:
@@ -141,7 +141,7 @@ def read_sheet(rows: list[list[object]], numbers: list[int], file: str, sheet: s
     if unknown:
         out.problems.append(Problem(file, sheet, numbers[head_at], None, ", ".join(unknown),
                                     "columns not recognised and ignored", "warning"))
-    sheet_kind = _kind_from_word(sheet)[0] if sheet else None
+    sheet_kind = kind_from_word(sheet)[0] if sheet else None
     value_col = cols.get("value")
     header_kind = None
     if value_col is not None:
@@ -169,7 +169,7 @@ def _read_line(row: _Row, index: int, hint: str | None, source: Source) -> Stock
     kind, dielectric, polarity = None, None, None
     kind_cell = row.raw("kind")
     if kind_cell is not None:
-        kind, dielectric, polarity = _kind_from_word(_text(kind_cell))
+        kind, dielectric, polarity = kind_from_word(_text(kind_cell))
         if kind is None:
             row.problem("kind", kind_cell, "unknown kind (expected resistor, capacitor or transistor)")
             return None
@@ -228,7 +228,7 @@ def _read_line(row: _Row, index: int, hint: str | None, source: Source) -> Stock
 
     diel_cell = row.raw("dielectric")
     if diel_cell is not None:
-        dielectric = _kind_from_word(_text(diel_cell))[1] or normalise(_text(diel_cell)) or dielectric
+        dielectric = kind_from_word(_text(diel_cell))[1] or normalise(_text(diel_cell)) or dielectric
     polarized = DIELECTRICS.get(dielectric or "", None)
     pol_cell = row.raw("polarity")
     if pol_cell is not None:

@@ -19,7 +19,6 @@ what that take left, then puts the backup back (or, if the backup is gone, write
 from __future__ import annotations
 
 import datetime as _dt
-import hashlib
 import json
 import os
 import shutil
@@ -28,6 +27,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 
 from .parts import StockError
+from .stock.readers import file_checksum  # the same checksum the loader records in Stock.checksum
 
 __all__ = ["PickEntry", "TakePlan", "Change", "TakeResult", "read_pick_list", "plan_take", "take",
            "undo", "log_path", "lock_path", "file_checksum"]
@@ -100,10 +100,6 @@ class TakeResult:
     dry_run: bool = False
     undone: str | None = None  # id of the take that an undo reversed
     notes: tuple[str, ...] = field(default_factory=tuple)
-
-
-def file_checksum(data: bytes) -> str:
-    return "sha256:" + hashlib.sha256(data).hexdigest()
 
 
 def log_path(stock_file: str | os.PathLike) -> Path:

@@ -30,7 +30,7 @@ from .parts import StockError
 from .stock.readers import file_checksum  # the same checksum the loader records in Stock.checksum
 
 __all__ = ["PickEntry", "TakePlan", "Change", "TakeResult", "read_pick_list", "plan_take", "take",
-           "undo", "log_path", "lock_path", "file_checksum"]
+           "undo", "log_path", "lock_path", "file_checksum", "pick_entries"]
 
 LOG_SUFFIX = ".takes.jsonl"
 LOCK_SUFFIX = ".take-lock"
@@ -144,15 +144,21 @@ def read_pick_list(path: str | os.PathLike) -> PickList:
         raise TakeError(f"{p}: 'units' must be a whole number of at least 1, not {units!r}")
     if not isinstance(doc["pick_list"], list):
         raise TakeError(f"{p}: 'pick_list' must be a list of entries")
+    entries = pick_entries(doc["pick_list"], units, str(p))
+    return PickList(str(p), units, str(doc["stock_checksum"]), entries)
+
+
+def pick_entries(items: list, units: int, where_file: str) -> tuple[PickEntry, ...]:
+    """The entries of a ``pick_list`` array (kit JSON or saved design TOML), checked one by one."""
     entries = []
-    for i, e in enumerate(doc["pick_list"], start=1):
-        where = f"{p}, pick_list entry {i}"
+    for i, e in enumerate(items, start=1):
+        where = f"{where_file}, pick_list entry {i}"
         try:
             src = e["source"]
             row = src["row"]
             count = e["count"]
             per_unit = e.get("per_unit", count / units)
-        except (KeyError, TypeError):
+        except (KeyError, TypeError, AttributeError):
             raise TakeError(f"{where}: needs 'source' (with 'row'), 'count' and 'per_unit'") from None
         if isinstance(row, bool) or not isinstance(row, int) or row < 1:
             raise TakeError(f"{where}: 'row' must be a row number, not {row!r}")
@@ -164,7 +170,7 @@ def read_pick_list(path: str | os.PathLike) -> PickList:
         entries.append(PickEntry(sheet=sheet, row=row, per_unit=float(per_unit), count=count,
                                  part=str(e.get("part", "")), location=str(e.get("location", "")),
                                  file=str(src.get("file", ""))))
-    return PickList(str(p), units, str(doc["stock_checksum"]), tuple(entries))
+    return tuple(entries)
 
 
 def _counts_for_units(pick: PickList, units: int | None) -> dict[tuple[str | None, int], int]:

@@ -55,7 +55,7 @@ class PickItem:
 
     location: str
     part: str
-    per_unit: int
+    per_unit: float  # whole for a design; a kit may spread a part over bins
     count: int
     source: Mapping[str, object] = field(default_factory=dict)
 
@@ -131,15 +131,19 @@ def _roles(path: str, table: Mapping) -> dict[str, RoleChoice]:
     return out
 
 
-def _pick_list(path: str, items) -> tuple[PickItem, ...]:
+def _pick_list(path: str, items, units: int) -> tuple[PickItem, ...]:
+    """The saved pick list, checked by the same rules as ``take`` reads it."""
+    from ..take import pick_entries
+
+    if not items:
+        return ()
+    if not isinstance(items, list):
+        raise SpecError(f"{_where(path, 'pick_list')}: must be a list of entries")
     out = []
-    for i, p in enumerate(items or []):
-        key = f"pick_list[{i}]"
-        try:
-            out.append(PickItem(str(p.get("location", "")), str(p.get("part", "")), int(p.get("per_unit", 0)),
-                                int(p.get("count", 0)), _source(p.get("source"))))
-        except (TypeError, ValueError, AttributeError):
-            raise SpecError(f"{_where(path, key)}: per_unit and count must be whole numbers") from None
+    for e in pick_entries(items, units, path):
+        per_unit = int(e.per_unit) if float(e.per_unit).is_integer() else e.per_unit
+        out.append(PickItem(e.location, e.part, per_unit, e.count,
+                            {"file": e.file, "sheet": e.sheet, "row": e.row}))
     return tuple(out)
 
 
@@ -177,7 +181,7 @@ def load_design(path: str | Path, stock=None) -> DesignFile:
         raise SpecError(f"{path}: units = {units!r}: must be a whole number, 1 or more")
     roles = _roles(path, role_tables)
     q1 = roles.pop("Q1", None)
-    pick_list = _pick_list(path, data.get("pick_list"))
+    pick_list = _pick_list(path, data.get("pick_list"), units)
     t_loc, t_src = "", {}
     if q1 is not None and q1.parts:
         t_loc, t_src = q1.parts[0].location, dict(q1.parts[0].source)

@@ -10,6 +10,7 @@ import click
 
 from ..parts import NoDesignError, SpecError
 from ..values import format_code, format_si
+from .common import rating_text
 
 __all__ = ["run_design", "run_demo", "design_json", "saved_design", "pick_list"]
 
@@ -18,10 +19,6 @@ _UNIT = {"resistor": "ohm", "capacitor": "F"}
 
 def _code(value: float, kind: str) -> str:
     return format_code(value, _UNIT[kind], ascii_only=False)
-
-
-def _rating(kind: str, r: float) -> str:
-    return format_si(r, "W" if kind == "resistor" else "V", 3)
 
 
 def _src(line) -> dict:
@@ -34,7 +31,7 @@ def _part_name(line) -> str:
     rating = line.power if line.kind == "resistor" else line.voltage
     extra = f" {line.tolerance:.0%}" if line.tolerance is not None else ""
     if rating is not None:
-        extra += f" {_rating(line.kind, rating)}"
+        extra += f" {rating_text(line.kind, rating)}"
     if line.kind == "capacitor" and line.polarized:
         extra += " electrolytic"
     return f"{line.kind} {_code(line.value, line.kind)}{extra}"
@@ -221,7 +218,7 @@ def _print_choice(result, spec, analysis, cautions, quiet: bool) -> None:
             dis = ""
         parts = ", ".join(f"{_code(m.value, kind)} [{m.location or '-'}; row {m.source.row}]" for m in eq.members)
         click.echo(f"  {role:4} {format_si(eq.value, _UNIT[kind], 4):>9}  {eq.describe() if eq.part_count > 1 else eq.arrangement:15}"
-                   f" {c.tolerance * 100:4.1f}% {_rating(kind, c.rating):>7} {dis:>9}  {parts}")
+                   f" {c.tolerance * 100:4.1f}% {rating_text(kind, c.rating):>7} {dis:>9}  {parts}")
         if c.orientation:
             click.echo(f"       polarized: fit with {c.orientation} (DC across it stays one sign over the box)")
     click.echo("")
@@ -264,7 +261,7 @@ def _print_infeasible(result) -> None:
         ok = "checked: the search finds a design with them added" if result.buy_checked else "NOT confirmed by a second search"
         click.echo(f"What to buy ({ok}):")
         for b in result.buy:
-            r = _rating(b["kind"], b["rating"])
+            r = rating_text(b["kind"], b["rating"])
             pol = " electrolytic" if b["polarized"] else ""
             click.echo(f"  {b['count']} x {b['kind']} {_code(b['value'], b['kind'])} {b['tolerance']:.0%} {r}{pol}"
                        f"  ({b['per_unit']} per unit, for {', '.join(b['roles'])})")

@@ -38,11 +38,34 @@ def _part_name(line) -> str:
 
 
 def pick_list(choice, units: int) -> list[dict]:
-    """Bin, part and count for ``units`` builds, one entry per stock line, in bin order."""
+    """Bin, part and count for ``units`` builds, one entry per stock line given from, in bin order.
+
+    A part drawn from another line than the one the design names (same value, tolerance no wider,
+    rating no lower: docs/method.md, "Stock shared across roles and units") says which it stands in for.
+    """
+    roles_of: dict[int, list[str]] = {}
+    for role, c in choice.roles.items():
+        for line, _n in c.equivalent.uses:
+            roles_of.setdefault(line.index, []).append(role)
+    roles_of.setdefault(choice.transistor.index, []).append("Q1")
+    picks = choice.picks or tuple((ln, ln, n * units) for ln, n in choice.uses().values())
+    merged: dict[int, dict] = {}
+    for giver, needed, count in picks:
+        e = merged.setdefault(giver.index, {"location": giver.location, "part": _part_name(giver), "per_unit": 0,
+                                            "count": 0, "source": _src(giver), "roles": [], "stands_in_for": []})
+        e["count"] += count
+        for r in roles_of.get(needed.index, []):
+            if r not in e["roles"]:
+                e["roles"].append(r)
+        if giver.index != needed.index:
+            e["stands_in_for"].append({"part": _part_name(needed), "row": needed.source.row, "count": count})
     out = []
-    for line, per in choice.uses().values():
-        out.append({"location": line.location, "part": _part_name(line), "per_unit": per, "count": per * units,
-                    "source": _src(line)})
+    for e in merged.values():
+        per = e["count"] / units
+        e["per_unit"] = int(per) if per == int(per) else per
+        if not e["stands_in_for"]:
+            del e["stands_in_for"]
+        out.append(e)
     out.sort(key=lambda e: (e["location"], e["source"]["row"]))
     return out
 
@@ -236,7 +259,10 @@ def _print_choice(result, spec, analysis, cautions, quiet: bool) -> None:
     click.echo("")
     click.echo(f"Pick list ({problem.units} unit{'s' if problem.units > 1 else ''}):")
     for e in pick_list(best, problem.units):
-        click.echo(f"  {e['location'] or '-':10} {e['part']:38} x{e['count']}  (row {e['source']['row']})")
+        extra = f"  for {', '.join(e['roles'])}" if e.get("roles") else ""
+        for sub in e.get("stands_in_for", ()):
+            extra += f"; {sub['count']} stand in for {sub['part']} (row {sub['row']})"
+        click.echo(f"  {e['location'] or '-':10} {e['part']:38} x{e['count']}  (row {e['source']['row']}){extra}")
     if len(result.designs) > 1:
         click.echo("")
         click.echo("Next best:")

@@ -8,11 +8,12 @@ objective and docs/method.md ("Design search") for the exactness argument.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 
 from ..parts import Stock, StockLine
 from ..stages import Part, Stage, TransistorModel
 from .evaluate import Context
+from .pools import Pools
 from .engine import Found, search_transistor
 from .problem import DesignProblem
 from .tables import build_tables, with_default_ratings
@@ -46,6 +47,7 @@ class DesignChoice:
     target_margins: dict
     rating_margins: dict
     key: tuple
+    picks: tuple = ()  # (giving line, needed line, parts for all units): the drawer's bins, CP-SAT
 
     def stage(self, problem: DesignProblem) -> Stage:
         parts = {r: Part(c.equivalent.value, c.tolerance, c.rating, bool(c.equivalent.polarized))
@@ -152,8 +154,10 @@ def _choice(problem: DesignProblem, ctx: Context, f: Found) -> DesignChoice:
 
 def _run(problem: DesignProblem, lines, top: int, exhaustive: bool, virtual_ids=(), min_bought: int = 0,
          stats_out: dict | None = None, budget: int | None = None):
-    res_lines = [ln for ln in lines if ln.kind == "resistor"]
-    cap_lines = [ln for ln in lines if ln.kind == "capacitor"]
+    pools = Pools.build(lines, exclude=virtual_ids)
+    cand_lines = pools.search_lines(lines)
+    res_lines = [ln for ln in cand_lines if ln.kind == "resistor"]
+    cap_lines = [ln for ln in cand_lines if ln.kind == "capacitor"]
     rtables = build_tables(res_lines, "resistor", problem.max_parts, problem.units)
     ctables = build_tables(cap_lines, "capacitor", problem.max_parts, problem.units)
     trs, why = suitable_transistors(problem, lines)
@@ -168,14 +172,29 @@ def _run(problem: DesignProblem, lines, top: int, exhaustive: bool, virtual_ids=
         one: dict = {}
         left = None if budget is None else max(0, budget - stats.get("sets", 0))
         for f in search_transistor(ctx, tr, rtables, ctables, lines, top, exhaustive=exhaustive,
-                                   virtual_ids=virtual_ids, min_bought=min_bought, stats=one, budget=left):
+                                   virtual_ids=virtual_ids, min_bought=min_bought, stats=one, budget=left,
+                                   pools=pools):
             found.append((f, ctx))
         stats["sets"] = stats.get("sets", 0) + one.get("sets", 0)
         stats["truncated"] = stats.get("truncated", False) or one.get("truncated", False)
     found.sort(key=lambda fc: fc[0].key)
     if stats_out is not None:
         stats_out.update(stats)
-    return [_choice(problem, ctx, f) for f, ctx in found[:top]], trs, why
+    return [_with_picks(_choice(problem, ctx, f), pools, problem.units) for f, ctx in found[:top]], trs, why
+
+
+def _with_picks(choice: "DesignChoice", pools: Pools, units: int) -> "DesignChoice":
+    """The choice with its parts drawn from the drawer for ``units`` builds (CP-SAT, ``pools``)."""
+    need: dict[int, int] = {}
+    for c in choice.roles.values():
+        for line, n in c.equivalent.uses:
+            need[line.index] = need.get(line.index, 0) + n * units
+    given = pools.allocate(need)
+    if given is None:  # the search checked it; an allocation must exist
+        raise RuntimeError("internal: a design passed the stock check but cannot be drawn from the drawer")
+    picks = [(pools.lines[a], pools.lines[b], n) for b, rows in given.items() for a, n in rows]
+    picks.append((choice.transistor, choice.transistor, units))
+    return replace(choice, picks=tuple(picks))
 
 
 def design(problem: DesignProblem, stock: Stock, *, top: int = 1, exhaustive: bool = False,

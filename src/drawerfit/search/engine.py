@@ -7,8 +7,8 @@ Objective (lexicographic; smaller is better):
 P the number of resistors and capacitors; D the normalised distance of the nominal IE (and, for a
 common-emitter stage with a gain window, the nominal gain) to the centres of their windows,
 √Σ((x − centre)/half-width)²; M the smallest relative margin to the limits (derated power of every
-resistor and of the transistor, IC max, each capacitor's voltage margin); S the fewest parts any
-used stock line keeps after the build; ΣC the total capacitance; canonical the stock lines used,
+resistor and of the transistor, IC max, each capacitor's voltage margin); S the fewest parts left,
+after the build, that could stand in for a line the design names (``pools``); ΣC the total capacitance; canonical the stock lines used,
 so that equal designs are always told apart the same way.
 
 D depends on the resistors only and P, M, S, ΣC split into a resistor part and a capacitor part, so
@@ -33,9 +33,10 @@ from ..parts import StockLine
 from .evaluate import (Context, cap_margin, corner_ok, evaluate_resistors, lowest_caps, nominal_distance,
                        stacked_dc, vertex_dc)
 from .joins import candidate_sets
+from .pools import Pools
 from .tables import RoleTable, equivalent_key
 
-__all__ = ["Completion", "Found", "search_transistor", "stock_usage", "resistor_sets_exhaustive"]
+__all__ = ["Completion", "Found", "search_transistor", "resistor_sets_exhaustive"]
 
 HUGE_CAP_FACTOR = 10.0
 LB_CHUNK = 256  # resistor sets whose capacitor bound is computed together
@@ -82,37 +83,6 @@ class Found:
     transistor: StockLine
 
 
-def stock_usage(parts: Sequence[tuple[np.ndarray, np.ndarray]], units: int, qty: np.ndarray):
-    """(ok, fewest left) for designs whose roles use (members (n,3), counts (n,3)) stock lines."""
-    if not parts:
-        return np.ones(0, bool), np.zeros(0)
-    M = np.concatenate([m for m, _ in parts], axis=1)
-    C = np.concatenate([c for _, c in parts], axis=1)
-    n, k = M.shape
-    ok = np.ones(n, bool)
-    left = np.full(n, np.inf)
-    for j in range(k):
-        used = M[:, j] >= 0
-        if not used.any():
-            continue
-        tot = np.zeros(n, np.int64)
-        for i in range(k):
-            tot += np.where(M[:, i] == M[:, j], C[:, i], 0)
-        have = qty[np.where(used, M[:, j], 0)]
-        rest = have - units * tot
-        ok &= ~used | (rest >= 0)
-        left = np.where(used, np.minimum(left, rest), left)
-    return ok, left
-
-
-def _qty_lookup(lines: Sequence[StockLine]) -> np.ndarray:
-    size = max((ln.index for ln in lines), default=0) + 1
-    q = np.zeros(size, np.int64)
-    for ln in lines:
-        q[ln.index] = ln.qty
-    return q
-
-
 def _bought(parts, virtual) -> np.ndarray:
     """Parts per design taken from lines that are only shopping suggestions."""
     tot = 0
@@ -121,7 +91,8 @@ def _bought(parts, virtual) -> np.ndarray:
     return np.asarray(tot)
 
 
-def _judge_sets(ctx: Context, T: Mapping[str, RoleTable], idx: dict[str, np.ndarray], qty, pr: int, virtual):
+def _judge_sets(ctx: Context, T: Mapping[str, RoleTable], idx: dict[str, np.ndarray], pools: Pools, pr: int,
+                virtual):
     v = {r: T[r].v[idx[r]] for r in ctx.res_roles}
     tol = {r: T[r].tol[idx[r]] for r in ctx.res_roles}
     rating = {r: T[r].rating[idx[r]] for r in ctx.res_roles}
@@ -130,7 +101,7 @@ def _judge_sets(ctx: Context, T: Mapping[str, RoleTable], idx: dict[str, np.ndar
     if not len(keep):
         return None
     parts = [(T[r].members[idx[r][keep]], T[r].counts[idx[r][keep]]) for r in ctx.res_roles]
-    ok, left = stock_usage(parts, ctx.problem.units, qty)
+    ok, left = pools.check(parts, ctx.problem.units)
     if not ok.any():
         return None
     sel = np.flatnonzero(ok)
@@ -151,7 +122,7 @@ def _shapes(ctx: Context, roles, tables: Mapping[int, RoleTable]):
         yield dict(zip(roles, combo))
 
 
-def resistor_batches(ctx: Context, rtables: Mapping[int, RoleTable], qty, virtual, *,
+def resistor_batches(ctx: Context, rtables: Mapping[int, RoleTable], pools: Pools, virtual, *,
                      pruned: bool = True) -> list[RBatch]:
     """Every resistor set that passes the worst case, one batch per shape."""
     out = []
@@ -160,7 +131,7 @@ def resistor_batches(ctx: Context, rtables: Mapping[int, RoleTable], qty, virtua
         pr = sum(shape.values())
         chunks = candidate_sets(ctx, T) if pruned else _all_sets(T, ctx.res_roles)
         for idx in chunks:
-            b = _judge_sets(ctx, T, idx, qty, pr, virtual)
+            b = _judge_sets(ctx, T, idx, pools, pr, virtual)
             if b is not None:
                 out.append(b)
     return out
@@ -188,11 +159,11 @@ resistor_sets_exhaustive = _all_sets
 class CapSide:
     """Capacitor candidates per count, and the machinery to complete resistor sets."""
 
-    def __init__(self, ctx: Context, ctables: Mapping[int, RoleTable], qty, virtual):
+    def __init__(self, ctx: Context, ctables: Mapping[int, RoleTable], pools: Pools, virtual):
         self.ctx = ctx
         self.virtual = virtual
         self.tables = {c: t for c, t in ctables.items() if len(t)}
-        self.qty = qty
+        self.pools = pools
         counts = {r: [c for c in ctx.problem.counts_for(r) if c in self.tables] for r in ctx.cap_roles}
         self.shapes = [dict(zip(ctx.cap_roles, combo)) for combo in itertools.product(*(counts[r] for r in ctx.cap_roles))]
         biggest = max((float(t.v.max()) for t in self.tables.values()), default=1.0)
@@ -312,7 +283,7 @@ class CapSide:
                 if not ok.any():
                     continue
                 parts = [(tabs[r].members[ids[r]], tabs[r].counts[ids[r]]) for r in ctx.cap_roles]
-                sok, left = stock_usage(parts, ctx.problem.units, self.qty)
+                sok, left = self.pools.check(parts, ctx.problem.units)
                 ok &= sok
                 if not ok.any():
                     continue
@@ -375,7 +346,8 @@ def design_key(prefer: str, b: int, p: int, d: float, m: float, s: float, csum: 
 
 def search_transistor(ctx: Context, transistor: StockLine, rtables, ctables, lines, top: int,
                       *, exhaustive: bool = False, virtual_ids=(), min_bought: int = 0,
-                      stats: dict | None = None, budget: int | None = None) -> list[Found]:
+                      stats: dict | None = None, budget: int | None = None,
+                      pools: Pools | None = None) -> list[Found]:
     """The ``top`` best designs with this transistor, at most one per resistor set.
 
     ``virtual_ids`` are stock-line indices that stand for parts one could buy: the objective then
@@ -389,16 +361,17 @@ def search_transistor(ctx: Context, transistor: StockLine, rtables, ctables, lin
     budget = SET_BUDGET if budget is None else budget
     stats.setdefault("sets", 0)
     stats.setdefault("truncated", False)
-    qty = _qty_lookup(lines)
-    virtual = np.zeros(len(qty), np.int64)
+    if pools is None:
+        pools = Pools.build(lines, exclude=virtual_ids)
+    virtual = np.zeros(len(pools.qty), np.int64)
     for i in virtual_ids:
         virtual[i] = 1
     buying = bool(len(virtual_ids))
-    caps = CapSide(ctx, ctables, qty, virtual)
+    caps = CapSide(ctx, ctables, pools, virtual)
     prefer = ctx.problem.prefer
     if exhaustive:
         found = []
-        for b in resistor_batches(ctx, rtables, qty, virtual, pruned=False):
+        for b in resistor_batches(ctx, rtables, pools, virtual, pruned=False):
             for pos in range(len(b)):
                 comp = caps.complete(b, pos, None, bounds=False)
                 if comp is None:
@@ -451,7 +424,7 @@ def search_transistor(ctx: Context, transistor: StockLine, rtables, ctables, lin
         T, idx, dist, nb, pr = raws[ri]
         part = {r: a[start:start + JUDGE_CHUNK] for r, a in idx.items()}
         part = {r: a[caps.may_complete(T, part)] for r, a in part.items()}
-        bt = _judge_sets(ctx, T, part, qty, pr, virtual) if len(part[ctx.res_roles[0]]) else None
+        bt = _judge_sets(ctx, T, part, pools, pr, virtual) if len(part[ctx.res_roles[0]]) else None
         push_raw(ri, start + JUDGE_CHUNK)
         if bt is None:
             return

@@ -261,7 +261,8 @@ def _print_choice(result, spec, analysis, cautions, quiet: bool) -> None:
     for e in pick_list(best, problem.units):
         extra = f"  for {', '.join(e['roles'])}" if e.get("roles") else ""
         for sub in e.get("stands_in_for", ()):
-            extra += f"; {sub['count']} stand in for {sub['part']} (row {sub['row']})"
+            verb = "stands" if sub["count"] == 1 else "stand"
+            extra += f"; {sub['count']} {verb} in for {sub['part']} (row {sub['row']})"
         click.echo(f"  {e['location'] or '-':10} {e['part']:38} x{e['count']}  (row {e['source']['row']}){extra}")
     if len(result.designs) > 1:
         click.echo("")

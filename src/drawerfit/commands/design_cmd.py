@@ -100,13 +100,18 @@ def design_json(result, spec, analysis=None, cautions=()) -> dict:
         near = result.nearest
         out = {"feasible": False, "units": problem.units, "reason": result.reason,
                "nearest": None, "buy": [_buy_json(b) for b in result.buy], "buy_checked": result.buy_checked,
-               "notes": list(result.notes)}
+               "buy_proven": result.buy_proven, "buy_design": None, "notes": list(result.notes)}
+        if result.buy_design is not None:
+            out["buy_design"] = {"transistor": result.buy_design.transistor.label,
+                                 "parts": _role_json(result.buy_design)}
         if near:
             ch = near["choice"]
             out["nearest"] = {
                 "transistor": ch.transistor.label, "parts": _role_json(ch),
                 "margins": {k: _finite(v) for k, v in near["margins"].items()}, "missed": near["missed"],
-                "f_low_worst": _finite(near["f_low_worst"])}
+                "f_low_worst": _finite(near["f_low_worst"]), "space": "single parts",
+                "shortfall": _finite(near["shortfall"]), "shortfall_level": near["level"],
+                "none_within": near["below"], "proven": near["proven"]}
         return out
     best = result.best
     tr = best.transistor
@@ -280,20 +285,36 @@ def _print_infeasible(result) -> None:
     if near:
         ch = near["choice"]
         vals = ", ".join(f"{r}={c.equivalent.describe()}" for r, c in ch.roles.items())
-        click.echo(f"  nearest design ({ch.transistor.label}): {vals}")
+        click.echo(f"  nearest single-part design ({ch.transistor.label}): {vals}")
+        if near["missed"]:
+            proof = "" if near["proven"] else " (not proven: a search stopped at its budget)"
+            click.echo(f"  its largest shortfall: {near['shortfall']:.1%}; no single-part design comes within "
+                       f"{near['below']:.1%} of every constraint{proof}")
         if "f_low" in near["missed"]:
             click.echo(f"  its worst-case corner: {format_si(near['f_low_worst'], 'Hz')} "
                        f"(target {format_si(result.problem.targets.f_low, 'Hz')})")
     if result.buy:
-        ok = "checked: the search finds a design with them added" if result.buy_checked else "NOT confirmed by a second search"
-        click.echo(f"What to buy ({ok}):")
+        n = sum(b["per_unit"] for b in result.buy)
+        fewest = ("the fewest possible" if result.buy_proven
+                  else "not proven minimal: a search stopped at its budget")
+        ok = ("checked: with them added the search finds a design" if result.buy_checked
+              else "NOT confirmed by a second search")
+        click.echo(f"What to buy ({n} part{'s' if n > 1 else ''} per unit, {fewest}; {ok}):")
         for b in result.buy:
             r = rating_text(b["kind"], b["rating"])
             pol = " electrolytic" if b["polarized"] else ""
             click.echo(f"  {b['count']} x {b['kind']} {_code(b['value'], b['kind'])} {b['tolerance']:.0%} {r}{pol}"
                        f"  ({b['per_unit']} per unit, for {', '.join(b['roles'])})")
+        ch = result.buy_design
+        if ch is not None:
+            vals = ", ".join(f"{r}={c.equivalent.describe()}" for r, c in ch.roles.items())
+            click.echo(f"  the design they are for ({ch.transistor.label}): {vals}")
+    elif result.buy_proven:
+        click.echo("No purchase of standard parts (E24 resistors, E12 capacitors), each filling a role alone, "
+                   "makes it feasible.")
     else:
-        click.echo("No purchase of standard single parts (E24 resistors, E12 capacitors) makes it feasible.")
+        click.echo("No purchase of standard parts (E24 resistors, E12 capacitors) was found that makes it feasible "
+                   "(not proven: a search stopped at its budget).")
     for n in result.notes:
         click.echo(f"note: {n}", err=True)
 

@@ -76,6 +76,8 @@ class DesignResult:
     nearest: dict | None = None
     buy: list = field(default_factory=list)
     buy_checked: bool = False
+    buy_proven: bool = False  # the list is proven to be the fewest parts to buy (docs/method.md)
+    buy_design: DesignChoice | None = None  # the design the bought parts are for
     transistors_tried: list = field(default_factory=list)
     stats: dict = field(default_factory=dict)
 
@@ -153,13 +155,23 @@ def _choice(problem: DesignProblem, ctx: Context, f: Found) -> DesignChoice:
 
 
 def _run(problem: DesignProblem, lines, top: int, exhaustive: bool, virtual_ids=(), min_bought: int = 0,
-         stats_out: dict | None = None, budget: int | None = None):
-    pools = Pools.build(lines, exclude=virtual_ids)
-    cand_lines = pools.search_lines(lines)
-    res_lines = [ln for ln in cand_lines if ln.kind == "resistor"]
-    cap_lines = [ln for ln in cand_lines if ln.kind == "capacitor"]
-    rtables = build_tables(res_lines, "resistor", problem.max_parts, problem.units)
-    ctables = build_tables(cap_lines, "capacitor", problem.max_parts, problem.units)
+         stats_out: dict | None = None, budget: int | None = None, tables=None):
+    """The search over ``lines``; ``tables`` = (resistor, capacitor) candidate tables replaces the
+    ones built from ``lines`` (resistor tables per count, or per role: ``engine.per_role``).
+
+    Lines standing for parts to buy are never pooled with the drawer (``pools``)."""
+    from .shopping import BUY_FILE
+
+    apart = set(virtual_ids) | {ln.index for ln in lines if ln.source.file == BUY_FILE}
+    pools = Pools.build(lines, exclude=apart)
+    if tables is None:
+        cand_lines = pools.search_lines(lines)
+        res_lines = [ln for ln in cand_lines if ln.kind == "resistor"]
+        cap_lines = [ln for ln in cand_lines if ln.kind == "capacitor"]
+        rtables = build_tables(res_lines, "resistor", problem.max_parts, problem.units)
+        ctables = build_tables(cap_lines, "capacitor", problem.max_parts, problem.units)
+    else:
+        rtables, ctables = tables
     trs, why = suitable_transistors(problem, lines)
     found = []
     stats: dict = {}
@@ -198,8 +210,12 @@ def _with_picks(choice: "DesignChoice", pools: Pools, units: int) -> "DesignChoi
 
 
 def design(problem: DesignProblem, stock: Stock, *, top: int = 1, exhaustive: bool = False,
-           suggest: bool = True) -> DesignResult:
-    """The ``top`` best designs from ``stock`` for ``problem`` (exhaustive: naive enumeration)."""
+           suggest: bool = True, catalogue=None) -> DesignResult:
+    """The ``top`` best designs from ``stock`` for ``problem`` (exhaustive: naive enumeration).
+
+    When there is none: the nearest design and (``suggest``) the fewest parts to buy from
+    ``catalogue`` (StockLines standing for parts one can buy; default ``shopping.e_series_catalogue``).
+    """
     lines, notes = with_default_ratings(stock.lines)
     stats: dict = {}
     designs, trs, why = _run(problem, lines, top, exhaustive, stats_out=stats)
@@ -218,5 +234,6 @@ def design(problem: DesignProblem, stock: Stock, *, top: int = 1, exhaustive: bo
         return result
     from .shopping import explain_infeasible
 
-    explain_infeasible(result, lines, trs, why, suggest=suggest)
+    explain_infeasible(result, lines, trs, why, suggest=suggest, catalogue=catalogue,
+                       drawer_proven=not stats.get("truncated"))
     return result

@@ -116,18 +116,27 @@ def _judge_sets(ctx: Context, T: Mapping[str, RoleTable], idx: dict[str, np.ndar
     return RBatch(dict(T), {r: a[ev.keep] for r, a in idx.items()}, ev, pr, left[sel], bought)
 
 
-def _shapes(ctx: Context, roles, tables: Mapping[int, RoleTable]):
-    choices = [[c for c in ctx.problem.counts_for(r) if c in tables and len(tables[c])] for r in roles]
+def per_role(roles, tables) -> dict[str, Mapping[int, RoleTable]]:
+    """{role: {count: RoleTable}} from tables shared by every role ({count: table}) or given per role
+    (the shopping search gives a role that must take a bought part a table of those parts only)."""
+    if any(isinstance(k, str) for k in tables):
+        return {r: tables[r] for r in roles}
+    return {r: tables for r in roles}
+
+
+def _shapes(ctx: Context, roles, tables):
+    tabs = per_role(roles, tables)
+    choices = [[c for c in ctx.problem.counts_for(r) if c in tabs[r] and len(tabs[r][c])] for r in roles]
     for combo in itertools.product(*choices):
         yield dict(zip(roles, combo))
 
 
-def resistor_batches(ctx: Context, rtables: Mapping[int, RoleTable], pools: Pools, virtual, *,
-                     pruned: bool = True) -> list[RBatch]:
-    """Every resistor set that passes the worst case, one batch per shape."""
+def resistor_batches(ctx: Context, rtables, pools: Pools, virtual, *, pruned: bool = True) -> list[RBatch]:
+    """Every resistor set that passes the worst case, one batch per shape (tables as ``per_role`` takes)."""
     out = []
+    tabs = per_role(ctx.res_roles, rtables)
     for shape in _shapes(ctx, ctx.res_roles, rtables):
-        T = {r: rtables[c] for r, c in shape.items()}
+        T = {r: tabs[r][c] for r, c in shape.items()}
         pr = sum(shape.values())
         chunks = candidate_sets(ctx, T) if pruned else _all_sets(T, ctx.res_roles)
         for idx in chunks:
@@ -157,39 +166,59 @@ resistor_sets_exhaustive = _all_sets
 
 
 class CapSide:
-    """Capacitor candidates per count, and the machinery to complete resistor sets."""
+    """Capacitor candidates per count (shared by the roles, or per role: ``per_role``), and the
+    machinery to complete resistor sets."""
 
-    def __init__(self, ctx: Context, ctables: Mapping[int, RoleTable], pools: Pools, virtual):
+    def __init__(self, ctx: Context, ctables, pools: Pools, virtual):
         self.ctx = ctx
         self.virtual = virtual
-        self.tables = {c: t for c, t in ctables.items() if len(t)}
+        self.tabs = {r: {c: t for c, t in ts.items() if len(t)} for r, ts in per_role(ctx.cap_roles, ctables).items()}
         self.pools = pools
-        counts = {r: [c for c in ctx.problem.counts_for(r) if c in self.tables] for r in ctx.cap_roles}
+        counts = {r: [c for c in ctx.problem.counts_for(r) if c in self.tabs[r]] for r in ctx.cap_roles}
         self.shapes = [dict(zip(ctx.cap_roles, combo)) for combo in itertools.product(*(counts[r] for r in ctx.cap_roles))]
-        biggest = max((float(t.v.max()) for t in self.tables.values()), default=1.0)
+        biggest = max((float(t.v.max()) for ts in self.tabs.values() for t in ts.values()), default=1.0)
         self.huge = max(1.0, HUGE_CAP_FACTOR * biggest)
         self.nominal = ctx.problem.guarantee == "nominal"
-        # per count: candidates sorted by rating, with the running best low end from the top
+        # Scarce lines hold too few parts for every capacitor role: a line that q parts can stand in
+        # for (its own and those of the lines covering it, ``pools``) can be named by at most
+        # q // units roles (Hall's condition for that line), so at most ``shared`` roles take a
+        # candidate with a scarce line.
+        n_roles = len(ctx.cap_roles)
+        units = ctx.problem.units
+        ids = np.unique(np.concatenate([t.members.ravel() for ts in self.tabs.values() for t in ts.values()]
+                                       + [np.zeros(0, np.int64)]))
+        ids = ids[ids >= 0]
+        slots = pools.upq[ids] // units
+        self.scarce = np.zeros(len(pools.upq), bool)
+        self.scarce[ids[slots < n_roles]] = True
+        self.shared = int(min(n_roles, np.sum(slots[slots < n_roles])))
+        # per count: candidates sorted by rating, with the running best low end from the top; over
+        # all candidates, and over those that use no scarce line ("plenty")
         self._by_rating = {}
-        for c, t in self.tables.items():
+        for role, c, t in ((r, c, t) for r, ts in self.tabs.items() for c, t in ts.items()):
             low = t.v if self.nominal else t.lo
+            plenty = ~np.any((t.members >= 0) & self.scarce[np.maximum(t.members, 0)], axis=1)
             for polar_ok in (True, False):
-                sel = np.flatnonzero(np.ones(len(t), bool) if polar_ok else ~t.polarized)
-                order = sel[np.argsort(t.rating[sel], kind="stable")]
-                best = np.maximum.accumulate(low[order][::-1])[::-1] if len(order) else np.zeros(0)
-                self._by_rating[(c, polar_ok)] = (t.rating[order], best)
+                for only_plenty in (False, True):
+                    keep = np.ones(len(t), bool) if polar_ok else ~t.polarized
+                    if only_plenty:
+                        keep = keep & plenty
+                    sel = np.flatnonzero(keep)
+                    order = sel[np.argsort(t.rating[sel], kind="stable")]
+                    best = np.maximum.accumulate(low[order][::-1])[::-1] if len(order) else np.zeros(0)
+                    self._by_rating[(role, c, polar_ok, only_plenty)] = (t.rating[order], best)
 
     def may_complete(self, T, idx) -> np.ndarray:
-        """False where even the largest capacitors of the drawer miss the corner at the vertex of
-        highest IE (a necessary condition, one evaluation instead of the whole box)."""
+        """False where even the largest capacitor each role may take misses the corner at the vertex
+        of highest IE (a necessary condition, one evaluation instead of the whole box)."""
         ctx = self.ctx
-        if not self.tables:
+        if not all(self.tabs.values()):
             return np.zeros(len(idx[ctx.res_roles[0]]), bool)
-        top = max(float((t.v if self.nominal else t.lo).max()) for t in self.tables.values())
+        top = {r: max(float((t.v if self.nominal else t.lo).max()) for t in ts.values()) for r, ts in self.tabs.items()}
         v = {r: T[r].v[idx[r]] for r in ctx.res_roles}
         tol = {r: T[r].tol[idx[r]] for r in ctx.res_roles}
         dc = vertex_dc(ctx, ctx.vertices[0], v, tol)
-        return corner_ok(ctx, _stack1(dc), {r: top for r in ctx.cap_roles})
+        return corner_ok(ctx, _stack1(dc), top)
 
     def _dcs(self, batch: RBatch, pos):
         ctx = self.ctx
@@ -199,7 +228,11 @@ class CapSide:
         return stacked_dc(ctx, v, tol)
 
     def lower_bounds(self, batch: RBatch, positions: np.ndarray) -> np.ndarray:
-        """Fewest capacitor parts each set at ``positions`` could need (inf: no capacitors can do)."""
+        """Fewest capacitor parts each set at ``positions`` could need (inf: no capacitors can do).
+
+        Per role and count, the largest low end whose rating suits the node; the corner falls as
+        any capacitance grows, so if those miss it every choice of that count does.  At most
+        ``shared`` roles may take a candidate with a scarce line; the others are held to the rest."""
         ctx = self.ctx
         n = len(positions)
         lb = np.full(n, np.inf)
@@ -213,28 +246,32 @@ class CapSide:
             vmax = np.maximum(np.abs(lo_v), np.abs(hi_v))
             polar_ok = (lo_v > 0) | (hi_v < 0)
             need = vmax / margin
-            for c in self.tables:
-                out = np.zeros(n)
-                for flag in (True, False):
-                    ratings, top = self._by_rating[(c, flag)]
-                    if not len(top):
-                        val = np.zeros(n)
-                    else:
-                        k = np.searchsorted(ratings, need * (1 - 1e-12), side="left")
-                        val = np.where(k < len(top), top[np.minimum(k, len(top) - 1)], 0.0)
-                    sel = polar_ok if flag else ~polar_ok
-                    out = np.where(sel, val, out)
-                best[(role, c)] = out
+            for c in self.tabs[role]:
+                for only_plenty in (False, True):
+                    out = np.zeros(n)
+                    for flag in (True, False):
+                        ratings, top = self._by_rating[(role, c, flag, only_plenty)]
+                        if not len(top):
+                            val = np.zeros(n)
+                        else:
+                            k = np.searchsorted(ratings, need * (1 - 1e-12), side="left")
+                            val = np.where(k < len(top), top[np.minimum(k, len(top) - 1)], 0.0)
+                        sel = polar_ok if flag else ~polar_ok
+                        out = np.where(sel, val, out)
+                    best[(role, c, only_plenty)] = out
         order = sorted(self.shapes, key=lambda s: sum(s.values()))
+        groups = list(itertools.combinations(ctx.cap_roles, self.shared))
         for shape in order:
             pc = sum(shape.values())
             todo = np.flatnonzero(lb > pc)
             if not len(todo):
                 continue
-            caps = {r: best[(r, shape[r])][todo] for r in ctx.cap_roles}
-            has = np.all(np.stack([caps[r] > 0 for r in ctx.cap_roles]), axis=0)
             sub = _take(dcs, (slice(None), todo))
-            ok = corner_ok(ctx, sub, {r: np.where(has, caps[r], 1e-30) for r in ctx.cap_roles}) & has
+            ok = np.zeros(len(todo), bool)
+            for group in groups:
+                caps = {r: best[(r, shape[r], r not in group)][todo] for r in ctx.cap_roles}
+                has = np.all(np.stack([caps[r] > 0 for r in ctx.cap_roles]), axis=0)
+                ok |= corner_ok(ctx, sub, {r: np.where(has, caps[r], 1e-30) for r in ctx.cap_roles}) & has
             lb[todo[ok]] = pc
         return lb
 
@@ -246,7 +283,7 @@ class CapSide:
         cand = {}
         for role in ctx.cap_roles:
             lo_v, hi_v = (a[pos] for a in batch.ev.vnode[role])
-            for c, t in self.tables.items():
+            for c, t in self.tabs[role].items():
                 m = cap_margin(lo_v, hi_v, t.rating, t.polarized, margin)
                 ok = m >= 0
                 if bounds and ok.any():
@@ -276,7 +313,7 @@ class CapSide:
                     pick[r] = flat % size
                     flat = flat // size
                 ids = {r: cand[(r, shape[r])][0][pick[r]] for r in ctx.cap_roles}
-                tabs = {r: self.tables[shape[r]] for r in ctx.cap_roles}
+                tabs = {r: self.tabs[r][shape[r]] for r in ctx.cap_roles}
                 vals = {r: tabs[r].v[ids[r]] for r in ctx.cap_roles}
                 tols = {r: tabs[r].tol[ids[r]] for r in ctx.cap_roles}
                 ok = corner_ok(ctx, dcs, lowest_caps(ctx, vals, tols))
@@ -350,6 +387,9 @@ def search_transistor(ctx: Context, transistor: StockLine, rtables, ctables, lin
                       pools: Pools | None = None) -> list[Found]:
     """The ``top`` best designs with this transistor, at most one per resistor set.
 
+    ``rtables`` are the resistor candidates per part count, shared by every role, or per role
+    (``per_role``).
+
     ``virtual_ids`` are stock-line indices that stand for parts one could buy: the objective then
     starts with the number of such parts, and a set whose cheapest capacitors need a purchase is
     re-queued at the next count in case more parts mean fewer purchases.  ``min_bought`` is a
@@ -399,8 +439,10 @@ def search_transistor(ctx: Context, transistor: StockLine, rtables, ctables, lin
     def push(key, kind, ref, pos, p, found=None):
         heapq.heappush(heap, (key, next(counter), kind, ref, pos, p, found))
 
+    tabs = per_role(ctx.res_roles, rtables)
+
     def open_shape(shape):
-        T = {r: rtables[c] for r, c in shape.items()}
+        T = {r: tabs[r][c] for r, c in shape.items()}
         pr = sum(shape.values())
         for idx in candidate_sets(ctx, T):
             stats["sets"] += len(idx[ctx.res_roles[0]])

@@ -171,3 +171,55 @@ def test_common_emitter_with_pairs_equals_exhaustive(data, ie, bypass, polarity)
     slow = design(p, stock, top=2, exhaustive=True, suggest=False)
     event(fast.status)
     assert _keys(fast) == _keys(slow)
+
+
+def _two_transistor_drawer(data, polarity="npn"):
+    stock = data.draw(drawers(n_res=(3, 4), n_cap=(2, 2), polarity=polarity))
+    lines = list(stock.lines)
+    other = transistor(len(lines), polarity=polarity)
+    hfe = data.draw(st.sampled_from([(30, 60), (100, 300), (250, 600)]))
+    from dataclasses import replace
+
+    lines.append(replace(other, label="QT-B", hfe_min=hfe[0], hfe_max=hfe[1],
+                         vbe=data.draw(st.sampled_from([0.6, 0.7]))))
+    return Stock(lines=tuple(lines))
+
+
+@settings(max_examples=12, deadline=None, derandomize=True, suppress_health_check=[HealthCheck.too_slow])
+@given(data=st.data(), ie=st.sampled_from([0.5e-3, 1e-3, 2e-3]), prefer=st.sampled_from(["fewest-parts", "closest"]))
+def test_several_transistors_equal_exhaustive(data, ie, prefer):
+    # two transistor lines: the single-part first pass and the bound it gives the full pass must
+    # not change the answer (oracle: naive enumeration, every transistor, every candidate per role)
+    stock = _two_transistor_drawer(data)
+    p = DesignProblem("emitter-follower", "npn", 12.0, DesignTargets(ie_min=0.6 * ie, ie_max=1.4 * ie, f_low=200.0),
+                      load=4.7e3, source_resistance=600.0, max_parts=2, prefer=prefer)
+    fast = design(p, stock, top=3, suggest=False)
+    slow = design(p, stock, top=3, exhaustive=True, suggest=False)
+    event(fast.status)
+    assert _keys(fast) == _keys(slow)
+
+
+def test_a_transistor_with_no_design_does_not_starve_the_next(monkeypatch):
+    # The first transistor line (rated 1 mW: at 1 mA with about 6 V across it, every stage
+    # dissipates six times that) has no design; the second has one of single parts.  With a small search budget the first
+    # line's pair shapes used to take all of it, and the spec came back "no design".  Oracle: the
+    # naive enumeration, which has no budget.
+    from dataclasses import replace
+
+    import drawerfit.search.engine as engine
+
+    res = [10e3, 4.7e3, 22e3, 1e3, 2.2e3, 3.3e3]
+    lines = [make_line(i, "resistor", v, qty=6, tol=0.01) for i, v in enumerate(res)]
+    lines += [make_line(6, "capacitor", 100e-6, qty=6, tol=0.2, polarized=True, rating=25.0)]
+    weak = replace(transistor(7), label="QT-WEAK", pd=0.001)
+    lines += [weak, transistor(8)]
+    stock = Stock(lines=tuple(lines))
+    p = DesignProblem("emitter-follower", "npn", 12.0, DesignTargets(ie_min=0.9e-3, ie_max=1.1e-3, f_low=20.0,
+                                                                     rin_min=3e3),
+                      load=10e3, max_parts=2)
+    oracle = design(p, stock, exhaustive=True, suggest=False)
+    assert oracle.feasible and oracle.best.transistor.label == "QT-8"
+    monkeypatch.setattr(engine, "SET_BUDGET", 200)
+    got = design(p, stock, suggest=False)
+    assert got.status == "optimal"
+    assert got.best.key == oracle.best.key

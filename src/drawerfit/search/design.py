@@ -179,17 +179,48 @@ def _run(problem: DesignProblem, lines, top: int, exhaustive: bool, virtual_ids=
         from .engine import SET_BUDGET
 
         budget = SET_BUDGET
+    ctxs = {tr.index: Context(problem, transistor_model(tr)) for tr in trs}
+    common = dict(virtual_ids=virtual_ids, min_bought=min_bought, pools=pools)
+    best: dict[tuple, tuple] = {}  # (transistor, resistor set) -> (Found, Context): one design each
+
+    def keep(f, ctx):
+        at = f.key[-1][:2]
+        if at not in best or f.key < best[at][0].key:
+            best[at] = (f, ctx)
+
+    def bound():
+        keys = sorted(f.key for f, _ in best.values())
+        return keys[top - 1] if len(keys) >= top else None
+
+    if not exhaustive and len(trs) > 1 and problem.max_parts > 1:
+        # A first pass with single parts for every transistor gives a design to beat, so that one
+        # transistor with no design cannot spend the whole budget on pairs before the next is
+        # looked at.  Its designs are designs of the full space with the same keys; its budget is
+        # its own, and its stopping early only makes the bound weaker (the full pass is complete).
+        from .engine import SET_BUDGET
+
+        first = problem.with_(max_parts=1)
+        spent = 0
+        for tr in trs:
+            one: dict = {}
+            ctx1 = Context(first, transistor_model(tr))
+            for f in search_transistor(ctx1, tr, rtables, ctables, lines, top, stats=one,
+                                       budget=max(0, SET_BUDGET // 4 - spent), **common):
+                keep(f, ctxs[tr.index])
+            spent += one.get("sets", 0)
+        stats["sets"] = spent
     for tr in trs:
-        ctx = Context(problem, transistor_model(tr))
-        one: dict = {}
-        left = None if budget is None else max(0, budget - stats.get("sets", 0))
-        for f in search_transistor(ctx, tr, rtables, ctables, lines, top, exhaustive=exhaustive,
-                                   virtual_ids=virtual_ids, min_bought=min_bought, stats=one, budget=left,
-                                   pools=pools):
-            found.append((f, ctx))
+        ctx = ctxs[tr.index]
+        one = {}
+        left = None if budget is None else max(0, budget - stats.get("main_sets", 0))
+        for f in search_transistor(ctx, tr, rtables, ctables, lines, top, exhaustive=exhaustive, stats=one,
+                                   budget=left, bound=None if exhaustive else bound(), **common):
+            keep(f, ctx)
+        stats["main_sets"] = stats.get("main_sets", 0) + one.get("sets", 0)
         stats["sets"] = stats.get("sets", 0) + one.get("sets", 0)
         stats["truncated"] = stats.get("truncated", False) or one.get("truncated", False)
-    found.sort(key=lambda fc: fc[0].key)
+    stats.pop("main_sets", None)
+    found = sorted(best.values(), key=lambda fc: fc[0].key)
     if stats_out is not None:
         stats_out.update(stats)
     return [_with_picks(_choice(problem, ctx, f), pools, problem.units) for f, ctx in found[:top]], trs, why

@@ -384,7 +384,7 @@ def design_key(prefer: str, b: int, p: int, d: float, m: float, s: float, csum: 
 def search_transistor(ctx: Context, transistor: StockLine, rtables, ctables, lines, top: int,
                       *, exhaustive: bool = False, virtual_ids=(), min_bought: int = 0,
                       stats: dict | None = None, budget: int | None = None,
-                      pools: Pools | None = None) -> list[Found]:
+                      pools: Pools | None = None, bound: tuple | None = None) -> list[Found]:
     """The ``top`` best designs with this transistor, at most one per resistor set.
 
     ``rtables`` are the resistor candidates per part count, shared by every role, or per role
@@ -395,7 +395,8 @@ def search_transistor(ctx: Context, transistor: StockLine, rtables, ctables, lin
     re-queued at the next count in case more parts mean fewer purchases.  ``min_bought`` is a
     known lower bound on the parts to buy (1 once the drawer alone is proven not to do).
     ``stats`` (a dict) receives the counts of sets looked at and whether ``budget`` (resistor sets
-    enumerated) stopped the search before it had proven its answer.
+    enumerated) stopped the search before it had proven its answer.  ``bound``: the key of a design
+    already known (another transistor's); nothing whose key is above it is looked for.
     """
     stats = {} if stats is None else stats
     budget = SET_BUDGET if budget is None else budget
@@ -499,9 +500,11 @@ def search_transistor(ctx: Context, transistor: StockLine, rtables, ctables, lin
             p_min = sum(shapes[si].values()) + min_caps
             if heap and prefer != "closest" and (0, p_min) > heap[0][0][:2]:
                 break
+            if bound is not None and bkey(0, p_min, 0.0) > bound:
+                break  # shapes come in order of part count (and D >= 0): none after can beat it
             open_shape(shapes[si])
             si += 1
-        if not heap:
+        if not heap or (bound is not None and heap[0][0] > bound):
             break
         key, _, kind, ref, pos, p, found = heapq.heappop(heap)
         if kind == 0:

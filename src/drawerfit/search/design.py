@@ -159,18 +159,22 @@ def _run(problem: DesignProblem, lines, top: int, exhaustive: bool, virtual_ids=
     trs, why = suitable_transistors(problem, lines)
     found = []
     stats: dict = {}
+    work_budget = None
     if budget is None and not exhaustive:
-        from .engine import SET_BUDGET
+        from .engine import SET_BUDGET, WORK_BUDGET
 
-        budget = SET_BUDGET
+        budget, work_budget = SET_BUDGET, WORK_BUDGET
     for tr in trs:
         ctx = Context(problem, transistor_model(tr))
         one: dict = {}
         left = None if budget is None else max(0, budget - stats.get("sets", 0))
+        left_work = None if work_budget is None else max(0, work_budget - stats.get("work", 0))
         for f in search_transistor(ctx, tr, rtables, ctables, lines, top, exhaustive=exhaustive,
-                                   virtual_ids=virtual_ids, min_bought=min_bought, stats=one, budget=left):
+                                   virtual_ids=virtual_ids, min_bought=min_bought, stats=one, budget=left,
+                                   work_budget=left_work):
             found.append((f, ctx))
         stats["sets"] = stats.get("sets", 0) + one.get("sets", 0)
+        stats["work"] = stats.get("work", 0) + one.get("work", 0)
         stats["truncated"] = stats.get("truncated", False) or one.get("truncated", False)
     found.sort(key=lambda fc: fc[0].key)
     if stats_out is not None:
@@ -188,8 +192,11 @@ def design(problem: DesignProblem, stock: Stock, *, top: int = 1, exhaustive: bo
                           transistors_tried=[t.label for t in trs])
     result.stats = stats
     if stats.get("truncated"):
+        from .engine import WORK_BUDGET
+
         result.notes.append(
             f"the search stopped after {stats['sets']:,} candidate resistor sets"
+            + (f" ({stats['work']:,} partial sets formed by the bounds)" if stats.get("work", 0) > WORK_BUDGET else "")
             + (": the designs shown are the best found, not proven optimal" if designs else
                ": no design was found, but it is not proven that none exists (try --max-parts 1, or name "
                "the transistor with [transistor] label, or list fewer roles in pairs)"))

@@ -10,6 +10,7 @@ margin of exactly zero: a bound that is too tight by any amount rejects it.
 
 from __future__ import annotations
 
+import math
 from dataclasses import replace
 
 import numpy as np
@@ -222,3 +223,46 @@ def test_sample_spec_with_rin_40k_is_found_and_proven():
     assert r.stats["truncated"] is False
     met = _targets_met(p, r.best)
     assert all(met.values()), met
+
+
+@settings(max_examples=25, **SETTINGS)
+@given(data=st.data(), polarity=st.sampled_from(["npn", "pnp"]), pick=st.integers(0, 10**6))
+def test_follower_swing_bound_at_its_exact_edge(data, polarity, pick):
+    # With the nominal guarantee (one point) and the load chosen so that the downward swing
+    # IE·(RE‖RL) equals the upward room VCC − VCE(sat) − VE, a set meets swing = that value with
+    # zero margin on both sides at once: the edge of the bound RE <= RL·(VCC − VCE(sat) − 2·swing)/swing.
+    # Oracle: brute force, the full judgement of every single-part set (evaluate_resistors).
+    stock = _generous(data.draw(drawers(n_res=(3, 5), n_cap=(1, 1), polarity=polarity)))
+    lines, _ = with_default_ratings(stock.lines)
+    tr = next(ln for ln in lines if ln.kind == "transistor")
+    rt = build_tables([ln for ln in lines if ln.kind == "resistor"], "resistor", 1, 1)
+    wide = DesignTargets(ie_min=1e-9, ie_max=10.0, f_low=20.0)
+    base = _problem("emitter-follower", polarity, wide, guarantee="nominal", load=None)
+    ctx0 = Context(base, transistor_model(tr))
+    T = {r: rt[1] for r in ctx0.res_roles}
+    idx, v, tol, rating = _all(ctx0, T)
+    dc = vertex_dc(ctx0, ctx0.nominal, v, tol)
+    up, ie, re_v = dc.swing_up, dc.ie, v["RE"]
+    # RL with RE‖RL = up/IE exists where up/IE < RE, i.e. up < VE
+    ratings_ok = evaluate_resistors(ctx0, v, tol, rating, drop=False).margin_r >= 0  # DC: the load plays no part
+    good = np.flatnonzero((dc.state == 0) & (up > 0) & (up < ie * re_v) & ratings_ok)
+    if not len(good):
+        event("no set with room for a load")
+        return
+    j = int(good[pick % len(good)])
+    rl = 1.0 / (ie[j] / up[j] - 1.0 / re_v[j])
+    p = base.with_(load=float(rl))
+    ctx1 = Context(p, ctx0.tr)
+    d1 = vertex_dc(ctx1, ctx1.nominal, {r: a[j:j + 1] for r, a in v.items()}, {r: a[j:j + 1] for r, a in tol.items()})
+    s = float(d1.swing_peak[0])
+    assert math.isclose(float(d1.swing_up[0]), float(d1.swing_down[0]), rel_tol=1e-9)
+    i = float(d1.ie[0])
+    targets = DesignTargets(ie_min=i, ie_max=i * (1 + 1e-9), f_low=20.0, swing=s)
+    ctx = Context(p.with_(targets=targets), ctx0.tr)
+    keep = evaluate_resistors(ctx, v, tol, rating).keep
+    assert j in set(keep.tolist())
+    accepted = {tuple(int(idx[r][k]) for r in ctx.res_roles) for k in keep}
+    found = set()
+    for c in candidate_sets(ctx, T):
+        found.update(zip(*(c[r].tolist() for r in ctx.res_roles)))
+    assert accepted <= found

@@ -6,17 +6,44 @@ decides.  Voltages are in the NPN-mirrored frame of ``analysis.core``: RA is the
 on the emitter-rail's far side (R1 for NPN, R2 for PNP), RB the other; VTH = VCC·RB/(RA+RB).
 
 * Divider (RA, RB): the transistor must conduct at (RA high, RB low, cold): VTH > VBE; with a swing
-  target the follower needs VE ≥ swing (the downward swing IE·(RE‖RL) is below VE), so
-  VTH ≥ swing + VBE there; every stage needs VE ≤ VCC − VCE(sat) − swing, and at (RA low, RB high,
-  hFE low, hot) VE ≥ VTH − VBE − IEmax·RTH/(hFEmin+1); with rin_min, RTH at (RA low, RB low) must
-  reach it (the input resistance is below the divider's).
+  target the follower needs VE ≥ VEmin (below), and VE ≤ VTH − VBE, so VTH ≥ VEmin + VBE there;
+  every stage needs VE ≤ VCC − VCE(sat) − swing, and at (RA low, RB high, hFE low, hot)
+  VE ≥ VTH − VBE − IEmax·RTH/(hFEmin+1); with rin_min, RTH at (RA low, RB low) must reach RTHmin
+  (below; at least rin_min, since the input resistance is below the divider's).
 * Emitter (RE, plus RE2 in series): IE = (VTH − VBE)/(RET + RTH/(β+1)) in the active region,
   falling with RET; at the vertex of highest IE it must not pass ie_max, at the lowest not fall
   under ie_min: an interval for the low and high ends of RET.
+* Input resistance (rin_min) on RE alone.  At the vertex (RA low, RB low, RE low, hFE low) the
+  input resistance is RTH‖Zb with Zb = (hFEmin+1)·(re + X), X = RE low‖RL for the follower and
+  RE low for the common emitter (RE2 is bypassed; the design search has no unbypassed RE2), and
+  re = VT/IE ≤ VT(hottest ambient)/ie_min (IE ≥ ie_min at every vertex of a feasible set; VT
+  grows with temperature, so this holds whatever the vertex's ambient).  rin ≥ rin_min needs
+  Zb ≥ rin_min·RTH/(RTH − rin_min), so X ≥ that/(hFEmin+1) − re_max: a floor on RE's low end per
+  divider.  For the follower X < RL and X ≤ REmax‖RL (swing, below), which bounds Zb for every
+  set and gives RTHmin = rin_min·Zbmax/(Zbmax − rin_min) for the divider (nothing is feasible when
+  Zbmax ≤ rin_min).
+* Follower swing (swing_peak = min(up, down) ≥ swing at every vertex, in the active region, with
+  up = VCC − VCE(sat) − IE·RE and down = IE·(RE‖RL)).  At the vertex of RE low, IE ≤ ie_max, so
+  RE low‖RL ≥ swing/ie_max: a floor on RE's low end (nothing is feasible if swing/ie_max ≥ RL).
+  At any one vertex, up ≥ swing and down ≥ swing give swing·(RE + RL)/RL ≤ IE·RE ≤
+  VCC − VCE(sat) − swing, which no longer depends on IE: RE ≤ RL·(VCC − VCE(sat) − 2·swing)/swing,
+  a ceiling on RE's high end (without a load: nothing is feasible if VCC − VCE(sat) < 2·swing).
+  With the same inequality VE = IE·RE ≥ swing·(1 + RE low/RL) =: VEmin.
+* Common-emitter headroom on RE and RE2.  At the vertex (RC high, RE low, RE2 low) the transistor
+  must be active and the downward swing (VCE − VCE(sat))·k, 0 < k ≤ 1, must reach the swing (0
+  without a target), so VCC − IC·RC high − IE·RET low ≥ VCE(sat) + swing, with IE ≥ ie_min and
+  IC = α·IE ≥ α_lo·ie_min (α = hFE/(hFE+1)): RET low + α_lo·RC high ≤ (VCC − VCE(sat) − swing)/ie_min.
+  RC high ≥ RC low ≥ RCneed: the gain at (RC low, RE high) is below (RC low‖RL)/RE high (α < 1,
+  re > 0, the source divides), so RC low‖RL > gain_min·RE high; the upward swing IC·(RC low‖RL)
+  with IC < ie_max gives RC low‖RL ≥ swing/ie_max.  So RET low ≤ headroom − α_lo·RCneed(RE high):
+  a test on RE alone (RE2 ≥ 0), a ceiling on RE2's low end per (divider, RE), and, with the
+  emitter window's RET low ≥ L, a ceiling on RE's high end per divider (RCneed ≤
+  (headroom − L)/α_lo).  These drop α, re and the source's division, so they are not tight.
 * Collector (RC, common emitter): the gain magnitude is |g1|·(RC‖RL) with g1 the gain per ohm of
-  collector load at a vertex (the active-region IE does not depend on RC); gain_min at the vertex
-  of lowest IE, gain_max at the highest, rout_max (rout = RC), the swing up (IC·(RC‖RL)) and the
-  room for the swing down (VCE ≥ VCE(sat) + swing at the vertex of highest IE) bound RC.
+  collector load at a vertex (the active-region IE does not depend on RC; g1 is the gain at
+  RC = 1 Ω divided by 1 Ω‖RL); gain_min at the vertex of lowest IE, gain_max at the highest,
+  rout_max (rout = RC), the swing up (IC·(RC‖RL)) and the room for the swing down
+  (VCE ≥ VCE(sat) + swing at the vertex of highest IE) bound RC.
 
 Interval bounds are found by binary search on the sorted nominal values (low end ≤ nominal ≤ high
 end), then the exact end conditions are applied, with a relative slack of 1e-9 so that rounding

@@ -173,12 +173,12 @@ def _run(problem: DesignProblem, lines, top: int, exhaustive: bool, virtual_ids=
     else:
         rtables, ctables = tables
     trs, why = suitable_transistors(problem, lines)
-    found = []
     stats: dict = {}
+    work_budget = None
     if budget is None and not exhaustive:
-        from .engine import SET_BUDGET
+        from .engine import SET_BUDGET, WORK_BUDGET
 
-        budget = SET_BUDGET
+        budget, work_budget = SET_BUDGET, WORK_BUDGET
     ctxs = {tr.index: Context(problem, transistor_model(tr)) for tr in trs}
     common = dict(virtual_ids=virtual_ids, min_bought=min_bought, pools=pools)
     best: dict[tuple, tuple] = {}  # (transistor, resistor set) -> (Found, Context): one design each
@@ -195,31 +195,37 @@ def _run(problem: DesignProblem, lines, top: int, exhaustive: bool, virtual_ids=
     if not exhaustive and len(trs) > 1 and problem.max_parts > 1:
         # A first pass with single parts for every transistor gives a design to beat, so that one
         # transistor with no design cannot spend the whole budget on pairs before the next is
-        # looked at.  Its designs are designs of the full space with the same keys; its budget is
+        # looked at.  Its designs are designs of the full space with the same keys; its budgets are
         # its own, and its stopping early only makes the bound weaker (the full pass is complete).
-        from .engine import SET_BUDGET
+        from .engine import SET_BUDGET, WORK_BUDGET
 
         first = problem.with_(max_parts=1)
-        spent = 0
+        spent = {"sets": 0, "work": 0}
         for tr in trs:
             one: dict = {}
             ctx1 = Context(first, transistor_model(tr))
             for f in search_transistor(ctx1, tr, rtables, ctables, lines, top, stats=one,
-                                       budget=max(0, SET_BUDGET // 4 - spent), **common):
+                                       budget=max(0, SET_BUDGET // 4 - spent["sets"]),
+                                       work_budget=max(0, WORK_BUDGET // 4 - spent["work"]), **common):
                 keep(f, ctxs[tr.index])
-            spent += one.get("sets", 0)
-        stats["sets"] = spent
+            for k in spent:
+                spent[k] += one.get(k, 0)
+        stats.update(spent)
+    main = {"sets": 0, "work": 0}
     for tr in trs:
         ctx = ctxs[tr.index]
         one = {}
-        left = None if budget is None else max(0, budget - stats.get("main_sets", 0))
+        left = None if budget is None else max(0, budget - main["sets"])
+        left_work = None if work_budget is None else max(0, work_budget - main["work"])
         for f in search_transistor(ctx, tr, rtables, ctables, lines, top, exhaustive=exhaustive, stats=one,
-                                   budget=left, bound=None if exhaustive else bound(), **common):
+                                   budget=left, work_budget=left_work, bound=None if exhaustive else bound(),
+                                   **common):
             keep(f, ctx)
-        stats["main_sets"] = stats.get("main_sets", 0) + one.get("sets", 0)
+        for k in main:
+            main[k] += one.get(k, 0)
         stats["sets"] = stats.get("sets", 0) + one.get("sets", 0)
+        stats["work"] = stats.get("work", 0) + one.get("work", 0)
         stats["truncated"] = stats.get("truncated", False) or one.get("truncated", False)
-    stats.pop("main_sets", None)
     found = sorted(best.values(), key=lambda fc: fc[0].key)
     if stats_out is not None:
         stats_out.update(stats)
@@ -254,8 +260,11 @@ def design(problem: DesignProblem, stock: Stock, *, top: int = 1, exhaustive: bo
                           transistors_tried=[t.label for t in trs])
     result.stats = stats
     if stats.get("truncated"):
+        from .engine import WORK_BUDGET
+
         result.notes.append(
             f"the search stopped after {stats['sets']:,} candidate resistor sets"
+            + (f" ({stats['work']:,} partial sets formed by the bounds)" if stats.get("work", 0) > WORK_BUDGET else "")
             + (": the designs shown are the best found, not proven optimal" if designs else
                ": no design was found, but it is not proven that none exists (try --max-parts 1, or name "
                "the transistor with [transistor] label, or list fewer roles in pairs)"))

@@ -41,7 +41,10 @@ __all__ = ["Completion", "Found", "search_transistor", "resistor_sets_exhaustive
 HUGE_CAP_FACTOR = 10.0
 LB_CHUNK = 256  # resistor sets whose capacitor bound is computed together
 JUDGE_CHUNK = 4096
-SET_BUDGET = 4_000_000  # resistor sets one search may enumerate before it gives up proving  # resistor sets judged over the whole box together
+SET_BUDGET = 4_000_000  # resistor sets one search may enumerate before it gives up proving
+# partial sets the bounds may form and reject on the way (joins.candidate_sets' tally): about twenty
+# seconds of pruning work, for specs whose bounds reject nearly everything but only late
+WORK_BUDGET = 100_000_000
 
 
 @dataclass
@@ -384,7 +387,8 @@ def design_key(prefer: str, b: int, p: int, d: float, m: float, s: float, csum: 
 def search_transistor(ctx: Context, transistor: StockLine, rtables, ctables, lines, top: int,
                       *, exhaustive: bool = False, virtual_ids=(), min_bought: int = 0,
                       stats: dict | None = None, budget: int | None = None,
-                      pools: Pools | None = None, bound: tuple | None = None) -> list[Found]:
+                      pools: Pools | None = None, bound: tuple | None = None,
+                      work_budget: int | None = None) -> list[Found]:
     """The ``top`` best designs with this transistor, at most one per resistor set.
 
     ``rtables`` are the resistor candidates per part count, shared by every role, or per role
@@ -395,12 +399,15 @@ def search_transistor(ctx: Context, transistor: StockLine, rtables, ctables, lin
     re-queued at the next count in case more parts mean fewer purchases.  ``min_bought`` is a
     known lower bound on the parts to buy (1 once the drawer alone is proven not to do).
     ``stats`` (a dict) receives the counts of sets looked at and whether ``budget`` (resistor sets
-    enumerated) stopped the search before it had proven its answer.  ``bound``: the key of a design
-    already known (another transistor's); nothing whose key is above it is looked for.
+    enumerated) or ``work_budget`` (partial sets the bounds formed on the way) stopped the search
+    before it had proven its answer.  ``bound``: the key of a design already known (another
+    transistor's); nothing whose key is above it is looked for.
     """
     stats = {} if stats is None else stats
     budget = SET_BUDGET if budget is None else budget
+    work_budget = WORK_BUDGET if work_budget is None else work_budget
     stats.setdefault("sets", 0)
+    stats.setdefault("work", 0)
     stats.setdefault("truncated", False)
     if pools is None:
         pools = Pools.build(lines, exclude=virtual_ids)
@@ -445,11 +452,16 @@ def search_transistor(ctx: Context, transistor: StockLine, rtables, ctables, lin
     def open_shape(shape):
         T = {r: tabs[r][c] for r, c in shape.items()}
         pr = sum(shape.values())
-        for idx in candidate_sets(ctx, T):
+        tally = [0]
+        for idx in candidate_sets(ctx, T, tally):
             stats["sets"] += len(idx[ctx.res_roles[0]])
-            if stats["sets"] > budget:
+            stats["work"] += tally[0]
+            tally[0] = 0
+            if stats["sets"] > budget or stats["work"] > work_budget:
                 stats["truncated"] = True
                 return
+            if not len(idx[ctx.res_roles[0]]):
+                continue
             v = {r: T[r].v[idx[r]] for r in ctx.res_roles}
             tol = {r: T[r].tol[idx[r]] for r in ctx.res_roles}
             dist = nominal_distance(ctx, v, tol)

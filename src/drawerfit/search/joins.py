@@ -6,17 +6,44 @@ decides.  Voltages are in the NPN-mirrored frame of ``analysis.core``: RA is the
 on the emitter-rail's far side (R1 for NPN, R2 for PNP), RB the other; VTH = VCC·RB/(RA+RB).
 
 * Divider (RA, RB): the transistor must conduct at (RA high, RB low, cold): VTH > VBE; with a swing
-  target the follower needs VE ≥ swing (the downward swing IE·(RE‖RL) is below VE), so
-  VTH ≥ swing + VBE there; every stage needs VE ≤ VCC − VCE(sat) − swing, and at (RA low, RB high,
-  hFE low, hot) VE ≥ VTH − VBE − IEmax·RTH/(hFEmin+1); with rin_min, RTH at (RA low, RB low) must
-  reach it (the input resistance is below the divider's).
+  target the follower needs VE ≥ VEmin (below), and VE ≤ VTH − VBE, so VTH ≥ VEmin + VBE there;
+  every stage needs VE ≤ VCC − VCE(sat) − swing, and at (RA low, RB high, hFE low, hot)
+  VE ≥ VTH − VBE − IEmax·RTH/(hFEmin+1); with rin_min, RTH at (RA low, RB low) must reach RTHmin
+  (below; at least rin_min, since the input resistance is below the divider's).
 * Emitter (RE, plus RE2 in series): IE = (VTH − VBE)/(RET + RTH/(β+1)) in the active region,
   falling with RET; at the vertex of highest IE it must not pass ie_max, at the lowest not fall
   under ie_min: an interval for the low and high ends of RET.
+* Input resistance (rin_min) on RE alone.  At the vertex (RA low, RB low, RE low, hFE low) the
+  input resistance is RTH‖Zb with Zb = (hFEmin+1)·(re + X), X = RE low‖RL for the follower and
+  RE low for the common emitter (RE2 is bypassed; the design search has no unbypassed RE2), and
+  re = VT/IE ≤ VT(hottest ambient)/ie_min (IE ≥ ie_min at every vertex of a feasible set; VT
+  grows with temperature, so this holds whatever the vertex's ambient).  rin ≥ rin_min needs
+  Zb ≥ rin_min·RTH/(RTH − rin_min), so X ≥ that/(hFEmin+1) − re_max: a floor on RE's low end per
+  divider.  For the follower X < RL and X ≤ REmax‖RL (swing, below), which bounds Zb for every
+  set and gives RTHmin = rin_min·Zbmax/(Zbmax − rin_min) for the divider (nothing is feasible when
+  Zbmax ≤ rin_min).
+* Follower swing (swing_peak = min(up, down) ≥ swing at every vertex, in the active region, with
+  up = VCC − VCE(sat) − IE·RE and down = IE·(RE‖RL)).  At the vertex of RE low, IE ≤ ie_max, so
+  RE low‖RL ≥ swing/ie_max: a floor on RE's low end (nothing is feasible if swing/ie_max ≥ RL).
+  At any one vertex, up ≥ swing and down ≥ swing give swing·(RE + RL)/RL ≤ IE·RE ≤
+  VCC − VCE(sat) − swing, which no longer depends on IE: RE ≤ RL·(VCC − VCE(sat) − 2·swing)/swing,
+  a ceiling on RE's high end (without a load: nothing is feasible if VCC − VCE(sat) < 2·swing).
+  With the same inequality VE = IE·RE ≥ swing·(1 + RE low/RL) =: VEmin.
+* Common-emitter headroom on RE and RE2.  At the vertex (RC high, RE low, RE2 low) the transistor
+  must be active and the downward swing (VCE − VCE(sat))·k, 0 < k ≤ 1, must reach the swing (0
+  without a target), so VCC − IC·RC high − IE·RET low ≥ VCE(sat) + swing, with IE ≥ ie_min and
+  IC = α·IE ≥ α_lo·ie_min (α = hFE/(hFE+1)): RET low + α_lo·RC high ≤ (VCC − VCE(sat) − swing)/ie_min.
+  RC high ≥ RC low ≥ RCneed: the gain at (RC low, RE high) is below (RC low‖RL)/RE high (α < 1,
+  re > 0, the source divides), so RC low‖RL > gain_min·RE high; the upward swing IC·(RC low‖RL)
+  with IC < ie_max gives RC low‖RL ≥ swing/ie_max.  So RET low ≤ headroom − α_lo·RCneed(RE high):
+  a test on RE alone (RE2 ≥ 0), a ceiling on RE2's low end per (divider, RE), and, with the
+  emitter window's RET low ≥ L, a ceiling on RE's high end per divider (RCneed ≤
+  (headroom − L)/α_lo).  These drop α, re and the source's division, so they are not tight.
 * Collector (RC, common emitter): the gain magnitude is |g1|·(RC‖RL) with g1 the gain per ohm of
-  collector load at a vertex (the active-region IE does not depend on RC); gain_min at the vertex
-  of lowest IE, gain_max at the highest, rout_max (rout = RC), the swing up (IC·(RC‖RL)) and the
-  room for the swing down (VCE ≥ VCE(sat) + swing at the vertex of highest IE) bound RC.
+  collector load at a vertex (the active-region IE does not depend on RC; g1 is the gain at
+  RC = 1 Ω divided by 1 Ω‖RL); gain_min at the vertex of lowest IE, gain_max at the highest,
+  rout_max (rout = RC), the swing up (IC·(RC‖RL)) and the room for the swing down
+  (VCE ≥ VCE(sat) + swing at the vertex of highest IE) bound RC.
 
 Interval bounds are found by binary search on the sorted nominal values (low end ≤ nominal ≤ high
 end), then the exact end conditions are applied, with a relative slack of 1e-9 so that rounding
@@ -39,10 +66,13 @@ SLACK = 1e-9
 CHUNK = 400_000  # sets handled at once: bounds memory
 
 
-def _ranges(owner: np.ndarray, start: np.ndarray, stop: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+def _ranges(owner: np.ndarray, start: np.ndarray, stop: np.ndarray, tally: list | None = None
+            ) -> tuple[np.ndarray, np.ndarray]:
     stop = np.maximum(stop, start)
     lens = stop - start
     total = int(lens.sum())
+    if tally is not None:
+        tally[0] += total
     if total == 0:
         return np.zeros(0, np.int64), np.zeros(0, np.int64)
     a = np.repeat(owner, lens)
@@ -72,6 +102,11 @@ class _Box:
             self.b_lo, self.b_hi = tr.hfe_min, tr.hfe_max
             self.vbe_hi, self.vbe_lo = ctx.vbe_at(ctx.t_lo), ctx.vbe_at(ctx.t_hi)
 
+        # the largest thermal voltage over the box: re = VT/IE <= vt_max/ie_min at every vertex
+        from ..constants import thermal_voltage
+
+        self.vt_max = float(thermal_voltage(p.conditions.nominal_temp if self.nominal else max(ctx.t_lo, ctx.t_hi)))
+
     def lo(self, t: RoleTable):
         return t.v if self.nominal else t.lo
 
@@ -86,36 +121,152 @@ def _vth(vcc, ra, rb):
     return vcc * rb / (ra + rb), ra * rb / (ra + rb)
 
 
-def _dividers(ctx: Context, box: _Box, A: RoleTable, B: RoleTable, a_idx: np.ndarray):
+def _par_floor(q, rl: float):
+    """The smallest R with R‖rl >= q: 0 where q <= 0, inf where no R reaches it (q >= rl)."""
+    q = np.asarray(q, float)
+    if not np.isfinite(rl):
+        return np.maximum(q, 0.0)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        return np.where(q <= 0, 0.0, np.where(q < rl, q * rl / (rl - q), np.inf))
+
+
+class _Emitter:
+    """Bounds on RE alone (not RE + RE2) that hold for every set of the problem, and the ingredients
+    of the per-divider input-resistance bound.
+
+    ``re_lo_min``: RE's low end must reach it; ``re_hi_max``: RE's high end must not pass it (the
+    follower's swing); ``ve_min``: the least VE of a follower with a swing target; ``rth_min``: the
+    least divider resistance RTH at (RA low, RB low) that can still give ``rin_min``.
+    """
+
+    def __init__(self, ctx: Context, box: _Box):
+        p, tr = ctx.problem, ctx.tr
+        t = p.targets
+        rl = p.rl
+        follower = p.topology == "emitter-follower"
+        self.follower = follower
+        self.rl = rl
+        self.re_lo_min, self.re_hi_max = 0.0, np.inf
+        self.ve_min = 0.0
+        s = t.swing or 0.0
+        if follower and s > 0:
+            # down = IE·(RE‖RL) >= s with IE <= ie_max, at the vertex of RE low
+            self.re_lo_min = float(_par_floor(s * (1 - SLACK) / t.ie_max, rl))
+            # up = VCC − VCE(sat) − IE·RE >= s and down >= s at one vertex: IE·RE cancels
+            room = p.supply - tr.vce_sat - 2.0 * s + SLACK * p.supply
+            if np.isfinite(rl):
+                self.re_hi_max = rl * room / s
+            elif room < 0:
+                self.re_hi_max = -np.inf
+            # VE = IE·RE >= s·(RE + RL)/RL >= s·(1 + RE low/RL)
+            self.ve_min = s * (1.0 + (self.re_lo_min / rl if np.isfinite(rl) else 0.0))
+        self.rin = None if t.rin_min is None else t.rin_min * (1 - SLACK)
+        # re = VT/IE <= VT(hottest)/ie_min at every vertex of a set that keeps IE >= ie_min
+        self.re_max = box.vt_max / t.ie_min * (1 + SLACK)
+        self.b1 = box.b_lo + 1.0
+        self.rth_min = 0.0
+        if self.rin is not None:
+            self.rth_min = self.rin
+            if follower:
+                # the base impedance (β+1)(re + RE‖RL) at hFE low, RE‖RL below RL and below RE high‖RL
+                x = rl
+                if np.isfinite(self.re_hi_max):
+                    h = max(self.re_hi_max, 0.0)
+                    x = h if not np.isfinite(rl) else h * rl / (h + rl) if h > 0 else 0.0
+                zmax = self.b1 * (self.re_max + x)
+                self.rth_min = (np.inf if zmax <= self.rin else
+                                self.rin if not np.isfinite(zmax) else self.rin * zmax / (zmax - self.rin))
+
+        # common emitter: the headroom VCE >= VCE(sat) + swing at (RC high, RE and RE2 low) holds
+        # IE·RET low + IC·RC high, with IE >= ie_min and IC = α·IE >= α_lo·ie_min; RC's high end
+        # must reach rc_need (gain_min at (RC low, RE high): |gain| < (RC‖RL)/RE; swing up at RC
+        # low: IC·(RC‖RL) >= swing with IC < ie_max)
+        self.headroom = None
+        if not follower:
+            self.headroom = (p.supply - tr.vce_sat - s) / t.ie_min * (1 + SLACK)
+            self.alpha_lo = box.b_lo / (box.b_lo + 1.0)
+            self.rc_swing = float(_par_floor(s * (1 - SLACK) / t.ie_max, rl))
+            self.gain_min = None if t.gain_min is None else t.gain_min * (1 - SLACK)
+
+    def rc_need(self, re_hi: np.ndarray) -> np.ndarray:
+        """Common emitter: the least RC low end (so also high end) that the gain and upward swing
+        targets leave, for RE's high end ``re_hi``."""
+        need = np.full(np.shape(re_hi), self.rc_swing)
+        if self.gain_min is not None:
+            need = np.maximum(need, _par_floor(self.gain_min * np.asarray(re_hi), self.rl))
+        return need
+
+    def ret_lo_max(self, re_hi: np.ndarray) -> np.ndarray:
+        """Common emitter: the largest low end of RE + RE2 the headroom allows, for RE's high end."""
+        return self.headroom - self.alpha_lo * self.rc_need(re_hi)
+
+    def re_hi_cap(self, L: np.ndarray) -> np.ndarray:
+        """Common emitter: the largest RE high end per divider whose emitter window starts at L
+        (RET low >= L): RC low <= RC high <= (headroom − L)/α_lo, and RC low must reach rc_need."""
+        cap = np.full(np.shape(L), np.inf)
+        if self.headroom is None:
+            return cap
+        with np.errstate(invalid="ignore", divide="ignore"):
+            r = (self.headroom - np.maximum(L, 0.0)) / self.alpha_lo
+            if self.gain_min is not None:
+                par = r if not np.isfinite(self.rl) else np.where(r > 0, r * self.rl / (r + self.rl), 0.0)
+                cap = par / self.gain_min * (1 + SLACK)
+            return np.where(r * (1 + SLACK) >= self.rc_swing, cap, -np.inf)
+
+    def re_ok(self, box: _Box, RE: RoleTable) -> np.ndarray:
+        """RE candidates that meet the bounds on RE alone (RE2, if any, only adds to RET)."""
+        lo, hi = box.lo(RE), box.hi(RE)
+        ok = (lo * (1 + SLACK) >= self.re_lo_min) & (hi * (1 - SLACK) <= self.re_hi_max)
+        if self.headroom is not None:
+            with np.errstate(invalid="ignore"):
+                ok &= lo <= self.ret_lo_max(hi)
+        return ok
+
+    def nothing(self) -> bool:
+        return self.re_lo_min > self.re_hi_max * (1 + SLACK) or not np.isfinite(self.rth_min)
+
+    def re_lo_rin(self, rth_ll: np.ndarray, rl: float) -> np.ndarray:
+        """The least RE low end that lets the input resistance reach rin_min, per divider, from
+        rin = RTH(RA low, RB low) ‖ (β_lo+1)(re + X) at (RA low, RB low, RE low, hFE low), where X is
+        RE low‖RL (follower) or RE low (common emitter, RE2 bypassed) and re <= ``re_max``."""
+        if self.rin is None:
+            return np.zeros(len(rth_ll))
+        with np.errstate(divide="ignore", invalid="ignore"):
+            zneed = np.where(rth_ll > self.rin, self.rin * rth_ll / (rth_ll - self.rin), np.inf)
+            q = zneed / self.b1 - self.re_max
+        return _par_floor(q, rl) if self.follower else np.maximum(q, 0.0)
+
+
+def _dividers(ctx: Context, box: _Box, em: _Emitter, A: RoleTable, B: RoleTable, a_idx: np.ndarray, tally=None):
     p, tr = ctx.problem, ctx.tr
     vcc = p.supply
     s = p.targets.swing or 0.0
     ie_max = p.targets.ie_max
     hi_a, lo_a = box.hi(A)[a_idx], box.lo(A)[a_idx]
     with np.errstate(divide="ignore", invalid="ignore"):
-        # conduction (and, follower with swing, VE >= swing) at (RA high, RB low, cold)
-        x = box.vbe_hi + (s if p.topology == "emitter-follower" else 0.0)
+        # conduction (and, follower with swing, VE >= ve_min) at (RA high, RB low, cold)
+        x = box.vbe_hi + em.ve_min
         need_lo_b = np.where(x < vcc, x * hi_a / (vcc - x), np.inf)
         # VE <= VCC - VCE(sat) - swing at (RA low, RB high, hFE low, hot), with RTH <= RA low
         z = vcc - tr.vce_sat - s + box.vbe_lo + ie_max * lo_a / (box.b_lo + 1.0)
         max_hi_b = np.where(z < vcc, z * lo_a / (vcc - z), np.inf)
-        if p.targets.rin_min is not None:
-            r = p.targets.rin_min
+        if em.rin is not None:
+            r = em.rth_min
             need_lo_b = np.maximum(need_lo_b, np.where(lo_a > r, r * lo_a / (lo_a - r), np.inf))
     start, stop = _span(B.v, need_lo_b, max_hi_b)
-    ia, ib = _ranges(a_idx, start, stop)
+    ia, ib = _ranges(a_idx, start, stop, tally)
     if not len(ia):
         return ia, ib
     lo_a, hi_a, lo_b, hi_b = box.lo(A)[ia], box.hi(A)[ia], box.lo(B)[ib], box.hi(B)[ib]
     vth_l, _ = _vth(vcc, hi_a, lo_b)
     vth_h, rth_h = _vth(vcc, lo_a, hi_b)
     ok = vth_l * (1 + SLACK) > box.vbe_hi
-    if p.topology == "emitter-follower" and s > 0:
-        ok &= vth_l * (1 + SLACK) >= s + box.vbe_hi
+    if em.ve_min > 0:
+        ok &= vth_l * (1 + SLACK) >= em.ve_min + box.vbe_hi
     ok &= (vth_h - box.vbe_lo - ie_max * rth_h / (box.b_lo + 1.0)) * (1 - SLACK) <= vcc - tr.vce_sat - s
-    if p.targets.rin_min is not None:
+    if em.rin is not None:
         _, rth_ll = _vth(vcc, lo_a, lo_b)
-        ok &= rth_ll * (1 + SLACK) >= p.targets.rin_min
+        ok &= rth_ll * (1 + SLACK) >= em.rth_min
     return ia[ok], ib[ok]
 
 
@@ -130,13 +281,20 @@ def _emitter_window(ctx: Context, box: _Box, A, B, ia, ib):
     return L, U
 
 
-def _join_sorted(T: RoleTable, box: _Box, owner_lo, owner_hi):
-    """Indices (owner position, k) with T.lo[k] >= owner_lo and T.hi[k] <= owner_hi."""
-    start, stop = _span(T.v, owner_lo, owner_hi)
-    pos, k = _ranges(np.arange(len(owner_lo)), start, stop)
+def _join_sorted(T: RoleTable, box: _Box, owner_lo, owner_hi, owner_lo_max=None, tally=None):
+    """Indices (owner position, k) with T.lo[k] >= owner_lo and T.hi[k] <= owner_hi (and, if
+    given, T.lo[k] <= owner_lo_max)."""
+    top = owner_hi
+    if owner_lo_max is not None:
+        with np.errstate(invalid="ignore"):
+            top = np.minimum(owner_hi, owner_lo_max / (1.0 - box.tmax(T)))
+    start, stop = _span(T.v, owner_lo, top)
+    pos, k = _ranges(np.arange(len(owner_lo)), start, stop, tally)
     if not len(pos):
         return pos, k
     ok = (box.lo(T)[k] * (1 + SLACK) >= owner_lo[pos]) & (box.hi(T)[k] * (1 - SLACK) <= owner_hi[pos])
+    if owner_lo_max is not None:
+        ok &= box.lo(T)[k] * (1 - SLACK) <= owner_lo_max[pos]
     return pos[ok], k[ok]
 
 
@@ -158,7 +316,9 @@ def _collector(ctx: Context, box: _Box, T: Mapping[str, RoleTable], idx: dict[st
         v_hi, v_lo = ctx.vertices[0], ctx.vertices[1]
     d_hi = vertex_dc(ctx, v_hi, vals, tols)
     d_lo = vertex_dc(ctx, v_lo, vals, tols)
-    g_hi, g_lo = np.abs(d_hi.gain), np.abs(d_lo.gain)
+    # the gain at RC = 1 Ω is g1·(1 Ω‖RL): divide by 1‖RL for the gain per ohm of RC‖RL
+    per_ohm = 1.0 if not np.isfinite(rl) else (1.0 + rl) / rl
+    g_hi, g_lo = np.abs(d_hi.gain) * per_ohm, np.abs(d_lo.gain) * per_ohm
     t = p.targets
     s = t.swing or 0.0
     with np.errstate(divide="ignore", invalid="ignore"):
@@ -188,23 +348,45 @@ def _collector(ctx: Context, box: _Box, T: Mapping[str, RoleTable], idx: dict[st
     return {r: a[pos] for r, a in idx.items()}, k
 
 
-def candidate_sets(ctx: Context, T: Mapping[str, RoleTable]) -> Iterator[dict[str, np.ndarray]]:
-    """Chunks of resistor sets {role: index into T[role]} that pass every bound above."""
+def candidate_sets(ctx: Context, T: Mapping[str, RoleTable], tally: list | None = None
+                   ) -> Iterator[dict[str, np.ndarray]]:
+    """Chunks of resistor sets {role: index into T[role]} that pass every bound above.
+
+    With ``tally`` (a one-element list), the work done is added to ``tally[0]`` (partial sets
+    formed on the way: dividers, divider–emitter pairs, and ten per set whose collector is
+    bounded, the costliest step) and an empty chunk is yielded after every block of dividers,
+    so that a caller can stop a search whose bounds reject nearly everything only late.
+    """
+    empty = {r: np.zeros(0, np.int64) for r in ctx.res_roles}
     p = ctx.problem
     box = _Box(ctx)
+    em = _Emitter(ctx, box)
     A, B = T[ctx.ra], T[ctx.rb]
     if not (len(A) and len(B)) or any(not len(T[r]) for r in ctx.res_roles):
         return
+    if em.nothing():
+        return
+    RE = T["RE"]
+    re_ok = em.re_ok(box, RE)
+    if not re_ok.any():
+        return  # no RE of this table meets the bounds on RE alone, whatever the divider
+    re_top = int(np.flatnonzero(re_ok)[-1]) + 1
     step = max(1, CHUNK // max(1, len(B)))
     for a0 in range(0, len(A), step):
-        ia, ib = _dividers(ctx, box, A, B, np.arange(a0, min(len(A), a0 + step)))
+        ia, ib = _dividers(ctx, box, em, A, B, np.arange(a0, min(len(A), a0 + step)), tally)
         if not len(ia):
+            if tally is not None:
+                yield empty
             continue
         L, U = _emitter_window(ctx, box, A, B, ia, ib)
+        # RE alone: the follower's swing bounds and the input resistance bound
+        _, rth_ll = _vth(p.supply, box.lo(A)[ia], box.lo(B)[ib])
+        re_lo = np.maximum(em.re_lo_min, em.re_lo_rin(rth_ll, p.rl))
+        re_hi = np.minimum(em.re_hi_max, em.re_hi_cap(L))
         if "RE2" in T:
             # (divider, RE) with RE's high end below U, then RE2 from the rest of the window
-            RE = T["RE"]
-            kmax = np.searchsorted(RE.v, U * (1 + SLACK), side="right")
+            kmin = np.searchsorted(RE.v, re_lo * (1 - SLACK), side="left")
+            kmax = np.minimum(np.searchsorted(RE.v, np.minimum(U, re_hi) * (1 + SLACK), side="right"), re_top)
             if p.targets.gain_min is not None:
                 rc_cap = float(box.hi(T["RC"]).max())
                 if np.isfinite(p.rl):
@@ -214,20 +396,31 @@ def candidate_sets(ctx: Context, T: Mapping[str, RoleTable]) -> Iterator[dict[st
                 kg = np.searchsorted(RE.v, rc_cap / p.targets.gain_min / (1 - box.tmax(RE)) * (1 + SLACK),
                                      side="right")
                 kmax = np.minimum(kmax, kg)
-            d, kre = _ranges(np.arange(len(ia)), np.zeros(len(ia), np.int64), kmax)
-            ok = box.hi(RE)[kre] * (1 - SLACK) < U[d]
+            d, kre = _ranges(np.arange(len(ia)), kmin, kmax, tally)
+            ok = ((box.hi(RE)[kre] * (1 - SLACK) < U[d]) & (box.hi(RE)[kre] * (1 - SLACK) <= re_hi[d])
+                  & (box.lo(RE)[kre] * (1 + SLACK) >= re_lo[d]) & re_ok[kre])
             d, kre = d[ok], kre[ok]
-            pos, kre2 = _join_sorted(T["RE2"], box, L[d] - box.lo(RE)[kre], U[d] - box.hi(RE)[kre])
+            lo_max = em.ret_lo_max(box.hi(RE)[kre]) - box.lo(RE)[kre]
+            pos, kre2 = _join_sorted(T["RE2"], box, L[d] - box.lo(RE)[kre], U[d] - box.hi(RE)[kre], lo_max,
+                                     tally)
             idx = {ctx.ra: ia[d[pos]], ctx.rb: ib[d[pos]], "RE": kre[pos], "RE2": kre2}
         else:
-            pos, kre = _join_sorted(T["RE"], box, L, U)
+            pos, kre = _join_sorted(RE, box, np.maximum(L, re_lo), np.minimum(U, re_hi), tally=tally)
+            keep = re_ok[kre]
+            pos, kre = pos[keep], kre[keep]
             idx = {ctx.ra: ia[pos], ctx.rb: ib[pos], "RE": kre}
         if "RC" in T:
             for c0 in range(0, len(idx["RE"]), CHUNK):
                 part = {r: a[c0:c0 + CHUNK] for r, a in idx.items()}
+                if tally is not None:
+                    tally[0] += 10 * len(part["RE"])
                 part, krc = _collector(ctx, box, T, part)
                 part["RC"] = krc
                 if len(krc):
                     yield part
-        elif len(idx["RE"]):
+                elif tally is not None:
+                    yield empty
+            if tally is not None and not len(idx["RE"]):
+                yield empty
+        elif len(idx["RE"]) or tally is not None:
             yield idx

@@ -14,7 +14,7 @@ from ..parts import Stock, StockLine
 from ..stages import Part, Stage, TransistorModel
 from .evaluate import Context
 from .pools import Pools
-from .engine import Found, search_transistor
+from .engine import Found, TransistorSearch, search_transistor
 from .problem import DesignProblem
 from .tables import build_tables, with_default_ratings
 
@@ -192,40 +192,28 @@ def _run(problem: DesignProblem, lines, top: int, exhaustive: bool, virtual_ids=
         keys = sorted(f.key for f, _ in best.values())
         return keys[top - 1] if len(keys) >= top else None
 
-    if not exhaustive and len(trs) > 1 and problem.max_parts > 1:
-        # A first pass with single parts for every transistor gives a design to beat, so that one
-        # transistor with no design cannot spend the whole budget on pairs before the next is
-        # looked at.  Its designs are designs of the full space with the same keys; its budgets are
-        # its own, and its stopping early only makes the bound weaker (the full pass is complete).
-        from .engine import SET_BUDGET, WORK_BUDGET
-
-        first = problem.with_(max_parts=1)
-        spent = {"sets": 0, "work": 0}
+    stats.update(sets=0, work=0, truncated=False)
+    if exhaustive:
         for tr in trs:
-            one: dict = {}
-            ctx1 = Context(first, transistor_model(tr))
-            for f in search_transistor(ctx1, tr, rtables, ctables, lines, top, stats=one,
-                                       budget=max(0, SET_BUDGET // 4 - spent["sets"]),
-                                       work_budget=max(0, WORK_BUDGET // 4 - spent["work"]), **common):
+            for f in search_transistor(ctxs[tr.index], tr, rtables, ctables, lines, top, exhaustive=True,
+                                       **common):
                 keep(f, ctxs[tr.index])
-            for k in spent:
-                spent[k] += one.get(k, 0)
-        stats.update(spent)
-    main = {"sets": 0, "work": 0}
-    for tr in trs:
-        ctx = ctxs[tr.index]
-        one = {}
-        left = None if budget is None else max(0, budget - main["sets"])
-        left_work = None if work_budget is None else max(0, work_budget - main["work"])
-        for f in search_transistor(ctx, tr, rtables, ctables, lines, top, exhaustive=exhaustive, stats=one,
-                                   budget=left, work_budget=left_work, bound=None if exhaustive else bound(),
-                                   **common):
-            keep(f, ctx)
-        for k in main:
-            main[k] += one.get(k, 0)
-        stats["sets"] = stats.get("sets", 0) + one.get("sets", 0)
-        stats["work"] = stats.get("work", 0) + one.get("work", 0)
-        stats["truncated"] = stats.get("truncated", False) or one.get("truncated", False)
+    else:
+        # One resumable search per transistor, sharing one budget (``stats``).  With several
+        # transistors and pairs allowed, each first goes as far as single parts take it: that gives
+        # a design to beat before any of them opens pairs, so that a transistor with no design
+        # cannot spend the whole budget on pairs before the next is looked at.  Then each goes on
+        # to the end with the top-th best key known as its bound; no work is done twice.
+        searches = {tr.index: TransistorSearch(ctxs[tr.index], tr, rtables, ctables, lines, top, stats=stats,
+                                               budget=budget, work_budget=work_budget, **common)
+                    for tr in trs}
+        if len(trs) > 1 and problem.max_parts > 1:
+            for tr in trs:
+                for f in searches[tr.index].run(None, limit=len(ctxs[tr.index].res_roles)):
+                    keep(f, ctxs[tr.index])
+        for tr in trs:
+            for f in searches[tr.index].run(bound()):
+                keep(f, ctxs[tr.index])
     found = sorted(best.values(), key=lambda fc: fc[0].key)
     if stats_out is not None:
         stats_out.update(stats)

@@ -36,7 +36,8 @@ from .joins import candidate_sets
 from .pools import Pools
 from .tables import RoleTable, equivalent_key
 
-__all__ = ["Completion", "Found", "search_transistor", "resistor_sets_exhaustive"]
+__all__ = ["Completion", "Found", "TransistorSearch", "search_transistor", "exhaustive_search",
+           "resistor_sets_exhaustive"]
 
 HUGE_CAP_FACTOR = 10.0
 LB_CHUNK = 256  # resistor sets whose capacitor bound is computed together
@@ -385,162 +386,206 @@ def design_key(prefer: str, b: int, p: int, d: float, m: float, s: float, csum: 
 
 
 def search_transistor(ctx: Context, transistor: StockLine, rtables, ctables, lines, top: int,
-                      *, exhaustive: bool = False, virtual_ids=(), min_bought: int = 0,
-                      stats: dict | None = None, budget: int | None = None,
-                      pools: Pools | None = None, bound: tuple | None = None,
-                      work_budget: int | None = None) -> list[Found]:
-    """The ``top`` best designs with this transistor, at most one per resistor set.
+                      *, exhaustive: bool = False, bound: tuple | None = None, **kw) -> list[Found]:
+    """The ``top`` best designs with this transistor (``TransistorSearch`` run to the end)."""
+    if exhaustive:
+        return exhaustive_search(ctx, transistor, rtables, ctables, lines, top, **kw)
+    return TransistorSearch(ctx, transistor, rtables, ctables, lines, top, **kw).run(bound)
 
-    ``rtables`` are the resistor candidates per part count, shared by every role, or per role
-    (``per_role``).
 
-    ``virtual_ids`` are stock-line indices that stand for parts one could buy: the objective then
-    starts with the number of such parts, and a set whose cheapest capacitors need a purchase is
-    re-queued at the next count in case more parts mean fewer purchases.  ``min_bought`` is a
-    known lower bound on the parts to buy (1 once the drawer alone is proven not to do).
-    ``stats`` (a dict) receives the counts of sets looked at and whether ``budget`` (resistor sets
-    enumerated) or ``work_budget`` (partial sets the bounds formed on the way) stopped the search
-    before it had proven its answer.  ``bound``: the key of a design already known (another
-    transistor's); nothing whose key is above it is looked for.
-    """
-    stats = {} if stats is None else stats
-    budget = SET_BUDGET if budget is None else budget
-    work_budget = WORK_BUDGET if work_budget is None else work_budget
-    stats.setdefault("sets", 0)
-    stats.setdefault("work", 0)
-    stats.setdefault("truncated", False)
+class TransistorSearch:
+    """The best-first search for one transistor, resumable: ``run(bound, limit)`` goes on from where
+    the last call stopped (``limit``: open no shape of more resistors than that)."""
+
+    def __init__(self, ctx: Context, transistor: StockLine, rtables, ctables, lines, top: int,
+                 *, virtual_ids=(), min_bought: int = 0, stats: dict | None = None, budget: int | None = None,
+                 pools: Pools | None = None, work_budget: int | None = None):
+        self._gen = self._search(ctx, transistor, rtables, ctables, lines, top, virtual_ids=virtual_ids,
+                                 min_bought=min_bought, stats=stats, budget=budget, pools=pools,
+                                 work_budget=work_budget)
+        next(self._gen)
+
+    def run(self, bound: tuple | None = None, limit: int | None = None) -> list[Found]:
+        return self._gen.send((bound, limit))
+
+    @staticmethod
+    def _search(ctx: Context, transistor: StockLine, rtables, ctables, lines, top: int,
+                *, virtual_ids=(), min_bought: int = 0, stats: dict | None = None, budget: int | None = None,
+                pools: Pools | None = None, work_budget: int | None = None):
+        """The generator behind ``TransistorSearch``: the ``top`` best designs with this transistor,
+        at most one per resistor set, yielded (sorted) whenever it pauses.
+
+        ``rtables`` are the resistor candidates per part count, shared by every role, or per role
+        (``per_role``).
+
+        ``virtual_ids`` are stock-line indices that stand for parts one could buy: the objective then
+        starts with the number of such parts, and a set whose cheapest capacitors need a purchase is
+        re-queued at the next count in case more parts mean fewer purchases.  ``min_bought`` is a
+        known lower bound on the parts to buy (1 once the drawer alone is proven not to do).
+        ``stats`` (a dict) receives the counts of sets looked at and whether ``budget`` (resistor sets
+        enumerated) or ``work_budget`` (partial sets the bounds formed on the way) stopped the search
+        before it had proven its answer.  It pauses when nothing on its heap can beat the ``top``-th
+        best key known (its own designs', or the ``bound`` sent with ``run``: another transistor's),
+        or when the next shape has more resistors than the ``limit`` sent; a later ``run`` goes on
+        from there with a new bound and limit.
+        """
+        stats = {} if stats is None else stats
+        budget = SET_BUDGET if budget is None else budget
+        work_budget = WORK_BUDGET if work_budget is None else work_budget
+        stats.setdefault("sets", 0)
+        stats.setdefault("work", 0)
+        stats.setdefault("truncated", False)
+        if pools is None:
+            pools = Pools.build(lines, exclude=virtual_ids)
+        virtual = np.zeros(len(pools.qty), np.int64)
+        for i in virtual_ids:
+            virtual[i] = 1
+        buying = bool(len(virtual_ids))
+        caps = CapSide(ctx, ctables, pools, virtual)
+        prefer = ctx.problem.prefer
+
+        def bkey(nb, p, d):
+            return _bound_key(prefer, max(nb, min_bought), p, d)
+
+        # Shapes (part counts per resistor role) are opened lazily in order of their part count: a
+        # shape with pR resistors cannot give a design with fewer than pR + (one per capacitor role)
+        # parts, so under fewest-parts it is opened only when the heap holds nothing better.  Inside a
+        # shape, the sets that pass the bounds wait unjudged in order of (parts to buy, D), in chunks
+        # whose bound is their first set's; judging and capacitor bounds happen when a chunk comes up.
+        shapes = sorted(_shapes(ctx, ctx.res_roles, rtables), key=lambda sh: sum(sh.values()))
+        min_caps = len(ctx.cap_roles)
+        raws: list[tuple] = []
+        batches: list[RBatch] = []
+        orders: list[np.ndarray] = []
+        heap = []
+        counter = itertools.count()
+        max_pc = max((sum(s.values()) for s in caps.shapes), default=0)
+
+        def push(key, kind, ref, pos, p, found=None):
+            heapq.heappush(heap, (key, next(counter), kind, ref, pos, p, found))
+
+        tabs = per_role(ctx.res_roles, rtables)
+
+        def open_shape(shape):
+            T = {r: tabs[r][c] for r, c in shape.items()}
+            pr = sum(shape.values())
+            tally = [0]
+            for idx in candidate_sets(ctx, T, tally):
+                stats["sets"] += len(idx[ctx.res_roles[0]])
+                stats["work"] += tally[0]
+                tally[0] = 0
+                if stats["sets"] > budget or stats["work"] > work_budget:
+                    stats["truncated"] = True
+                    return
+                if not len(idx[ctx.res_roles[0]]):
+                    continue
+                v = {r: T[r].v[idx[r]] for r in ctx.res_roles}
+                tol = {r: T[r].tol[idx[r]] for r in ctx.res_roles}
+                dist = nominal_distance(ctx, v, tol)
+                nb = _bought([(T[r].members[idx[r]], T[r].counts[idx[r]]) for r in ctx.res_roles], virtual)
+                order = np.lexsort((dist, nb))
+                raws.append((T, {r: a[order] for r, a in idx.items()}, dist[order], nb[order], pr))
+                push_raw(len(raws) - 1, 0)
+
+        def push_raw(ri, start):
+            T, idx, dist, nb, pr = raws[ri]
+            if start < len(dist):
+                push(bkey(int(nb[start]), pr + min_caps, float(dist[start])), 0, ri, start, 0)
+
+        def open_raw(ri, start):
+            T, idx, dist, nb, pr = raws[ri]
+            part = {r: a[start:start + JUDGE_CHUNK] for r, a in idx.items()}
+            part = {r: a[caps.may_complete(T, part)] for r, a in part.items()}
+            bt = _judge_sets(ctx, T, part, pools, pr, virtual) if len(part[ctx.res_roles[0]]) else None
+            push_raw(ri, start + JUDGE_CHUNK)
+            if bt is None:
+                return
+            batches.append(bt)
+            orders.append(np.lexsort((bt.ev.distance, bt.bought)))
+            push_lb(len(batches) - 1, 0)
+
+        def push_lb(bi, start):
+            bt, order = batches[bi], orders[bi]
+            if start < len(order):
+                q = order[start]
+                push(bkey(int(bt.bought[q]), bt.pr + min_caps, float(bt.ev.distance[q])), 1, bi, start, 0)
+
+        def open_lb(bi, start):
+            bt, order = batches[bi], orders[bi]
+            pos = order[start:start + LB_CHUNK]
+            lb = caps.lower_bounds(bt, pos)
+            for q, l in zip(pos, lb):
+                if np.isfinite(l):
+                    p = bt.pr + int(l)
+                    push(bkey(int(bt.bought[q]), p, float(bt.ev.distance[q])), 2, bi, int(q), p)
+            push_lb(bi, start + LB_CHUNK)
+
+        out: list[Found] = []
+        done: set[tuple[int, int]] = set()
+        si = 0
+        bound, limit = yield None
+        while True:
+            # the key to beat: the top-th best of this search's designs and the bound given
+            own = sorted(f.key for f in out)[top - 1] if len(out) >= top else None
+            beat = own if bound is None else bound if own is None else min(own, bound)
+            # open every shape whose best possible key could come before the heap's top
+            while si < len(shapes) and not stats["truncated"]:
+                pr_shape = sum(shapes[si].values())
+                p_min = pr_shape + min_caps
+                if limit is not None and pr_shape > limit:
+                    break
+                if heap and prefer != "closest" and (0, p_min) > heap[0][0][:2]:
+                    break
+                if beat is not None and bkey(0, p_min, 0.0) > beat:
+                    break  # shapes come in order of part count (and D >= 0): none after can beat it
+                open_shape(shapes[si])
+                si += 1
+            if not heap or (beat is not None and heap[0][0] >= beat):
+                bound, limit = yield sorted(out, key=lambda f: f.key)[:top]
+                continue
+            key, _, kind, ref, pos, p, found = heapq.heappop(heap)
+            if kind == 0:
+                open_raw(ref, pos)
+                continue
+            if kind == 1:
+                open_lb(ref, pos)
+                continue
+            if (ref, pos) in done:
+                continue
+            if found is not None:
+                out.append(found)
+                done.add((ref, pos))
+                continue
+            bt = batches[ref]
+            pc = p - bt.pr
+            comp = caps.complete(bt, pos, pc)
+            d = float(bt.ev.distance[pos])
+            if comp is not None:
+                f = _found(ctx, bt, pos, comp, transistor, prefer)
+                push(f.key, 3, ref, pos, p, f)
+            if (comp is None or (buying and comp.bought > 0)) and pc < max_pc:
+                push(bkey(int(bt.bought[pos]), p + 1, d), 2, ref, pos, p + 1)
+
+
+def exhaustive_search(ctx: Context, transistor: StockLine, rtables, ctables, lines, top: int,
+                      *, virtual_ids=(), pools: Pools | None = None, **_ignored) -> list[Found]:
+    """The naive enumeration (``--exhaustive``): every combination of one candidate per role, no
+    bounds, each resistor set completed with its best capacitors of any count; the ``top`` best."""
     if pools is None:
         pools = Pools.build(lines, exclude=virtual_ids)
     virtual = np.zeros(len(pools.qty), np.int64)
     for i in virtual_ids:
         virtual[i] = 1
-    buying = bool(len(virtual_ids))
     caps = CapSide(ctx, ctables, pools, virtual)
-    prefer = ctx.problem.prefer
-    if exhaustive:
-        found = []
-        for b in resistor_batches(ctx, rtables, pools, virtual, pruned=False):
-            for pos in range(len(b)):
-                comp = caps.complete(b, pos, None, bounds=False)
-                if comp is None:
-                    continue
-                found.append(_found(ctx, b, pos, comp, transistor, prefer))
-        found.sort(key=lambda f: f.key)
-        return found[:top]
-    def bkey(nb, p, d):
-        return _bound_key(prefer, max(nb, min_bought), p, d)
-
-    # Shapes (part counts per resistor role) are opened lazily in order of their part count: a
-    # shape with pR resistors cannot give a design with fewer than pR + (one per capacitor role)
-    # parts, so under fewest-parts it is opened only when the heap holds nothing better.  Inside a
-    # shape, the sets that pass the bounds wait unjudged in order of (parts to buy, D), in chunks
-    # whose bound is their first set's; judging and capacitor bounds happen when a chunk comes up.
-    shapes = sorted(_shapes(ctx, ctx.res_roles, rtables), key=lambda sh: sum(sh.values()))
-    min_caps = len(ctx.cap_roles)
-    raws: list[tuple] = []
-    batches: list[RBatch] = []
-    orders: list[np.ndarray] = []
-    heap = []
-    counter = itertools.count()
-    max_pc = max((sum(s.values()) for s in caps.shapes), default=0)
-
-    def push(key, kind, ref, pos, p, found=None):
-        heapq.heappush(heap, (key, next(counter), kind, ref, pos, p, found))
-
-    tabs = per_role(ctx.res_roles, rtables)
-
-    def open_shape(shape):
-        T = {r: tabs[r][c] for r, c in shape.items()}
-        pr = sum(shape.values())
-        tally = [0]
-        for idx in candidate_sets(ctx, T, tally):
-            stats["sets"] += len(idx[ctx.res_roles[0]])
-            stats["work"] += tally[0]
-            tally[0] = 0
-            if stats["sets"] > budget or stats["work"] > work_budget:
-                stats["truncated"] = True
-                return
-            if not len(idx[ctx.res_roles[0]]):
+    found = []
+    for b in resistor_batches(ctx, rtables, pools, virtual, pruned=False):
+        for pos in range(len(b)):
+            comp = caps.complete(b, pos, None, bounds=False)
+            if comp is None:
                 continue
-            v = {r: T[r].v[idx[r]] for r in ctx.res_roles}
-            tol = {r: T[r].tol[idx[r]] for r in ctx.res_roles}
-            dist = nominal_distance(ctx, v, tol)
-            nb = _bought([(T[r].members[idx[r]], T[r].counts[idx[r]]) for r in ctx.res_roles], virtual)
-            order = np.lexsort((dist, nb))
-            raws.append((T, {r: a[order] for r, a in idx.items()}, dist[order], nb[order], pr))
-            push_raw(len(raws) - 1, 0)
-
-    def push_raw(ri, start):
-        T, idx, dist, nb, pr = raws[ri]
-        if start < len(dist):
-            push(bkey(int(nb[start]), pr + min_caps, float(dist[start])), 0, ri, start, 0)
-
-    def open_raw(ri, start):
-        T, idx, dist, nb, pr = raws[ri]
-        part = {r: a[start:start + JUDGE_CHUNK] for r, a in idx.items()}
-        part = {r: a[caps.may_complete(T, part)] for r, a in part.items()}
-        bt = _judge_sets(ctx, T, part, pools, pr, virtual) if len(part[ctx.res_roles[0]]) else None
-        push_raw(ri, start + JUDGE_CHUNK)
-        if bt is None:
-            return
-        batches.append(bt)
-        orders.append(np.lexsort((bt.ev.distance, bt.bought)))
-        push_lb(len(batches) - 1, 0)
-
-    def push_lb(bi, start):
-        bt, order = batches[bi], orders[bi]
-        if start < len(order):
-            q = order[start]
-            push(bkey(int(bt.bought[q]), bt.pr + min_caps, float(bt.ev.distance[q])), 1, bi, start, 0)
-
-    def open_lb(bi, start):
-        bt, order = batches[bi], orders[bi]
-        pos = order[start:start + LB_CHUNK]
-        lb = caps.lower_bounds(bt, pos)
-        for q, l in zip(pos, lb):
-            if np.isfinite(l):
-                p = bt.pr + int(l)
-                push(bkey(int(bt.bought[q]), p, float(bt.ev.distance[q])), 2, bi, int(q), p)
-        push_lb(bi, start + LB_CHUNK)
-
-    out: list[Found] = []
-    done: set[tuple[int, int]] = set()
-    si = 0
-    while len(out) < top:
-        # open every shape whose best possible key could come before the heap's top
-        while si < len(shapes) and not stats["truncated"]:
-            p_min = sum(shapes[si].values()) + min_caps
-            if heap and prefer != "closest" and (0, p_min) > heap[0][0][:2]:
-                break
-            if bound is not None and bkey(0, p_min, 0.0) > bound:
-                break  # shapes come in order of part count (and D >= 0): none after can beat it
-            open_shape(shapes[si])
-            si += 1
-        if not heap or (bound is not None and heap[0][0] > bound):
-            break
-        key, _, kind, ref, pos, p, found = heapq.heappop(heap)
-        if kind == 0:
-            open_raw(ref, pos)
-            continue
-        if kind == 1:
-            open_lb(ref, pos)
-            continue
-        if (ref, pos) in done:
-            continue
-        if found is not None:
-            out.append(found)
-            done.add((ref, pos))
-            continue
-        bt = batches[ref]
-        pc = p - bt.pr
-        comp = caps.complete(bt, pos, pc)
-        d = float(bt.ev.distance[pos])
-        if comp is not None:
-            f = _found(ctx, bt, pos, comp, transistor, prefer)
-            push(f.key, 3, ref, pos, p, f)
-        if (comp is None or (buying and comp.bought > 0)) and pc < max_pc:
-            push(bkey(int(bt.bought[pos]), p + 1, d), 2, ref, pos, p + 1)
-    return out
+            found.append(_found(ctx, b, pos, comp, transistor, ctx.problem.prefer))
+    found.sort(key=lambda f: f.key)
+    return found[:top]
 
 
 def _bound_key(prefer: str, b: int, p: int, d: float) -> tuple:

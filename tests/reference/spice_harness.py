@@ -77,9 +77,7 @@ def simulate(stage, workdir: Path, temp_c: float = 25.0, sim_temp_c: float | Non
     control = _CONTROL if stage.topology == "common-emitter" else _CONTROL.replace(" v(c)", "")
     text = stage_netlist(stage, temp_c=temp_c, control=control)
     if sim_temp_c is not None:
-        old = f".options TNOM={temp_c:.10g} TEMP={temp_c:.10g}"
-        assert old in text
-        text = text.replace(old, f".options TNOM={temp_c:.10g} TEMP={sim_temp_c:.10g}")
+        text = _at_temperature(text, temp_c, sim_temp_c)
     deck.write_text(text)
     run = subprocess.run([exe, "-b", deck.name], cwd=workdir, capture_output=True, text=True,
                          timeout=60)
@@ -102,6 +100,13 @@ def simulate(stage, workdir: Path, temp_c: float = 25.0, sim_temp_c: float | Non
         ie=abs(values["@q1[ic]"]) + abs(values["@q1[ib]"]),
         gain=gain, rin=vbm[-1] / ivs[-1], f_low=_corner(freq, mag, mag[-1]), freq=freq, mag=mag,
     )
+
+
+def _at_temperature(deck: str, tuned_c: float, sim_temp_c: float) -> str:
+    """The deck run at ``sim_temp_c`` with IS left as tuned at ``tuned_c`` (TNOM)."""
+    old = f".options TNOM={tuned_c:.10g} TEMP={tuned_c:.10g}"
+    assert old in deck
+    return deck.replace(old, f".options TNOM={tuned_c:.10g} TEMP={sim_temp_c:.10g}")
 
 
 def _corner(freq: np.ndarray, mag: np.ndarray, mid: float) -> float:
@@ -137,14 +142,18 @@ def simulate_clipping(stage, workdir: Path, amplitude: float, freq: float = 20e3
     return float(v.max()), float(v.min())
 
 
-def simulate_rout(stage, workdir: Path) -> float:
+def simulate_rout(stage, workdir: Path, sim_temp_c: float | None = None) -> float:
     """Output impedance seen by the load: source EMF at zero, the load replaced by a 1 A AC
-    current source into the output node, |v(out)| read far above every corner."""
+    current source into the output node, |v(out)| read far above every corner.
+
+    ``sim_temp_c``: as for ``simulate`` (IS tuned at 25 °C, the simulator run at that temperature)."""
     from drawerfit.report.netlist import stage_netlist
 
     exe = require_ngspice()
     control = f"ac dec 10 {F_STOP / 10:g} {F_STOP:g}\nwrdata rout.txt vm(out)\n"
     deck = stage_netlist(stage, control=control)
+    if sim_temp_c is not None:
+        deck = _at_temperature(deck, 25.0, sim_temp_c)
     deck = re.sub(r"^(VS \S+ 0) DC 0 AC 1$", r"\1 DC 0 AC 0", deck, flags=re.M)
     # Keep a DC path at the output node (a floating node makes the operating point fail).
     deck = re.sub(r"^(RL|RLEAK) out 0 .*$", "IOUT 0 out DC 0 AC 1\nRLEAK out 0 1e12", deck, flags=re.M)

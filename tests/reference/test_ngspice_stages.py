@@ -54,6 +54,10 @@ STAGES = {
                           dict(R1=10e3, R2=47e3, RE=1e3, RC=4.7e3, C1=10e-6, C2=10e-6)),
     "ce-pnp-bypassed": (CE, "pnp", 15, 1e3, 22e3, (120, 360),
                         dict(R1=18e3, R2=82e3, RE=270, RE2=1.2e3, RC=5.6e3, C1=4.7e-6, C2=4.7e-6, CE=220e-6)),
+    # a bypass capacitor far too small to bypass: it only shelves the gain (its own corner near
+    # 100 kHz), and the stage corner lies far below it (the corner search once returned NaN here)
+    "ce-npn-shelving-bypass": (CE, "npn", 13.8, 4456.85, 7655.2, 200,
+                               dict(R1=470e3, R2=68e3, RE=910, RE2=82, RC=9.1e3, C1=1e-6, C2=2.2e-6, CE=15e-9)),
     "ce-pnp-heavy-no-rs": (CE, "pnp", 6, 0, 470, 200,
                            dict(R1=8.2e3, R2=33e3, RE=100, RE2=220, RC=1e3, C1=22e-6, C2=100e-6, CE=330e-6)),
 }

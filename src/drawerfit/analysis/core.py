@@ -480,8 +480,9 @@ def low_corner(dc: DCFigures, *, c1, c2, ce=0.0, rtol: float = 1e-7) -> Corners:
     t = ln f and found by the Illinois variant of regula falsi, all candidates at once, to a
     relative error of about ``rtol`` in f; |H|² is evaluated as a ratio of real polynomial
     factors (``_Magnitude``).  The bracket is [max/2, 2·sum] of the capacitors' own corners
-    (where the stage corner lies in practice), widened to [max/1e3, 1e3·sum] for any candidate
-    it does not bracket.  Only active candidates are computed.  Stages outside the active
+    (where the stage corner lies in practice), widened to [min(max, smallest)/1e3, 1e3·sum] for
+    any candidate it does not bracket (a small bypass capacitor only shelves the gain, and the
+    stage corner then lies far below its own).  Only active candidates are computed.  Stages outside the active
     region, or whose root is not in the wide bracket, get NaN.
     """
     c1 = np.asarray(c1, float)
@@ -506,8 +507,13 @@ def low_corner(dc: DCFigures, *, c1, c2, ce=0.0, rtol: float = 1e-7) -> Corners:
             missed = np.flatnonzero(np.isnan(roots))
             if missed.size:
                 sub = _Magnitude(dc, c1, c2, ce, take[missed], shape)
-                roots[missed] = _illinois(sub, log_target[missed], np.log(1e-3 * fmax[missed]),
-                                          np.log(1e3 * fsum[missed]), rtol)
+                # a capacitor that only shelves the gain (a small bypass capacitor: its own
+                # corner far above the stage's) leaves the root below max/1e3: start from the
+                # smallest own corner instead
+                own = np.stack([np.broadcast_to(x, shape).reshape(-1)[take[missed]] for x in (f_c1, f_c2, f_ce)])
+                fmin = np.min(np.where(own > 0, own, np.inf), axis=0)
+                lo = np.minimum(1e-3 * fmax[missed], 1e-3 * fmin)
+                roots[missed] = _illinois(sub, log_target[missed], np.log(lo), np.log(1e3 * fsum[missed]), rtol)
         f_low.reshape(-1)[take] = np.exp(roots)
     return Corners(f_low=f_low, f_c1=f_c1, f_c2=f_c2, f_ce=f_ce)
 

@@ -30,7 +30,7 @@ from typing import Mapping
 import numpy as np
 
 from ..parts import StockLine
-from .evaluate import (Context, cap_margin, corner_ok, evaluate_resistors, lowest_caps, nominal_distance,
+from .evaluate import (Context, bypasses, cap_margin, corner_ok, evaluate_resistors, lowest_caps, nominal_distance,
                        stacked_dc, vertex_dc)
 from .joins import candidate_sets
 from .pools import Pools
@@ -290,6 +290,12 @@ class CapSide:
             for c, t in self.tabs[role].items():
                 m = cap_margin(lo_v, hi_v, t.rating, t.polarized, margin)
                 ok = m >= 0
+                if role == "CE" and ok.any():
+                    # a bypass capacitor must bypass in the band: its own corner at or below f_low
+                    # at every vertex (a smaller one only shelves the gain; docs/method.md)
+                    sel = np.flatnonzero(ok)
+                    low = (t.v if self.nominal else t.lo)[sel]
+                    ok[sel] = bypasses(ctx, dcs, low)
                 if bounds and ok.any():
                     sel = np.flatnonzero(ok)
                     low = (t.v if self.nominal else t.lo)[sel]

@@ -259,3 +259,11 @@ def lowest_caps(ctx: Context, values: Mapping[str, np.ndarray], tols: Mapping[st
     if ctx.problem.guarantee == "nominal":
         return dict(values)
     return {r: values[r] * (1 - tols[r]) for r in values}
+
+
+def bypasses(ctx: Context, dc, ce: np.ndarray) -> np.ndarray:
+    """Whether bypass capacitors ``ce`` (F, their judged value) bypass RE2 within the band: the
+    capacitor's own corner, 1/(2π·CE·(RE2 ‖ (RE + re + (RS‖RB)/(β+1)))), at or below f_low at every
+    vertex (``dc`` from ``stacked_dc``, shape (vertices, 1))."""
+    _c1, _c2, f_ce = core._own_corners(dc, np.ones(1), np.ones(1), np.asarray(ce, float)[None, :])
+    return np.all(f_ce <= ctx.problem.targets.f_low * (1 + 1e-12), axis=0)

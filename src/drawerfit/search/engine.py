@@ -391,6 +391,15 @@ def design_key(prefer: str, b: int, p: int, d: float, m: float, s: float, csum: 
     return (b, p, d, -m, -s, csum, canon)
 
 
+def _stock_side(ctx: Context, ctables, lines, virtual_ids, pools: Pools | None):
+    """(pools, 0/1 flag per stock line standing for a purchase, the capacitor side) of one search."""
+    if pools is None:
+        pools = Pools.build(lines, exclude=virtual_ids)
+    virtual = np.zeros(len(pools.qty), np.int64)
+    virtual[list(virtual_ids)] = 1
+    return pools, virtual, CapSide(ctx, ctables, pools, virtual)
+
+
 def search_transistor(ctx: Context, transistor: StockLine, rtables, ctables, lines, top: int,
                       *, exhaustive: bool = False, bound: tuple | None = None, **kw) -> list[Found]:
     """The ``top`` best designs with this transistor (``TransistorSearch`` run to the end)."""
@@ -441,13 +450,8 @@ class TransistorSearch:
         stats.setdefault("sets", 0)
         stats.setdefault("work", 0)
         stats.setdefault("truncated", False)
-        if pools is None:
-            pools = Pools.build(lines, exclude=virtual_ids)
-        virtual = np.zeros(len(pools.qty), np.int64)
-        for i in virtual_ids:
-            virtual[i] = 1
+        pools, virtual, caps = _stock_side(ctx, ctables, lines, virtual_ids, pools)
         buying = bool(len(virtual_ids))
-        caps = CapSide(ctx, ctables, pools, virtual)
         prefer = ctx.problem.prefer
 
         def bkey(nb, p, d):
@@ -577,12 +581,7 @@ def exhaustive_search(ctx: Context, transistor: StockLine, rtables, ctables, lin
                       *, virtual_ids=(), pools: Pools | None = None, **_ignored) -> list[Found]:
     """The naive enumeration (``--exhaustive``): every combination of one candidate per role, no
     bounds, each resistor set completed with its best capacitors of any count; the ``top`` best."""
-    if pools is None:
-        pools = Pools.build(lines, exclude=virtual_ids)
-    virtual = np.zeros(len(pools.qty), np.int64)
-    for i in virtual_ids:
-        virtual[i] = 1
-    caps = CapSide(ctx, ctables, pools, virtual)
+    pools, virtual, caps = _stock_side(ctx, ctables, lines, virtual_ids, pools)
     found = []
     for b in resistor_batches(ctx, rtables, pools, virtual, pruned=False):
         for pos in range(len(b)):

@@ -39,8 +39,7 @@ def bought_line(kind: str, value: float, tol: float, rating: float, polarized: b
 
 
 def _subset(t: RoleTable, keep: np.ndarray) -> RoleTable:
-    return RoleTable(t.kind, t.count, t.table.take(keep), t.v[keep], t.tol[keep], t.lo[keep], t.hi[keep],
-                     t.rating[keep], t.polarized[keep], t.members[keep], t.counts[keep])
+    return t.take(keep)
 
 
 def brute_force_purchases(problem, drawer_lines, catalogue):

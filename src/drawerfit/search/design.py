@@ -14,7 +14,7 @@ from ..parts import Stock, StockLine
 from ..stages import Part, Stage, TransistorModel
 from .evaluate import Context
 from .pools import Pools
-from .engine import Found, TransistorSearch, search_transistor
+from .engine import Found, Search, exhaustive_search
 from .problem import DesignProblem
 from .tables import build_tables, with_default_ratings
 
@@ -131,11 +131,10 @@ def _choice(problem: DesignProblem, ctx: Context, f: Found) -> DesignChoice:
     for r in ctx.res_roles:
         t = b.tables[r]
         i = int(b.idx[r][pos])
-        eq = t.table.equivalent(i)
-        roles[r] = RoleChoice(r, eq, float(t.tol[i]), float(t.rating[i]))
+        roles[r] = RoleChoice(r, t.equivalent(i), float(t.tol[i]), float(t.rating[i]))
     for r in ctx.cap_roles:
         t, i = comp.caps[r]
-        eq = t.table.equivalent(i)
+        eq = t.equivalent(i)
         orient = None
         if eq.polarized:
             lo_v = float(b.ev.vnode[r][0][pos])
@@ -155,9 +154,9 @@ def _choice(problem: DesignProblem, ctx: Context, f: Found) -> DesignChoice:
 
 
 def _run(problem: DesignProblem, lines, top: int, exhaustive: bool, virtual_ids=(), min_bought: int = 0,
-         stats_out: dict | None = None, budget: int | None = None, tables=None):
-    """The search over ``lines``; ``tables`` = (resistor, capacitor) candidate tables replaces the
-    ones built from ``lines`` (resistor tables per count, or per role: ``engine.per_role``).
+         stats_out: dict | None = None, budget: int | None = None, tables=None, on_step=None):
+    """The search over ``lines``; ``tables`` = (resistor, capacitor) candidates replaces the ones
+    built from ``lines`` (shared by the roles, or per role: ``engine.per_role``).
 
     Lines standing for parts to buy are never pooled with the drawer (``pools``)."""
     from .shopping import BUY_FILE
@@ -173,51 +172,34 @@ def _run(problem: DesignProblem, lines, top: int, exhaustive: bool, virtual_ids=
     else:
         rtables, ctables = tables
     trs, why = suitable_transistors(problem, lines)
-    stats: dict = {}
-    work_budget = None
-    if budget is None and not exhaustive:
-        from .engine import SET_BUDGET, WORK_BUDGET
-
-        budget, work_budget = SET_BUDGET, WORK_BUDGET
     ctxs = {tr.index: Context(problem, transistor_model(tr)) for tr in trs}
-    common = dict(virtual_ids=virtual_ids, min_bought=min_bought, pools=pools)
-    best: dict[tuple, tuple] = {}  # (transistor, resistor set) -> (Found, Context): one design each
-
-    def keep(f, ctx):
-        at = f.key[-1][:2]
-        if at not in best or f.key < best[at][0].key:
-            best[at] = (f, ctx)
-
-    def bound():
-        keys = sorted(f.key for f, _ in best.values())
-        return keys[top - 1] if len(keys) >= top else None
-
-    stats.update(sets=0, work=0, truncated=False)
+    stats: dict = {"sets": 0, "work": 0, "truncated": False}
     if exhaustive:
+        found = []
         for tr in trs:
-            for f in search_transistor(ctxs[tr.index], tr, rtables, ctables, lines, top, exhaustive=True,
-                                       **common):
-                keep(f, ctxs[tr.index])
+            found += exhaustive_search(ctxs[tr.index], tr, rtables, ctables, lines, top, virtual_ids=virtual_ids,
+                                       pools=pools)
+        # at most one design per (transistor, resistor set), each with its best capacitors
+        found.sort(key=lambda f: f.key)
+        found = found[:top]
     else:
-        # One resumable search per transistor, sharing one budget (``stats``).  With several
-        # transistors and pairs allowed, each first goes as far as single parts take it: that gives
-        # a design to beat before any of them opens pairs, so that a transistor with no design
-        # cannot spend the whole budget on pairs before the next is looked at.  Then each goes on
-        # to the end with the top-th best key known as its bound; no work is done twice.
-        searches = {tr.index: TransistorSearch(ctxs[tr.index], tr, rtables, ctables, lines, top, stats=stats,
-                                               budget=budget, work_budget=work_budget, **common)
-                    for tr in trs}
-        if len(trs) > 1 and problem.max_parts > 1:
-            for tr in trs:
-                for f in searches[tr.index].run(None, limit=len(ctxs[tr.index].res_roles)):
-                    keep(f, ctxs[tr.index])
-        for tr in trs:
-            for f in searches[tr.index].run(bound()):
-                keep(f, ctxs[tr.index])
-    found = sorted(best.values(), key=lambda fc: fc[0].key)
+        work_budget = None
+        if budget is None:
+            from .engine import SET_BUDGET, WORK_BUDGET
+
+            budget, work_budget = SET_BUDGET, WORK_BUDGET
+        search = Search([(tr, ctxs[tr.index]) for tr in trs], rtables, ctables, lines, top, virtual_ids=virtual_ids,
+                        min_bought=min_bought, pools=pools, budget=budget, work_budget=work_budget, on_step=on_step)
+        found = search.run()
+        stats = search.stats
+        if any(caps.skipped for _, _, caps, _ in search.trs) and not found:
+            stats["truncated"] = True
+            stats["skipped_triples"] = True
     if stats_out is not None:
         stats_out.update(stats)
-    return [_with_picks(_choice(problem, ctx, f), pools, problem.units) for f, ctx in found[:top]], trs, why
+    by_index = {tr.index: tr for tr in trs}
+    return ([_with_picks(_choice(problem, ctxs[f.transistor.index], f), pools, problem.units) for f in found],
+            [by_index[i] for i in by_index], why)
 
 
 def _with_picks(choice: "DesignChoice", pools: Pools, units: int) -> "DesignChoice":
@@ -235,7 +217,7 @@ def _with_picks(choice: "DesignChoice", pools: Pools, units: int) -> "DesignChoi
 
 
 def design(problem: DesignProblem, stock: Stock, *, top: int = 1, exhaustive: bool = False,
-           suggest: bool = True, catalogue=None) -> DesignResult:
+           suggest: bool = True, catalogue=None, on_step=None) -> DesignResult:
     """The ``top`` best designs from ``stock`` for ``problem`` (exhaustive: naive enumeration).
 
     When there is none: the nearest design and (``suggest``) the fewest parts to buy from
@@ -243,7 +225,7 @@ def design(problem: DesignProblem, stock: Stock, *, top: int = 1, exhaustive: bo
     """
     lines, notes = with_default_ratings(stock.lines)
     stats: dict = {}
-    designs, trs, why = _run(problem, lines, top, exhaustive, stats_out=stats)
+    designs, trs, why = _run(problem, lines, top, exhaustive, stats_out=stats, on_step=on_step)
     result = DesignResult(problem, "optimal" if designs else "infeasible", designs, notes,
                           transistors_tried=[t.label for t in trs])
     result.stats = stats

@@ -16,6 +16,7 @@ from typing import Mapping
 import numpy as np
 
 from ..analysis import core
+from ..constants import NOMINAL_TEMP_C, thermal_voltage
 from ..stages import TransistorModel
 from .problem import DesignProblem
 
@@ -94,6 +95,21 @@ def _pick(vertex: Vertex, role: str, v, tol):
     return v * (1 - tol) if b == 0 else v * (1 + tol)
 
 
+STACK = 1 << 16  # (vertex, set) pairs evaluated in one call
+
+
+def _vertices_dc(ctx: Context, verts, v: Mapping[str, np.ndarray], tol: Mapping[str, np.ndarray]):
+    """``core.evaluate_dc`` at several vertices in one call: arrays of shape (vertices, sets)."""
+    vals = {}
+    for r in ctx.res_roles:
+        bits = np.array([vt.res[r] for vt in verts], float)[:, None]
+        sign = np.where(bits < 0, 0.0, np.where(bits == 0, -1.0, 1.0))
+        vals[r] = np.asarray(v[r], float)[None, :] * (1.0 + sign * np.asarray(tol[r], float)[None, :])
+    hfe = np.array([vt.hfe for vt in verts], float)[:, None]
+    temp = np.array([vt.temp for vt in verts], float)[:, None]
+    return core.evaluate_dc(**ctx.dc_args(vals), hfe=hfe, temp_c=temp)
+
+
 def vertex_dc(ctx: Context, vertex: Vertex, v: Mapping[str, np.ndarray], tol: Mapping[str, np.ndarray]):
     """``core.evaluate_dc`` at one vertex for arrays of resistor values and tolerances."""
     vals = {r: _pick(vertex, r, v[r], tol[r]) for r in ctx.res_roles}
@@ -165,26 +181,32 @@ def evaluate_resistors(ctx: Context, v: Mapping[str, np.ndarray], tol: Mapping[s
     vlo = {r: np.full(n, np.inf) for r in ctx.cap_roles}
     vhi = {r: np.full(n, -np.inf) for r in ctx.cap_roles}
     active = np.ones(n, bool)
-    for vert in ctx.vertices:
-        if not len(alive):
-            break
+    verts = list(ctx.vertices)
+    k = 0
+    while k < len(verts) and len(alive):
+        # the two IE extremes one at a time (most sets that fail, fail there), then the rest in
+        # stacks of vertices (one call for many vertices: the same figures, fewer calls)
+        size = 1 if k < 2 else max(1, min(len(verts) - k, STACK // max(1, len(alive))))
+        group = verts[k:k + size]
+        k += size
         sub = {r: v[r][alive] for r in ctx.res_roles}
         subt = {r: tol[r][alive] for r in ctx.res_roles}
-        dc = vertex_dc(ctx, vert, sub, subt)
-        act = dc.state == core.ACTIVE
+        dc = _vertices_dc(ctx, group, sub, subt)
+        act = np.all(dc.state == core.ACTIVE, axis=0)
         active[alive] &= act
         tm = _target_margins(ctx, dc)
         rm = _rating_margins(ctx, dc, {r: ratings[r][alive] for r in ctx.res_roles})
+        state_ok = dc.state == core.ACTIVE
         for d, src in ((tmin, tm), (rmin, rm)):
             for name, m in src.items():
-                m = np.where(act, m, -np.inf)
+                m = np.min(np.where(state_ok, m, -np.inf), axis=0)
                 if name not in d:
                     d[name] = np.full(n, np.inf)
                 d[name][alive] = np.minimum(d[name][alive], m)
         for role in ctx.cap_roles:
             x = getattr(dc, CAP_NODE[role])
-            vlo[role][alive] = np.minimum(vlo[role][alive], x)
-            vhi[role][alive] = np.maximum(vhi[role][alive], x)
+            vlo[role][alive] = np.minimum(vlo[role][alive], np.min(x, axis=0))
+            vhi[role][alive] = np.maximum(vhi[role][alive], np.max(x, axis=0))
         if drop:
             ok = act.copy()
             for name in tm:
@@ -208,16 +230,50 @@ def evaluate_resistors(ctx: Context, v: Mapping[str, np.ndarray], tol: Mapping[s
         margin_r=margin_r, nominal=nominal)
 
 
-def nominal_distance(ctx: Context, v, tol, figures: bool = False):
-    """D: √Σ((x − centre)/half-width)² over the two-sided targets, at the nominal point."""
+def nominal_figures(ctx: Context, v: Mapping[str, np.ndarray]) -> dict[str, np.ndarray]:
+    """IE and |gain| at the nominal point (nominal values, nominal hFE and temperature), from the
+    active-region formulas whatever the state: IE = (VTH − VBE)⁺/(RET + RTH/(β+1)) and, for the
+    common emitter, |gain| = α·(RC‖RL)/(re + RE)·rin/(RS + rin).  A set active at the nominal point
+    (every design: it is active over the whole box) gets the figures ``evaluate_dc`` gives; using
+    the formulas everywhere lets the search bound the distance D exactly (``joins``)."""
+    p, tr = ctx.problem, ctx.tr
+    t = ctx.nominal.temp
+    ra, rb = np.asarray(v[ctx.ra], float), np.asarray(v[ctx.rb], float)
+    vth = p.supply * rb / (ra + rb)
+    rth = ra * rb / (ra + rb)
+    beta = tr.hfe
+    vbe = tr.vbe + tr.vbe_tempco * (t - NOMINAL_TEMP_C)
+    ret = np.asarray(v["RE"], float) + (np.asarray(v["RE2"], float) if "RE2" in v else 0.0)
+    ie = np.maximum(vth - vbe, 0.0) / (ret + rth / (beta + 1.0))
+    out = {"ie": ie}
+    if p.topology == "common-emitter":
+        re_ac = np.asarray(v["RE"], float) + (0.0 if p.bypass or "RE2" not in v else np.asarray(v["RE2"], float))
+        with np.errstate(divide="ignore", invalid="ignore"):
+            re_s = np.where(ie > 0, thermal_voltage(t) / np.where(ie > 0, ie, 1.0), np.inf)
+            zb = (beta + 1.0) * (re_s + re_ac)
+            rin = rth * zb / (rth + zb)
+            rin = np.where(np.isinf(zb), rth, rin)
+            load = np.asarray(v["RC"], float)
+            if np.isfinite(p.rl):
+                load = load * p.rl / (load + p.rl)
+            g = beta / (beta + 1.0) * load / (re_s + re_ac) * rin / (p.source_resistance + rin)
+        out["gain"] = np.where(ie > 0, g, 0.0)
+    return out
+
+
+def nominal_distance(ctx: Context, v, tol=None, figures: bool = False):
+    """D: √Σ((x − centre)/half-width)² over the two-sided targets, at the nominal point
+    (``nominal_figures``); ``tol`` is not used (the nominal point has none)."""
     n = len(next(iter(v.values())))
-    dcn = vertex_dc(ctx, ctx.nominal, v, tol)
-    nominal = {"ie": dcn.ie, "gain": np.abs(dcn.gain)}
+    nominal = nominal_figures(ctx, v)
     dist2 = np.zeros(n)
     for name, (centre, half) in ctx.problem.targets.centres().items():
         dist2 = dist2 + ((nominal[name] - centre) / half) ** 2
     distance = np.sqrt(dist2)
-    return (distance, nominal) if figures else distance
+    if figures:
+        nominal.setdefault("gain", np.zeros(n))
+        return distance, nominal
+    return distance
 
 
 def cap_margin(lo_v, hi_v, rating, polarized, margin_fraction):
@@ -235,15 +291,7 @@ def cap_margin(lo_v, hi_v, rating, polarized, margin_fraction):
 
 def stacked_dc(ctx: Context, v: Mapping[str, np.ndarray], tol: Mapping[str, np.ndarray]):
     """``core.evaluate_dc`` at every vertex in one call: arrays of shape (vertices, sets)."""
-    verts = ctx.vertices
-    vals = {}
-    for r in ctx.res_roles:
-        bits = np.array([vt.res[r] for vt in verts], float)[:, None]
-        sign = np.where(bits < 0, 0.0, np.where(bits == 0, -1.0, 1.0))
-        vals[r] = np.asarray(v[r], float)[None, :] * (1.0 + sign * np.asarray(tol[r], float)[None, :])
-    hfe = np.array([vt.hfe for vt in verts], float)[:, None]
-    temp = np.array([vt.temp for vt in verts], float)[:, None]
-    return core.evaluate_dc(**ctx.dc_args(vals), hfe=hfe, temp_c=temp)
+    return _vertices_dc(ctx, ctx.vertices, v, tol)
 
 
 def corner_ok(ctx: Context, dc, caps: Mapping[str, np.ndarray]) -> np.ndarray:

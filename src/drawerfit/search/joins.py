@@ -48,6 +48,21 @@ on the emitter-rail's far side (R1 for NPN, R2 for PNP), RB the other; VTH = VCC
 Interval bounds are found by binary search on the sorted nominal values (low end ≤ nominal ≤ high
 end), then the exact end conditions are applied, with a relative slack of 1e-9 so that rounding
 never rejects a set the full judgement would accept.
+
+Nominal band (``Band``): the search asks for the sets whose distance D to the target centres is
+below a level d (``evaluate.nominal_figures``: IE = (VTH − VBE)⁺/(RET + RTH/(β+1)) and, for the
+common emitter, |gain| = g₁·(RC‖RL) at the nominal point).  D < d needs IE in (c − d·h, c + d·h)
+(c, h the window's centre and half-width), so for each divider the nominal RET lies in an interval
+(N1, N2) (IE falls with RET); with a gain window, |gain| in its band needs RC‖RL in (G1/g₁, G2/g₁)
+for each (divider, RE, RE2).  These are consequences of D < d, exact but for the slack.  Together
+with the worst-case window (L, U) they also bound the divider: some nominal RET must lie in
+[max(N1, L/(1 − t)), min(N2, U/(1 + t))], t the smallest tolerance of the RET candidates (the low
+end of a sum is at most its nominal times 1 − t).
+
+RE + RE2 (``SumIndex``): when the two tables are small enough (``SUM_INDEX_MAX`` pairs), the
+sums of their nominal values are sorted once, and each divider finds the (RE, RE2) with a sum in
+its window by binary search, so the work is in proportion to what is found, not to the number of RE
+candidates per divider; the exact end conditions above are then applied to each.
 """
 
 from __future__ import annotations
@@ -57,13 +72,12 @@ from typing import Iterator, Mapping
 import numpy as np
 
 from ..analysis import core
-from .evaluate import Context, vertex_dc
+from .evaluate import Context, nominal_figures, vertex_dc
+from .windows import CHUNK, SLACK, Band, SumIndex, groups as _groups, vth as _vth
 from .tables import RoleTable
 
-__all__ = ["candidate_sets"]
+__all__ = ["candidate_sets", "Band"]
 
-SLACK = 1e-9
-CHUNK = 400_000  # sets handled at once: bounds memory
 
 
 def _ranges(owner: np.ndarray, start: np.ndarray, stop: np.ndarray, tally: list | None = None
@@ -116,9 +130,8 @@ class _Box:
     def tmax(self, t: RoleTable) -> float:
         return 0.0 if self.nominal or not len(t) else float(t.tol.max())
 
-
-def _vth(vcc, ra, rb):
-    return vcc * rb / (ra + rb), ra * rb / (ra + rb)
+    def tmin(self, t: RoleTable) -> float:
+        return 0.0 if self.nominal or not len(t) else float(t.tol.min())
 
 
 def _par_floor(q, rl: float):
@@ -237,7 +250,8 @@ class _Emitter:
         return _par_floor(q, rl) if self.follower else np.maximum(q, 0.0)
 
 
-def _dividers(ctx: Context, box: _Box, em: _Emitter, A: RoleTable, B: RoleTable, a_idx: np.ndarray, tally=None):
+def _dividers(ctx: Context, box: _Box, em: _Emitter, A: RoleTable, B: RoleTable, a_idx: np.ndarray, tally=None,
+              band: Band | None = None, ret_range=(0.0, np.inf), tmin: float = 0.0):
     p, tr = ctx.problem, ctx.tr
     vcc = p.supply
     s = p.targets.swing or 0.0
@@ -267,6 +281,18 @@ def _dividers(ctx: Context, box: _Box, em: _Emitter, A: RoleTable, B: RoleTable,
     if em.rin is not None:
         _, rth_ll = _vth(vcc, lo_a, lo_b)
         ok &= rth_ll * (1 + SLACK) >= em.rth_min
+    ia, ib = ia[ok], ib[ok]
+    if not len(ia):
+        return ia, ib
+    # some nominal RET must fit the worst-case window (L, U), the table's range and, with a band,
+    # the band's window (N1, N2)
+    L, U = _emitter_window(ctx, box, A, B, ia, ib)
+    lo_r = np.maximum(L / (1.0 - tmin), ret_range[0]) * (1 - SLACK) - SLACK
+    hi_r = np.minimum(U / (1.0 + tmin), ret_range[1]) * (1 + SLACK)
+    if band is not None:
+        n1, n2 = band.ret(vcc, A.v[ia], B.v[ib])
+        lo_r, hi_r = np.maximum(lo_r, n1), np.minimum(hi_r, n2)
+    ok = lo_r <= hi_r
     return ia[ok], ib[ok]
 
 
@@ -281,25 +307,42 @@ def _emitter_window(ctx: Context, box: _Box, A, B, ia, ib):
     return L, U
 
 
-def _join_sorted(T: RoleTable, box: _Box, owner_lo, owner_hi, owner_lo_max=None, tally=None):
+def _join_sorted(T: RoleTable, box: _Box, owner_lo, owner_hi, owner_lo_max=None, tally=None, nominal=None):
     """Indices (owner position, k) with T.lo[k] >= owner_lo and T.hi[k] <= owner_hi (and, if
-    given, T.lo[k] <= owner_lo_max)."""
+    given, T.lo[k] <= owner_lo_max, and ``nominal`` = (nlo, nhi) <= T.v[k] <= nhi)."""
     top = owner_hi
+    bottom = owner_lo
     if owner_lo_max is not None:
         with np.errstate(invalid="ignore"):
             top = np.minimum(owner_hi, owner_lo_max / (1.0 - box.tmax(T)))
-    start, stop = _span(T.v, owner_lo, top)
+    if nominal is not None:
+        bottom = np.maximum(bottom, nominal[0])
+        top = np.minimum(top, nominal[1])
+    start, stop = _span(T.v, bottom, top)
     pos, k = _ranges(np.arange(len(owner_lo)), start, stop, tally)
     if not len(pos):
         return pos, k
     ok = (box.lo(T)[k] * (1 + SLACK) >= owner_lo[pos]) & (box.hi(T)[k] * (1 - SLACK) <= owner_hi[pos])
     if owner_lo_max is not None:
         ok &= box.lo(T)[k] * (1 - SLACK) <= owner_lo_max[pos]
+    if nominal is not None:
+        ok &= (T.v[k] >= nominal[0][pos]) & (T.v[k] <= nominal[1][pos])
     return pos[ok], k[ok]
 
 
-def _collector(ctx: Context, box: _Box, T: Mapping[str, RoleTable], idx: dict[str, np.ndarray]):
-    """Join RC to (divider, emitter) sets by the gain, rout, swing and saturation bounds."""
+def _par_ceiling(y, rl: float):
+    """The largest R with R‖rl <= y: inf where y >= rl (or no load)."""
+    y = np.asarray(y, float)
+    if not np.isfinite(rl):
+        return y
+    with np.errstate(divide="ignore", invalid="ignore"):
+        return np.where(y < rl, y * rl / (rl - y), np.inf)
+
+
+def _collector(ctx: Context, box: _Box, T: Mapping[str, RoleTable], idx: dict[str, np.ndarray],
+               band: Band | None = None):
+    """Join RC to (divider, emitter) sets by the gain, rout, swing and saturation bounds (and the
+    band's gain window)."""
     p = ctx.problem
     RC = T["RC"]
     rl = p.rl
@@ -327,15 +370,10 @@ def _collector(ctx: Context, box: _Box, T: Mapping[str, RoleTable], idx: dict[st
             need_par = np.maximum(need_par, np.where(g_lo > 0, t.gain_min / g_lo, np.inf))
         if s > 0:
             need_par = np.maximum(need_par, np.where(d_lo.ic > 0, s / d_lo.ic, np.inf))
-        if np.isfinite(rl):
-            need_lo = np.where(need_par < rl, need_par * rl / (rl - need_par), np.inf)
-        else:
-            need_lo = need_par
+        need_lo = _par_floor(need_par, rl)
         max_hi = np.full(n, np.inf)
         if t.gain_max is not None:
-            y = t.gain_max / g_hi
-            cap = np.where(np.isfinite(rl), np.where(y < rl, y * rl / (rl - y), np.inf), y)
-            max_hi = np.minimum(max_hi, cap)
+            max_hi = np.minimum(max_hi, _par_ceiling(t.gain_max / g_hi, rl))
         if t.rout_max is not None:
             max_hi = np.minimum(max_hi, t.rout_max)
         room = np.where(d_hi.ic > 0, (p.supply - d_hi.ve - ctx.tr.vce_sat - s) / d_hi.ic, np.inf)
@@ -344,18 +382,102 @@ def _collector(ctx: Context, box: _Box, T: Mapping[str, RoleTable], idx: dict[st
         max_hi = np.minimum(max_hi, room)
         active = (d_hi.state == core.ACTIVE) & (d_lo.state == core.ACTIVE)
         need_lo = np.where(active, need_lo, np.inf)
-    pos, k = _join_sorted(RC, box, need_lo, max_hi)
+        nominal = None
+        if band is not None and band.g is not None:
+            g1 = nominal_figures(ctx, vals)["gain"] * per_ohm
+            g_lo_n, g_hi_n = band.g
+            nlo = np.where(g1 > 0, _par_floor(np.maximum(g_lo_n, 0.0) / g1 * (1 - SLACK), rl),
+                           np.where(g_lo_n < 0, 0.0, np.inf))
+            nhi = np.where(g1 > 0, _par_ceiling(g_hi_n / g1 * (1 + SLACK), rl), np.inf)
+            nominal = (nlo * (1 - SLACK), nhi * (1 + SLACK))
+    pos, k = _join_sorted(RC, box, need_lo, max_hi, nominal=nominal)
     return {r: a[pos] for r, a in idx.items()}, k
 
 
-def candidate_sets(ctx: Context, T: Mapping[str, RoleTable], tally: list | None = None
-                   ) -> Iterator[dict[str, np.ndarray]]:
-    """Chunks of resistor sets {role: index into T[role]} that pass every bound above.
+def _emitter_pairs(ctx, box, em, T, ia, ib, L, U, re_lo, re_hi, re_ok, kcap, band, tally, cache):
+    """Chunks of (divider position, RE, RE2) that pass the emitter bounds; with the sum index
+    when it fits, else RE by RE."""
+    p = ctx.problem
+    RE, RE2 = T["RE"], T["RE2"]
+    nlo = nhi = None
+    if band is not None:
+        nlo, nhi = band.ret(p.supply, T[ctx.ra].v[ia], T[ctx.rb].v[ib])
+    if SumIndex.fits(RE, RE2):
+        key = (id(RE), id(RE2))
+        if cache is None or key not in cache:
+            sums = SumIndex(RE, RE2)
+            if cache is not None:
+                cache[key] = sums
+        else:
+            sums = cache[key]
+        t = min(box.tmin(RE), box.tmin(RE2))
+        w_lo = L / (1.0 - t)
+        w_hi = U / (1.0 + t)
+        if band is not None:
+            w_lo, w_hi = np.maximum(w_lo, nlo), np.minimum(w_hi, nhi)
+        start, stop = _span(sums.s, w_lo, w_hi)
+        stop = np.maximum(stop, start)
+        for g in _groups(stop - start, CHUNK):
+            own = np.arange(g.start, g.stop)
+            d, q = _ranges(own, start[g], stop[g], tally)
+            kre, kre2 = sums.i[q].astype(np.int64), sums.j[q].astype(np.int64)
+            ok = re_ok[kre] & (RE.v[kre] <= kcap)
+            yield _emitter_exact(box, em, RE, RE2, d[ok], kre[ok], kre2[ok], L, U, re_lo, re_hi, nlo, nhi)
+        return
+    # RE by RE: (divider, RE) with RE's high end below U, then RE2 from the rest of the window
+    kmin = np.searchsorted(RE.v, re_lo * (1 - SLACK), side="left")
+    top = np.minimum(U, re_hi) * (1 + SLACK)
+    if band is not None:
+        top = np.minimum(top, nhi)
+    kmax = np.minimum(np.searchsorted(RE.v, top, side="right"), np.searchsorted(RE.v, kcap, side="right"))
+    kmax = np.maximum(kmax, kmin)
+    for g in _groups(kmax - kmin, max(1, CHUNK // 16)):
+        d, kre = _ranges(np.arange(g.start, g.stop), kmin[g], kmax[g], tally)
+        ok = re_ok[kre]
+        d, kre = d[ok], kre[ok]
+        lo_max = em.ret_lo_max(box.hi(RE)[kre]) - box.lo(RE)[kre]
+        nominal = None if band is None else (nlo[d] - RE.v[kre], nhi[d] - RE.v[kre])
+        pos, kre2 = _join_sorted(RE2, box, L[d] - box.lo(RE)[kre], U[d] - box.hi(RE)[kre], lo_max, tally,
+                                 nominal=nominal)
+        yield _emitter_exact(box, em, RE, RE2, d[pos], kre[pos], kre2, L, U, re_lo, re_hi, nlo, nhi)
+
+
+def _emitter_exact(box, em, RE, RE2, d, kre, kre2, L, U, re_lo, re_hi, nlo, nhi):
+    """The exact end conditions of the emitter join, applied to (divider, RE, RE2) triples."""
+    lo1, hi1, lo2, hi2 = box.lo(RE)[kre], box.hi(RE)[kre], box.lo(RE2)[kre2], box.hi(RE2)[kre2]
+    ok = ((hi1 * (1 - SLACK) < U[d]) & (hi1 * (1 - SLACK) <= re_hi[d]) & (lo1 * (1 + SLACK) >= re_lo[d])
+          & (lo2 * (1 + SLACK) >= L[d] - lo1) & (hi2 * (1 - SLACK) <= U[d] - hi1))
+    with np.errstate(invalid="ignore"):
+        ok &= lo2 * (1 - SLACK) <= em.ret_lo_max(hi1) - lo1
+    if nlo is not None:
+        s = RE.v[kre] + RE2.v[kre2]
+        ok &= (s >= nlo[d]) & (s <= nhi[d])
+    return d[ok], kre[ok], kre2[ok]
+
+
+def _emitters(ctx, box, RE, A, B, ia, ib, L, U, re_lo, re_hi, re_ok, re_top, band, tally):
+    """Chunks of (divider position, {role: index}) for a stage whose emitter is RE alone."""
+    vcc = ctx.problem.supply
+    for g in _groups(np.ones(len(ia), np.int64), max(1, CHUNK // 32)):
+        ia_g, ib_g = ia[g], ib[g]
+        nominal = None if band is None else band.ret(vcc, A.v[ia_g], B.v[ib_g])
+        pos, kre = _join_sorted(RE, box, np.maximum(L[g], re_lo[g]), np.minimum(U[g], re_hi[g]), tally=tally,
+                                nominal=nominal)
+        keep = re_ok[kre] & (kre < re_top)
+        pos, kre = pos[keep], kre[keep]
+        yield pos, {ctx.ra: ia_g[pos], ctx.rb: ib_g[pos], "RE": kre}
+
+
+def candidate_sets(ctx: Context, T: Mapping[str, RoleTable], tally: list | None = None, band: Band | None = None,
+                   cache: dict | None = None) -> Iterator[dict[str, np.ndarray]]:
+    """Chunks of resistor sets {role: index into T[role]} that pass every bound above (and, with
+    ``band``, the nominal windows of D < band.d).
 
     With ``tally`` (a one-element list), the work done is added to ``tally[0]`` (partial sets
     formed on the way: dividers, divider–emitter pairs, and ten per set whose collector is
     bounded, the costliest step) and an empty chunk is yielded after every block of dividers,
     so that a caller can stop a search whose bounds reject nearly everything only late.
+    ``cache`` (a dict the caller keeps) holds the sorted (RE, RE2) sums between calls.
     """
     empty = {r: np.zeros(0, np.int64) for r in ctx.res_roles}
     p = ctx.problem
@@ -371,9 +493,21 @@ def candidate_sets(ctx: Context, T: Mapping[str, RoleTable], tally: list | None 
     if not re_ok.any():
         return  # no RE of this table meets the bounds on RE alone, whatever the divider
     re_top = int(np.flatnonzero(re_ok)[-1]) + 1
+    has2 = "RE2" in T
+    ret_range = (float(RE.v[re_ok].min()) + (float(T["RE2"].v.min()) if has2 else 0.0),
+                 float(RE.v[re_ok].max()) + (float(T["RE2"].v.max()) if has2 else 0.0))
+    tmin = min(box.tmin(RE), box.tmin(T["RE2"])) if has2 else box.tmin(RE)
+    kcap = np.inf
+    if has2 and p.targets.gain_min is not None:
+        rc_cap = float(box.hi(T["RC"]).max())
+        if np.isfinite(p.rl):
+            rc_cap = min(rc_cap, p.rl)
+        if p.targets.rout_max is not None:
+            rc_cap = min(rc_cap, p.targets.rout_max)
+        kcap = rc_cap / p.targets.gain_min / (1 - box.tmax(RE)) * (1 + SLACK)
     step = max(1, CHUNK // max(1, len(B)))
     for a0 in range(0, len(A), step):
-        ia, ib = _dividers(ctx, box, em, A, B, np.arange(a0, min(len(A), a0 + step)), tally)
+        ia, ib = _dividers(ctx, box, em, A, B, np.arange(a0, min(len(A), a0 + step)), tally, band, ret_range, tmin)
         if not len(ia):
             if tally is not None:
                 yield empty
@@ -383,44 +517,25 @@ def candidate_sets(ctx: Context, T: Mapping[str, RoleTable], tally: list | None 
         _, rth_ll = _vth(p.supply, box.lo(A)[ia], box.lo(B)[ib])
         re_lo = np.maximum(em.re_lo_min, em.re_lo_rin(rth_ll, p.rl))
         re_hi = np.minimum(em.re_hi_max, em.re_hi_cap(L))
-        if "RE2" in T:
-            # (divider, RE) with RE's high end below U, then RE2 from the rest of the window
-            kmin = np.searchsorted(RE.v, re_lo * (1 - SLACK), side="left")
-            kmax = np.minimum(np.searchsorted(RE.v, np.minimum(U, re_hi) * (1 + SLACK), side="right"), re_top)
-            if p.targets.gain_min is not None:
-                rc_cap = float(box.hi(T["RC"]).max())
-                if np.isfinite(p.rl):
-                    rc_cap = min(rc_cap, p.rl)
-                if p.targets.rout_max is not None:
-                    rc_cap = min(rc_cap, p.targets.rout_max)
-                kg = np.searchsorted(RE.v, rc_cap / p.targets.gain_min / (1 - box.tmax(RE)) * (1 + SLACK),
-                                     side="right")
-                kmax = np.minimum(kmax, kg)
-            d, kre = _ranges(np.arange(len(ia)), kmin, kmax, tally)
-            ok = ((box.hi(RE)[kre] * (1 - SLACK) < U[d]) & (box.hi(RE)[kre] * (1 - SLACK) <= re_hi[d])
-                  & (box.lo(RE)[kre] * (1 + SLACK) >= re_lo[d]) & re_ok[kre])
-            d, kre = d[ok], kre[ok]
-            lo_max = em.ret_lo_max(box.hi(RE)[kre]) - box.lo(RE)[kre]
-            pos, kre2 = _join_sorted(T["RE2"], box, L[d] - box.lo(RE)[kre], U[d] - box.hi(RE)[kre], lo_max,
-                                     tally)
-            idx = {ctx.ra: ia[d[pos]], ctx.rb: ib[d[pos]], "RE": kre[pos], "RE2": kre2}
+        if has2:
+            pieces = ((d, {ctx.ra: ia[d], ctx.rb: ib[d], "RE": kre, "RE2": kre2})
+                      for d, kre, kre2 in _emitter_pairs(ctx, box, em, T, ia, ib, L, U, re_lo, re_hi, re_ok, kcap,
+                                                         band, tally, cache))
         else:
-            pos, kre = _join_sorted(RE, box, np.maximum(L, re_lo), np.minimum(U, re_hi), tally=tally)
-            keep = re_ok[kre]
-            pos, kre = pos[keep], kre[keep]
-            idx = {ctx.ra: ia[pos], ctx.rb: ib[pos], "RE": kre}
-        if "RC" in T:
-            for c0 in range(0, len(idx["RE"]), CHUNK):
-                part = {r: a[c0:c0 + CHUNK] for r, a in idx.items()}
-                if tally is not None:
-                    tally[0] += 10 * len(part["RE"])
-                part, krc = _collector(ctx, box, T, part)
-                part["RC"] = krc
-                if len(krc):
-                    yield part
-                elif tally is not None:
+            pieces = _emitters(ctx, box, RE, A, B, ia, ib, L, U, re_lo, re_hi, re_ok, re_top, band, tally)
+        for _, idx in pieces:
+            if "RC" in T:
+                for c0 in range(0, len(idx["RE"]), CHUNK):
+                    part = {r: a[c0:c0 + CHUNK] for r, a in idx.items()}
+                    if tally is not None:
+                        tally[0] += 10 * len(part["RE"])
+                    part, krc = _collector(ctx, box, T, part, band)
+                    part["RC"] = krc
+                    if len(krc):
+                        yield part
+                    elif tally is not None:
+                        yield empty
+                if tally is not None and not len(idx["RE"]):
                     yield empty
-            if tally is not None and not len(idx["RE"]):
-                yield empty
-        elif len(idx["RE"]) or tally is not None:
-            yield idx
+            elif len(idx["RE"]) or tally is not None:
+                yield idx

@@ -112,27 +112,18 @@ class Pools:
         n, k = M.shape
         used = M >= 0
         Mi = np.where(used, M, 0)
-        ok = np.ones(n, bool)
-        own_ok = np.ones(n, bool)
-        chain = np.ones(n, bool)
-        left = np.full(n, np.inf)
-        for j in range(k):
-            if not used[:, j].any():
-                continue
-            tot = np.zeros(n, np.int64)
-            own = np.zeros(n, np.int64)
-            for i in range(k):
-                both = used[:, i] & used[:, j]
-                tot += np.where(both & self.cover[Mi[:, i], Mi[:, j]], C[:, i], 0)
-                own += np.where(both & (Mi[:, i] == Mi[:, j]), C[:, i], 0)
-                if i < j:
-                    same_cls = both & (self.cls[Mi[:, i]] == self.cls[Mi[:, j]]) & (self.cls[Mi[:, i]] >= 0)
-                    comparable = self.cover[Mi[:, i], Mi[:, j]] | self.cover[Mi[:, j], Mi[:, i]]
-                    chain &= ~same_cls | comparable
-            rest = self.upq[Mi[:, j]] - tot
-            ok &= ~used[:, j] | (rest >= 0)
-            own_ok &= ~used[:, j] | (own <= self.qty[Mi[:, j]])
-            left = np.where(used[:, j], np.minimum(left, rest), left)
+        both = used[:, :, None] & used[:, None, :]  # (n, i, j)
+        cov = self.cover[Mi[:, :, None], Mi[:, None, :]] & both  # i covers j
+        tot = np.einsum("nij,ni->nj", cov.astype(np.int64), C)
+        own = np.einsum("nij,ni->nj", ((Mi[:, :, None] == Mi[:, None, :]) & both).astype(np.int64), C)
+        rest = self.upq[Mi] - tot
+        ok = np.all(~used | (rest >= 0), axis=1)
+        own_ok = np.all(~used | (own <= self.qty[Mi]), axis=1)
+        cls = self.cls[Mi]
+        same_cls = both & (cls[:, :, None] == cls[:, None, :]) & (cls[:, :, None] >= 0)
+        comparable = cov | np.swapaxes(cov, 1, 2)
+        chain = ~np.any(same_cls & ~comparable, axis=(1, 2))
+        left = np.min(np.where(used, rest, np.inf), axis=1) if k else np.full(n, np.inf)
         return ok, ok & (chain | own_ok), left
 
     # --- one design -----------------------------------------------------------------------------

@@ -419,10 +419,11 @@ def _our_xlsx_bom(out: Path) -> bool:
     return tuple(first[:2]) == ("Designator", "Role value")
 
 
-def check_output(out: str | os.PathLike, inputs: Iterable[str | os.PathLike | None], kind: str) -> Path:
-    """Refuse (SpecError-like FileRefused) an output that would replace an input or anything not ours.
+def check_output(out: str | os.PathLike, inputs: Iterable, kind: str) -> Path:
+    """The output path, or FileRefused when writing it would replace an input or a file not ours.
 
-    ``inputs`` are every file the command reads, including a stock file a saved design names; an
+    ``inputs`` are every file the command reads (a path, or a (path, what it is) pair), including a
+    stock file a saved design names; an
     output may not be any of them (through links too), nor a stock file's take log, lock or backup.
     An existing file is replaced only when it is an output of the same kind that drawerfit wrote.
     """
@@ -433,9 +434,10 @@ def check_output(out: str | os.PathLike, inputs: Iterable[str | os.PathLike | No
     if not path.parent.exists():
         raise FileRefused(f"{path}: the folder {path.parent} does not exist")
     for inp in inputs:
+        inp, role = inp if isinstance(inp, tuple) else (inp, "read by this command")
         if inp and Path(inp).exists() and path.exists() and _same_file(path, Path(inp)):
-            raise FileRefused(f"{path}: that is an input of this command ({inp}); the {what} is not written"
-                              " over it. Choose another name")
+            raise FileRefused(f"{path}: that is an input file ({role}); the {what} is not written over it."
+                              " Choose another name")
     name = path.name
     if name.endswith((LOG_SUFFIX, LOCK_SUFFIX)) or BACKUP_TAG in name:
         raise FileRefused(f"{path}: that name belongs to the take history of a stock file; choose another name")

@@ -190,14 +190,17 @@ def demo() -> None:
               help="Most parts combined to make one value.")
 @click.option("--time-limit", type=click.FloatRange(0.1), default=30.0, show_default=True,
               help="Seconds the allocation may take; past it the best found is shown, marked not proven.")
-@click.option("--json", "as_json", is_flag=True, help="Print the result as JSON (save it for `take`).")
+@click.option("--json", "as_json", is_flag=True, help="Print the result as JSON.")
+@click.option("--save", type=click.Path(dir_okay=False), default=None,
+              help="Write the result as KIT.json, the file `take` reads.")
+@click.option("--strict", is_flag=True, help="Fail (exit 2) if any stock line cannot be read.")
 @user_errors
-def kit(parts_list, stock_file, units, max_parts, time_limit, as_json) -> None:
+def kit(parts_list, stock_file, units, max_parts, time_limit, as_json, save, strict) -> None:
     """Fill a parts list (CSV or XLSX) from the drawer for N units and list what to buy."""
     from .commands.kit_cmd import run_kit_cmd
 
     run_kit_cmd(parts_list, stock_file, units=units, max_parts=max_parts, time_limit=time_limit,
-                as_json=as_json)
+                as_json=as_json, save=save, strict=strict)
 
 
 @main.command()

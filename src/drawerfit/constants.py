@@ -41,6 +41,7 @@ MAX_XLSX_SHARED_BYTES = 64 * 2**20  # the shared-strings part, which the XLSX re
 MAX_ROWS = 300_000  # rows with content in one file, all sheets together
 MAX_CELL_CHARS = 2_000  # characters in one cell; a longer cell skips its line (a note fits with room to spare)
 MAX_COLUMNS = 500  # columns read per row; cells further right are ignored (no header is that wide)
+MAX_QTY = 10**9  # parts on one line: beyond any drawer, and keeps every count sum within 64-bit integers
 MAX_VALUE_CHARS = 64  # characters of one value to parse ('4.7 kΩ ±1 %' needs a dozen)
 MAX_TEXT_INPUT_BYTES = 16 * 2**20  # a spec, saved design or kit file (a few kilobytes in practice)
 

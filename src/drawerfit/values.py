@@ -143,6 +143,8 @@ def parse_quantity(text: object, expect: str | None = None) -> Quantity:
     q = _parse_compact(s, original)
     if not math.isfinite(q.value):
         raise ValueParseError(original, "too large for a number")
+    if q.value == 0.0 and re.search(r"[1-9]", re.split(r"[eE]", s)[0]):
+        raise ValueParseError(original, "too small for a number")
     if q.unit is None and expect is not None:
         q = Quantity(q.value, expect)
     return _check_unit(q, expect, original)

@@ -1,7 +1,9 @@
 """The parts list of a design (per unit and for N units) as rows, CSV or XLSX.
 
-Every text cell that a spreadsheet could take for a formula (starting with = + - @, a tab or a
-carriage return) is neutralised by a leading apostrophe, so opening the file runs nothing.
+Every text cell that a spreadsheet could take for a formula, or that hides what it starts with, is
+neutralised by a leading apostrophe, so opening the file runs nothing: cells starting with = + - @,
+with any white space or line break (tab, carriage return, line feed, space, no-break space), with a
+zero-width character, or with a full-width = + - @.
 Numbers (counts, SI values, stock rows) are written as numbers in XLSX.
 """
 
@@ -19,8 +21,11 @@ from .design_file import DesignFile
 __all__ = ["BomRow", "COLUMNS", "bom_rows", "neutralise", "write_bom", "write_bom_csv", "write_bom_xlsx",
            "bom_csv_bytes", "bom_xlsx_bytes", "FORMULA_STARTS"]
 
-# A spreadsheet reads a cell starting with one of these as a formula (or a formula's prefix).
-FORMULA_STARTS = ("=", "+", "-", "@", "\t", "\r")
+# A spreadsheet reads a cell starting with one of these as a formula (or a formula's prefix), or may
+# drop the character and read what follows as one: white space and line breaks, the invisible
+# zero-width characters, and the full-width forms of = + - @ that some spreadsheets fold to ASCII.
+FORMULA_STARTS = ("=", "+", "-", "@", "\t", "\r", "\n", " ", "\u00a0", "\u200b", "\u200c", "\u200d", "\u2060",
+                  "\ufeff", "\uff1d", "\uff0b", "\uff0d", "\uff20")
 
 # (header, BomRow attribute); headers are what a person sees in the first row.
 COLUMNS = (
@@ -70,7 +75,7 @@ class BomRow:
 
 def neutralise(cell):
     """A text cell made safe for a spreadsheet: prefixed with ' when it could start a formula."""
-    if isinstance(cell, str) and cell.startswith(FORMULA_STARTS):
+    if isinstance(cell, str) and (cell.startswith(FORMULA_STARTS) or cell[:1].isspace()):
         return "'" + cell
     return cell
 

@@ -411,6 +411,9 @@ def _qty(row: _Row) -> int | None:
     if q < 0:
         row.problem("qty", cell, "quantity is negative")
         return None
+    if q > K.MAX_QTY:
+        row.problem("qty", cell, f"quantity is over {K.MAX_QTY:,}, more than any drawer holds")
+        return None
     return int(q)
 
 

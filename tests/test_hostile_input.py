@@ -72,16 +72,25 @@ def test_any_table_of_plausible_words_loads_or_says_where(tmp_path, header, rows
 
 @settings(max_examples=150, **SETTINGS)
 @given(st.binary(max_size=400))
-def test_any_bytes_as_a_stock_file_load_or_say_where(tmp_path, data):
+def test_any_bytes_as_any_input_load_or_say_where(tmp_path, data):
     for name in ("drawer.csv", "drawer.xlsx"):
         path = tmp_path / name
         path.write_bytes(data)
-        try:
-            stock = load_stock(str(path))
-        except DrawerfitError as exc:
-            _located(exc, path)
-            continue
-        _check_problems(stock.problems, path)
+        for reader in (load_stock, read_kit_list):
+            try:
+                result = reader(str(path))
+            except DrawerfitError as exc:
+                _located(exc, path)
+                continue
+            _check_problems(result.problems, path)
+    for name, readers in (("spec.toml", (load_spec, load_design, read_pick_list)), ("kit.json", (read_pick_list,))):
+        path = tmp_path / name
+        path.write_bytes(data)
+        for reader in readers:
+            try:
+                reader(str(path))
+            except DrawerfitError as exc:
+                _located(exc, path)
 
 
 def test_a_long_cell_skips_its_line_with_row_column_and_a_short_excerpt(tmp_path):

@@ -21,7 +21,7 @@ from typing import Iterable
 
 from .parts import DrawerfitError
 
-__all__ = ["FileRefused", "write_all", "real_target", "check_replaceable", "atomic_write", "create_new",
+__all__ = ["FileRefused", "read_limited", "write_all", "real_target", "check_replaceable", "atomic_write", "create_new",
            "append_line", "fsync_dir", "FileLock", "check_output", "stamp", "io_message",
            "LOG_SUFFIX", "LOCK_SUFFIX", "BACKUP_TAG"]
 
@@ -45,6 +45,23 @@ def io_message(exc: OSError) -> str:
     if exc.errno in (errno.ENOSPC, errno.EDQUOT):
         return "the disk is full (or the quota is used up)"
     return exc.strerror or str(exc)
+
+
+def read_limited(path: str | os.PathLike, limit: int, error: type[Exception], what: str) -> bytes:
+    """The bytes of a small input file (spec, saved design, kit), refused with ``error`` when missing,
+    unreadable or larger than ``limit`` (then it is not what it claims to be)."""
+    try:
+        if os.path.isdir(path):
+            raise error(f"{path}: is a folder, not a {what}")
+        size = os.path.getsize(path)
+        if size > limit:
+            raise error(f"{path}: {size:,} bytes is far more than a {what} holds (limit {limit:,}); not read")
+        with open(path, "rb") as fh:
+            return fh.read(limit + 1)
+    except FileNotFoundError:
+        raise error(f"{path}: no such file") from None
+    except OSError as exc:
+        raise error(f"{path}: cannot read ({io_message(exc)})") from None
 
 
 def write_all(fd: int, data: bytes) -> None:

@@ -167,11 +167,12 @@ def load_spec(path: str | Path, stock=None) -> Spec:
     """Read a spec file; ``stock`` (a ``parts.Stock``) resolves ``[transistor] label``."""
     import tomllib
 
+    from .constants import MAX_TEXT_INPUT_BYTES
+    from .filesafe import read_limited
+
     p = Path(path)
     try:
-        data = tomllib.loads(p.read_text(encoding="utf-8"))
-    except FileNotFoundError:
-        raise SpecError(f"{p}: no such file") from None
+        data = tomllib.loads(read_limited(p, MAX_TEXT_INPUT_BYTES, SpecError, "spec").decode("utf-8"))
     except UnicodeDecodeError:
         raise SpecError(f"{p}: not a text file (UTF-8 expected)") from None
     except tomllib.TOMLDecodeError as exc:

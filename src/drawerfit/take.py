@@ -26,16 +26,15 @@ import os
 from dataclasses import dataclass, field
 from pathlib import Path
 
+from .constants import MAX_TEXT_INPUT_BYTES
 from .filesafe import (BACKUP_TAG, LOCK_SUFFIX, LOG_SUFFIX, FileLock, FileRefused, append_line, atomic_write,
-                       check_replaceable, create_new, io_message, real_target, stamp)
+                       check_replaceable, create_new, io_message, read_limited, real_target, stamp)
 from .parts import StockError
 from .stock.readers import file_checksum  # the same checksum the loader records in Stock.checksum
 
 __all__ = ["PickEntry", "TakePlan", "Change", "TakeResult", "read_pick_list", "plan_take", "take",
            "undo", "log_path", "lock_path", "file_checksum", "pick_entries", "TakeError", "format_result",
            "read_log", "history"]
-
-MAX_PICK_FILE_BYTES = 16 * 2**20  # a pick list is a few kilobytes; anything near this is not one
 
 
 class TakeError(StockError):
@@ -120,13 +119,7 @@ def lock_path(stock_file: str | os.PathLike) -> Path:
 def read_pick_list(path: str | os.PathLike) -> PickList:
     """The pick list of a saved design (TOML) or kit (JSON)."""
     p = Path(path)
-    try:
-        if p.stat().st_size > MAX_PICK_FILE_BYTES:
-            raise TakeError(f"{p}: {p.stat().st_size:,} bytes is far more than a design or kit holds"
-                            f" (limit {MAX_PICK_FILE_BYTES:,}); not read")
-        raw = p.read_bytes()
-    except OSError as exc:
-        raise TakeError(f"{p}: cannot read ({io_message(exc)})") from None
+    raw = read_limited(p, MAX_TEXT_INPUT_BYTES, TakeError, "design or kit file")
     if p.suffix.lower() == ".toml":
         import tomllib
 

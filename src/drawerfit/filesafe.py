@@ -72,6 +72,15 @@ def write_all(fd: int, data: bytes) -> None:
         view = view[n:]
 
 
+def _fill(fd: int, data: bytes) -> None:
+    """Every byte of ``data`` into a new file's descriptor, flushed to disk; the descriptor is closed."""
+    try:
+        write_all(fd, data)
+        os.fsync(fd)
+    finally:
+        os.close(fd)
+
+
 def fsync_dir(folder: str | os.PathLike) -> None:
     """Flush a folder's entries to disk (after a rename or a new file); best effort."""
     try:
@@ -152,11 +161,7 @@ def atomic_write(path: str | os.PathLike, data: bytes | str) -> Path:
         mode = _default_mode()
     fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp", dir=target.parent)
     try:
-        try:
-            write_all(fd, raw)
-            os.fsync(fd)
-        finally:
-            os.close(fd)
+        _fill(fd, raw)
         os.chmod(tmp, mode)
         os.replace(tmp, target)
     except BaseException:
@@ -173,11 +178,7 @@ def create_new(path: str | os.PathLike, data: bytes, mode: int = 0o644) -> None:
     """
     fd = os.open(path, os.O_WRONLY | os.O_CREAT | os.O_EXCL, mode)
     try:
-        try:
-            write_all(fd, data)
-            os.fsync(fd)
-        finally:
-            os.close(fd)
+        _fill(fd, data)
     except BaseException:
         _unlink_quietly(path)
         raise

@@ -285,3 +285,24 @@ def test_an_interrupted_undo_leaves_the_take_in_the_file(tmp_path):
     assert [r.state for r in history(stock)] == ["in the file"]
     undo(stock)
     assert stock.read_bytes() == DRAWER and [r.state for r in history(stock)] == ["undone"]
+
+
+def test_the_columns_of_a_take_line_up_whatever_the_widths(tmp_path):
+    text = "kind,value,qty,location\n" + "".join(f"resistor,{v},{q},{b}\n" for v, q, b in (
+        ("4k7", 1200, "A1"), ("10k", 5, "drawer twelve"), ("1M", 30, "B")))
+    text += "resistor,2k2,3,C\n" * 7 + "resistor,100R,9,D\n"  # row 12: a two-digit row number
+    stock = tmp_path / "drawer.csv"
+    stock.write_text(text, encoding="utf-8")
+    kit = _kit(tmp_path, stock.read_bytes(), [(2, 1000), (3, 1), (4, 25), (12, 4)])
+    res = CliRunner().invoke(main, ["take", str(kit), "--stock", str(stock), "--dry-run"])
+    assert res.exit_code == 0, res.output
+    table = [ln for ln in res.output.splitlines() if "->" in ln or "quantity" in ln]
+    assert len(table) == 5
+    for word in ("quantity", "change"):  # right-aligned: every cell ends where its header ends
+        end = table[0].index(word) + len(word)
+        for ln in table[1:]:
+            assert ln[end - 1] != " " and ln[end:end + 1] in ("", " "), (word, ln)
+    for word in ("part", "bin"):  # left-aligned: every cell starts where its header starts
+        start = table[0].index(word)
+        for ln in table[1:]:
+            assert ln[start - 1] == " " and ln[start] != " ", (word, ln)

@@ -120,6 +120,8 @@ def _current(target: Path) -> str | None:
 def history(stock_file) -> list[TakeRecord]:
     """Every take logged for the stock file, oldest first, with its state now."""
     target = Path(stock_file)
+    if not target.exists():
+        raise TakeError(f"{target}: no such stock file")
     entries = read_log(target)
     takes, state = _state(entries, _current(target))
     out = []

@@ -344,7 +344,7 @@ def run_design(spec_file: str, stock_file: str, *, units: int = 1, max_parts: in
     result = design(problem, stock, top=top, exhaustive=exhaustive)
     if not result.feasible:
         if as_json:
-            emit_json({**design_json(result, spec), "stock_warnings": list(stock.warnings)})
+            emit_json({**design_json(result, spec), "warnings": list(stock.warnings)})
         else:
             _print_infeasible(result)
             _print_stock_summary(stock, quiet)
@@ -354,7 +354,7 @@ def run_design(spec_file: str, stock_file: str, *, units: int = 1, max_parts: in
     if as_json:
         data = design_json(result, spec, analysis, cautions)
         data["stock_checksum"] = stock.checksum
-        data["stock_warnings"] = list(stock.warnings)
+        data["warnings"] = list(stock.warnings)
         emit_json(data)
         for c in cautions:
             click.echo(f"caution: {c.text}", err=True)

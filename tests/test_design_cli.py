@@ -97,6 +97,10 @@ def test_people_output_and_bad_spec(tmp_path, samples):
     assert r.exit_code == 0, r.output
     for word in ("RE2", "CE", "Pick list", "Binding constraints", "Cautions"):
         assert word in r.output
+    # an electrolytic's orientation is told once, in the words `analyze` uses, without jargon
+    roles = [ln for ln in r.output.splitlines() if ln.strip().startswith("polarized:")]
+    assert roles and all("fit the + end toward" in ln for ln in roles)
+    assert "one sign over the box" not in r.output
     bad = tmp_path / "bad.toml"
     bad.write_text('topology = "emitter-follower"\nsupply = "12 V"\n[targets]\nf_low = "20 Hz"\n', encoding="utf-8")
     r = CliRunner().invoke(main, ["design", str(bad), "--stock", stock])

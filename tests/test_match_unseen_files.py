@@ -39,6 +39,12 @@ HEADERS = [("Kind", "Value", "Qty", "Bin"), ("type", "Resistance", "On hand", "D
 def brute(values, qtys, target, window, max_parts, units):
     ser = lambda a, b: a + b  # noqa: E731
     par = lambda a, b: a * b / (a + b)  # noqa: E731
+    # bins of one value are one part (the files give no tolerance or rating, so every 4k7 is the same
+    # part): their quantities add up, as docs/method.md says of match and design
+    pooled: dict[float, int] = {}
+    for v, q in zip(values, qtys):
+        pooled[v] = pooled.get(v, 0) + q
+    values, qtys = list(pooled), list(pooled.values())
     idx = [i for i, q in enumerate(qtys) if q >= units]
     cand = []
     for i in idx:

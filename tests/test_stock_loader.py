@@ -90,7 +90,7 @@ def test_defaults_are_applied_and_listed(tmp_path):
     assert (c_small.polarized, c_small.voltage, c_small.tolerance) == (False, K.VOLTAGE_NONPOLAR, K.TOL_CERAMIC)
     assert (c_big.polarized, c_big.voltage, c_big.tolerance) == (True, K.VOLTAGE_POLARIZED, K.TOL_ELECTROLYTIC)
     text = " ".join(stock.assumptions)
-    assert "250 mW assumed on 1 resistor line" in text and "6.3 V polarized" in text
+    assert "power rating 250 mW for 1 resistor line (the file does not say)" in text and "6.3 V polarized" in text
 
 
 def test_transistor_lacking_a_rating_is_reported_not_guessed(tmp_path):

@@ -190,30 +190,38 @@ def demo() -> None:
               help="Most parts combined to make one value.")
 @click.option("--time-limit", type=click.FloatRange(0.1), default=30.0, show_default=True,
               help="Seconds the allocation may take; past it the best found is shown, marked not proven.")
-@click.option("--json", "as_json", is_flag=True, help="Print the result as JSON (save it for `take`).")
+@click.option("--json", "as_json", is_flag=True, help="Print the result as JSON.")
+@click.option("--save", type=click.Path(dir_okay=False), default=None,
+              help="Write the result as KIT.json, the file `take` reads.")
+@click.option("--strict", is_flag=True, help="Fail (exit 2) if any stock line cannot be read.")
 @user_errors
-def kit(parts_list, stock_file, units, max_parts, time_limit, as_json) -> None:
+def kit(parts_list, stock_file, units, max_parts, time_limit, as_json, save, strict) -> None:
     """Fill a parts list (CSV or XLSX) from the drawer for N units and list what to buy."""
     from .commands.kit_cmd import run_kit_cmd
 
     run_kit_cmd(parts_list, stock_file, units=units, max_parts=max_parts, time_limit=time_limit,
-                as_json=as_json)
+                as_json=as_json, save=save, strict=strict)
 
 
 @main.command()
-@click.argument("pick_file", metavar="DESIGN.toml|KIT.json", required=False, type=click.Path(dir_okay=False))
+@click.argument("pick_file", metavar="[DESIGN.toml|KIT.json]", required=False, type=click.Path(dir_okay=False))
 @click.option("--stock", "stock_file", required=True, type=click.Path(dir_okay=False), help="Stock file to change.")
 @click.option("--units", type=click.IntRange(1), default=None, help="Units to take (default: as saved).")
 @click.option("--dry-run", is_flag=True, help="Show what would change; change nothing.")
-@click.option("--undo", is_flag=True, help="Put back the last take recorded for the stock file.")
+@click.option("--undo", "undo_to", is_flag=False, flag_value="last", default=None, metavar="[N]",
+              help="Put back the last take; with N (a number from --history), every take back to N.")
+@click.option("--history", "show_history", is_flag=True, help="List the takes logged for the stock file.")
 @click.option("--json", "as_json", is_flag=True, help="Print what changed as JSON.")
 @user_errors
-def take(pick_file, stock_file, units, dry_run, undo, as_json) -> None:
-    """Take a design's or kit's parts out of the stock file (backup, lock, log, atomic write)."""
+def take(pick_file, stock_file, units, dry_run, undo_to, show_history, as_json) -> None:
+    """Take a design's or kit's parts out of the stock file (backup, lock, log, atomic write).
+
+    With --undo (no design or kit file) the last take is put back; --history lists them all.
+    """
     from .commands.take_cmd import run_take_cmd
 
-    run_take_cmd(pick_file, stock_file, units=units, dry_run=dry_run, undo=undo, as_json=as_json)
-
+    run_take_cmd(pick_file, stock_file, units=units, dry_run=dry_run, undo_to=undo_to, show_history=show_history,
+                 as_json=as_json)
 
 
 # --- report and export -----------------------------------------------------------------------

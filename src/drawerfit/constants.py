@@ -31,6 +31,20 @@ AMBIENT_MAX_C = 50.0
 NOMINAL_TEMP_C = 25.0
 HIGH_VOLTAGE_CAUTION = 50.0  # V DC, above which the supply is treated as dangerous (common practice, no source)
 
+# --- limits on what is read (our own choices; docs/inventory-format.md, "Size limits") -------
+# Far above any drawer or parts list kept by hand (the largest sample has a few hundred lines),
+# and low enough that a damaged or hostile file is refused in seconds, within a few hundred MB,
+# instead of running for minutes and exhausting memory.
+MAX_INPUT_BYTES = 64 * 2**20  # a stock file or parts list as stored on disk (CSV text or XLSX zip)
+MAX_XLSX_UNPACKED_BYTES = 256 * 2**20  # all parts of a workbook once unzipped (declared sizes, checked first)
+MAX_XLSX_SHARED_BYTES = 64 * 2**20  # the shared-strings part, which the XLSX reader holds in memory whole
+MAX_ROWS = 300_000  # rows with content in one file, all sheets together
+MAX_CELL_CHARS = 2_000  # characters in one cell; a longer cell skips its line (a note fits with room to spare)
+MAX_COLUMNS = 500  # columns read per row; cells further right are ignored (no header is that wide)
+MAX_QTY = 10**9  # parts on one line: beyond any drawer, and keeps every count sum within 64-bit integers
+MAX_VALUE_CHARS = 64  # characters of one value to parse ('4.7 kΩ ±1 %' needs a dozen)
+MAX_TEXT_INPUT_BYTES = 16 * 2**20  # a spec, saved design or kit file (a few kilobytes in practice)
+
 
 def thermal_voltage(temp_c: float = NOMINAL_TEMP_C):
     """kT/q in volts at a temperature in °C, from CODATA constants via scipy.constants."""

@@ -28,16 +28,17 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from .kit_output import RATING_UNIT, format_kit, kit_cautions, kit_to_json, pick_list
 from .kitlist import KitLine, KitList, read_kit_list
 from .parts import SpecError, Stock, StockLine, UNIT_OF_KIND
 from .values import format_si
 
 __all__ = ["Candidates", "KitResult", "Filled", "Unfilled", "Buy", "candidates_for", "allocate", "run_kit",
            "kit_to_json", "format_kit"]
+# (the output layer, pick list, text and JSON, is in kit_output; its names stay importable from here)
 
 PPM = 1_000_000
 TRIPLES_PER_LINE = 200  # closest equivalents searched for triples per list line (max_parts=3)
-RATING_UNIT = {"resistor": "W", "capacitor": "V"}
 
 
 @dataclass(frozen=True)
@@ -475,20 +476,10 @@ def run_kit(list_file: str, stock_file: str, *, units: int = 1, max_parts: int =
     sol, filled_n, partial, optimal, values = allocate(needs, cands, qty, units, time_limit=time_limit,
                                                         method=method)
 
-    by_index = {s.index: s for s in stock.lines}
     filled: list[Filled] = []
     unfilled: list[Unfilled] = []
     buys: dict[tuple, list] = {}
-    parts_taken: Counter = Counter()
     for ln, c, row, prow, nf in zip(lines, cands, sol, partial, filled_n):
-        for k, n in enumerate(row):
-            for j in range(3):
-                if n and c.members[k, j] >= 0:
-                    parts_taken[int(c.members[k, j])] += n * int(c.counts[k, j])
-        for k, n in enumerate(prow):
-            for j in range(3):
-                if n and c.members[k, j] >= 0:
-                    parts_taken[int(c.members[k, j])] += n * int(c.counts[k, j])
         groups = _chunks(row, units, nf)
         for d, g in zip(ln.designators[:nf], groups):
             filled.append(Filled(d, ln, tuple(Build(n, c.equivalent(k)) for k, n in g.most_common())))
@@ -511,15 +502,7 @@ def run_kit(list_file: str, stock_file: str, *, units: int = 1, max_parts: int =
         entry[3].extend(rest)
     buy = tuple(Buy(k[0], k[1], k[2], k[3], v[0], v[1], v[2], tuple(v[3]))
                 for k, v in sorted(buys.items(), key=lambda kv: (kv[0][0], kv[0][1] or 0, kv[0][2])) if v[1] > 0)
-    pick = []
-    for s_idx in sorted(parts_taken, key=lambda i: (by_index[i].source.sheet or "", by_index[i].source.row)):
-        n = parts_taken[s_idx]
-        if n == 0:
-            continue
-        s = by_index[s_idx]
-        per_unit = n // units if n % units == 0 else round(n / units, 6)
-        pick.append({"source": s.source.to_dict(), "location": s.location, "part": _part_text(s),
-                     "per_unit": per_unit, "count": int(n)})
+    pick = pick_list(filled, unfilled, units)  # every entry names the designators and units it serves
     notes = []
     cut = [ln.designators[0] for ln, c in zip(lines, cands) if c.truncated]
     if cut:
@@ -532,7 +515,7 @@ def run_kit(list_file: str, stock_file: str, *, units: int = 1, max_parts: int =
                      " shown, not proven optimal; a longer --time-limit may do better")
     return KitResult(units, optimal, tuple(filled), tuple(unfilled), buy, tuple(pick), stock.checksum,
                      stock_file, list_file, time.monotonic() - t0, tuple(values),
-                     tuple(_cautions(lines, filled)), tuple(warnings), tuple(notes))
+                     tuple(kit_cautions(lines, filled, unfilled)), tuple(warnings), tuple(notes))
 
 
 def _reason(ln: KitLine, c: Candidates, units: int, qty: np.ndarray, max_parts: int) -> str:
@@ -562,140 +545,3 @@ def _alone_capacity(c: Candidates, qty: np.ndarray, slots: int) -> int:
     status = solver.Solve(mm.model)
     return int(solver.ObjectiveValue()) if status in (cp_model.OPTIMAL, cp_model.FEASIBLE) else 0
 
-
-def _part_text(s: StockLine) -> str:
-    if s.kind == "transistor" or s.value is None:
-        return s.label or s.kind
-    text = format_si(s.value, UNIT_OF_KIND[s.kind])
-    if s.rating is not None:
-        text += f" {format_si(s.rating, RATING_UNIT[s.kind])}"
-    return text
-
-
-def _cautions(lines, filled: list[Filled]) -> list[str]:
-    from .constants import CAP_VOLTAGE_MARGIN, HIGH_VOLTAGE_CAUTION
-
-    out = []
-    hv = [ln for ln in lines if ln.kind == "capacitor" and ln.min_rating and ln.min_rating > HIGH_VOLTAGE_CAUTION]
-    if hv:
-        out.append(f"some capacitors must stand more than {HIGH_VOLTAGE_CAUTION:g} V: supplies that high are"
-                   " dangerous; work de-energised, discharge capacitors, follow local codes and licensed practice")
-    polar = series_polar = False
-    for f in filled:
-        for b in f.builds:
-            uses = getattr(b.equivalent, "uses", ())
-            if any(getattr(s, "polarized", False) for s, _n in uses):
-                polar = True
-                if getattr(b.equivalent, "polarized_series", False):
-                    series_polar = True
-    if polar:
-        out.append(f"electrolytic capacitors are in the build: fit them the right way round and keep the working"
-                   f" voltage at or below {CAP_VOLTAGE_MARGIN:.0%} of the rating, or they can vent or burst")
-    if series_polar:
-        out.append("polarized capacitors in series share the voltage unevenly: they need balancing resistors;"
-                   " prefer another arrangement when one exists")
-    no_v = [ln for ln in lines if ln.kind == "capacitor" and ln.min_rating is None]
-    if no_v:
-        names = ", ".join(ln.designators[0] for ln in no_v[:4]) + (" …" if len(no_v) > 4 else "")
-        out.append(f"no minimum voltage given for {names}: those capacitors were chosen without a voltage check")
-    return out
-
-
-# --- output ----------------------------------------------------------------------------------------
-
-
-def _eq_value(eq) -> float | None:
-    return None if eq.value is None else float(eq.value)
-
-
-def _parts_json(eq) -> list[dict]:
-    out = []
-    for s, n in eq.uses:
-        out.append({"value": s.value if s.value is None else float(s.value), "label": s.label,
-                    "location": s.location, "source": s.source.to_dict(), "count": int(n)})
-    return out
-
-
-def _build_json(b: Build, line: KitLine) -> dict:
-    eq = b.equivalent
-    unit = UNIT_OF_KIND.get(line.kind)
-    return {"units": b.units, "value": _eq_value(eq),
-            "value_text": format_si(eq.value, unit) if eq.value is not None else line.label,
-            "arrangement": eq.arrangement, "how": _how(eq, line), "part_count": int(eq.part_count),
-            "parts": _parts_json(eq)}
-
-
-def _how(eq, line: KitLine) -> str:
-    """'4k7 + 2k2', '10k ∥ 10k' in the letter code, or the transistor's label."""
-    describe = getattr(eq, "describe", None)
-    return describe() if describe else line.label
-
-
-def kit_to_json(r: KitResult) -> dict:
-    """The result as the JSON that `take` reads back."""
-    filled = []
-    for f in r.filled:
-        first = _build_json(f.builds[0], f.line)
-        filled.append({"designator": f.designator, "target": f.line.value, "value": first["value"],
-                       "value_text": first["value_text"], "arrangement": first["arrangement"], "how": first["how"],
-                       "part_count": first["part_count"], "parts": first["parts"],
-                       "builds": [_build_json(b, f.line) for b in f.builds],
-                       "list_row": f.line.row})
-    unfilled = [{"designator": u.designator, "value": u.line.value, "value_text": u.line.value_text(),
-                 "reason": u.reason, "units_from_drawer": u.units_covered,
-                 "from_drawer": [_build_json(b, u.line) for b in u.from_drawer], "list_row": u.line.row}
-                for u in r.unfilled]
-    buy = [{"kind": b.kind, "value": b.value,
-            "value_text": format_si(b.value, UNIT_OF_KIND[b.kind]) if b.value is not None else b.label,
-            "rating": b.rating, "per_unit": b.per_unit, "count": b.count, "series": b.series,
-            "designators": list(b.designators)} for b in r.buy]
-    return {"units": r.units, "optimal": bool(r.optimal), "filled": filled, "unfilled": unfilled, "buy": buy,
-            "pick_list": list(r.pick), "stock_checksum": r.stock_checksum, "stock_file": r.stock_file,
-            "list_file": r.list_file, "seconds": round(r.seconds, 3), "cautions": list(r.cautions),
-            "warnings": list(r.warnings), "notes": list(r.notes)}
-
-
-def format_kit(r: KitResult) -> str:
-    """The result for people: what is filled from where, what is missing and why, what to buy."""
-    total = len(r.filled) + len(r.unfilled)
-    out = [f"{len(r.filled)} of {total} designators filled from the drawer for {r.units} unit(s)"
-           f" ({'proven optimal' if r.optimal else 'best found before the time limit, not proven optimal'})"]
-    if r.filled:
-        out.append("")
-        out.append("from the drawer:")
-        for f in r.filled:
-            for b in f.builds:
-                eq = b.equivalent
-                unit = UNIT_OF_KIND.get(f.line.kind)
-                val = format_si(eq.value, unit) if eq.value is not None else f.line.label
-                where = " + ".join(f"{n}× {_part_text(s)} [{s.location or 'row ' + str(s.source.row)}]"
-                                   for s, n in eq.uses)
-                share = "" if b.units == r.units else f"  ({b.units} of {r.units} units)"
-                out.append(f"  {f.designator:<8} {f.line.value_text():>10} -> {val:>10}  {_how(eq, f.line):<16} {where}{share}")
-    if r.unfilled:
-        out.append("")
-        out.append("not filled:")
-        for u in r.unfilled:
-            cov = f"; the drawer still covers {u.units_covered} of {r.units} units" if u.units_covered else ""
-            out.append(f"  {u.designator:<8} {u.line.value_text():>10}  {u.reason}{cov}")
-    if r.buy:
-        out.append("")
-        out.append("to buy (standard values):")
-        out.append(f"  {'value':>10}  {'rating':>8}  {'per unit':>8}  {'total':>6}  for")
-        for b in r.buy:
-            val = format_si(b.value, UNIT_OF_KIND[b.kind]) if b.value is not None else b.label
-            rating = format_si(b.rating, RATING_UNIT.get(b.kind)) if b.rating is not None else "any"
-            series = f" ({b.series})" if b.series else ""
-            out.append(f"  {val:>10}  {rating:>8}  {b.per_unit:>8}  {b.count:>6}  {', '.join(b.designators)}{series}")
-    if r.pick:
-        out.append("")
-        out.append("pick list:")
-        for p in r.pick:
-            src = p["source"]
-            sheet = f"sheet {src['sheet']!r}, " if src.get("sheet") else ""
-            out.append(f"  {p['count']:>5} × {p['part']:<16} {p['location'] or '-':<10} ({sheet}row {src['row']})")
-    for n in r.notes:
-        out.append(f"note: {n}")
-    for c in r.cautions:
-        out.append(f"caution: {c}")
-    return "\n".join(out)

@@ -15,9 +15,10 @@ import re
 from dataclasses import dataclass
 from pathlib import Path
 
-from .constants import TOL_CERAMIC, TOL_RESISTOR
+from .constants import MAX_CELL_CHARS, TOL_CERAMIC, TOL_RESISTOR
 from .parts import Problem, SpecError, UNIT_OF_KIND, KIND_OF_UNIT
 from .stock.headers import normalise
+from .stock.readers import LongCell, excerpt
 from .values import (ValueParseError, format_si, implied_unit, parse_quantity, parse_tolerance,
                      parse_value_and_tolerance)
 
@@ -106,37 +107,16 @@ class KitList:
 
 
 def _records(path: Path):
-    """(sheet, row number, cells) for every record of a CSV or every row of every XLSX sheet."""
-    if path.suffix.lower() in (".xlsx", ".xlsm"):
-        from openpyxl import load_workbook
+    """(sheet, row number, cells) for every record of a CSV or every row of every XLSX sheet, read by
+    the stock loader's reader (same size, row and cell limits; a too long cell is a ``LongCell``)."""
+    from .stock.readers import open_table_file
 
-        try:
-            wb = load_workbook(path, read_only=True, data_only=True)
-        except Exception as exc:  # openpyxl raises many kinds for a damaged workbook
-            raise SpecError(f"{path}: not a readable XLSX workbook ({exc})") from None
-        try:
-            for ws in wb.worksheets:
-                for r, row in enumerate(ws.iter_rows(values_only=True), start=1):
-                    yield ws.title, r, ["" if c is None else c for c in row]
-        finally:
-            wb.close()
-        return
-    import csv
-    import io
-
-    from .stock.readers import sniff_delimiter
-
-    try:
-        data = path.read_bytes()
-    except OSError as exc:
-        raise SpecError(f"{path}: cannot read ({exc.strerror})") from None
-    try:
-        text = data.decode("utf-8-sig")
-    except UnicodeDecodeError as exc:
-        raise SpecError(f"{path}: not UTF-8 text (byte {exc.start}); save it as UTF-8 CSV") from None
-    delim = sniff_delimiter(text)
-    for r, rec in enumerate(csv.reader(io.StringIO(text, newline=""), delimiter=delim), start=1):
-        yield None, r, rec
+    raw = open_table_file(str(path), SpecError, "parts list")
+    if raw.notes:
+        raise SpecError(f"{path}: not UTF-8 text ({raw.notes[0].split(': ', 1)[-1]}); save it as UTF-8 CSV")
+    for sheet in raw.sheets():
+        for r, cells in sheet.records:
+            yield sheet.name, r, ["" if c is None else c for c in cells]
 
 
 def _split_designators(text: str) -> list[str]:
@@ -165,7 +145,7 @@ def read_kit_list(path: str) -> KitList:
     seen: dict[str, str] = {}
     for sheet, r, cells in _records(p):
         if sheet not in header:
-            fields = {i: match_kit_header(c) for i, c in enumerate(cells)}
+            fields = {i: match_kit_header(c) for i, c in enumerate(cells) if not isinstance(c, LongCell)}
             fields = {i: f for i, f in fields.items() if f}
             if "value" in fields.values() and len(fields) >= 2:
                 cols: dict[int, str] = {}
@@ -182,6 +162,13 @@ def read_kit_list(path: str) -> KitList:
             continue
         row = {f: cells[i] if i < len(cells) else "" for i, f in header[sheet].items()}
         names = header_names[sheet]
+        long = [(f, c) for f, c in row.items() if isinstance(c, LongCell)]
+        if long:
+            f, c = long[0]
+            problems.append(Problem(str(p), sheet, r, names.get(f, f), c.start + "…",
+                                    f"a cell of {c.length:,} characters, over the limit of {MAX_CELL_CHARS:,};"
+                                    " line skipped"))
+            continue
         line = _read_line(str(p), sheet, r, row, names, problems)
         if line is None:
             continue
@@ -201,7 +188,7 @@ def read_kit_list(path: str) -> KitList:
 
 def _read_line(file, sheet, r, row, names, problems) -> KitLine | None:
     def bad(field: str, text, why: str) -> None:
-        problems.append(Problem(file, sheet, r, names.get(field, field), "" if text is None else str(text), why))
+        problems.append(Problem(file, sheet, r, names.get(field, field), "" if text is None else excerpt(text), why))
 
     value_text = row.get("value", "")
     if str(value_text).strip() == "":

@@ -116,6 +116,7 @@ class Stock:
     assumptions: tuple[str, ...] = ()
     files: tuple[str, ...] = ()
     checksum: str = ""  # sha256 of the file bytes, so a later take can tell the file changed
+    warnings: tuple[str, ...] = ()  # what the reading did that changes results (shown in every summary)
 
     def of_kind(self, kind: str) -> tuple[StockLine, ...]:
         return tuple(line for line in self.lines if line.kind == kind)

@@ -39,6 +39,9 @@ _TARGET_UNITS = {"ie": "A", "ie_min": "A", "ie_max": "A", "f_low": "Hz", "swing"
 _LIMIT_KEYS = {"derating", "resistor_derating", "transistor_derating", "cap_voltage_margin",
                "ambient", "ambient_min", "ambient_max"}
 _PART_KEYS = {"value", "tolerance", "rating", "polarized"}
+# Values beyond these (SI base units) are no real part, supply or current: a prefix typed wrong.
+REAL_RANGE = (1e-15, 1e15)
+HFE_MAX = 1e5  # beyond any bipolar transistor, Darlington pairs included
 
 
 @dataclass(frozen=True)
@@ -100,7 +103,9 @@ class _Reader:
         self.assumptions: list[str] = []
 
     def fail(self, key: str, text: Any, why: str) -> SpecError:
-        quoted = f" = {text!r}" if text is not None else ""
+        shown = repr(text)
+        shown = shown if len(shown) <= 60 else shown[:60] + "…"
+        quoted = f" = {shown}" if text is not None else ""
         return SpecError(f"{self.path}: {key}{quoted}: {why}")
 
     def quantity(self, key: str, raw: Any, unit: str | None, positive: bool = True) -> float:
@@ -112,6 +117,23 @@ class _Reader:
             raise self.fail(key, raw, exc.why) from None
         if not math.isfinite(v) or (positive and v <= 0) or (not positive and v < 0):
             raise self.fail(key, raw, "must be " + ("positive" if positive else "zero or more"))
+        if v > REAL_RANGE[1] or 0 < v < REAL_RANGE[0]:
+            raise self.fail(key, raw, "is outside the range of real parts and circuits (check the prefix)")
+        return v
+
+    def gain(self, key: str, raw: Any) -> float:
+        """A current gain: a plain number (no unit), between 1 and HFE_MAX."""
+        if isinstance(raw, str):
+            try:
+                from .values import parse_quantity
+
+                if parse_quantity(raw).unit is not None:
+                    raise self.fail(key, raw, "hFE is a plain number, without a unit")
+            except ValueParseError:
+                pass  # quantity() below says what is wrong
+        v = self.quantity(key, raw, None)
+        if not 1 <= v <= HFE_MAX:
+            raise self.fail(key, raw, f"an hFE between 1 and {HFE_MAX:g} is expected")
         return v
 
     def fraction(self, key: str, raw: Any) -> float:
@@ -145,11 +167,12 @@ def load_spec(path: str | Path, stock=None) -> Spec:
     """Read a spec file; ``stock`` (a ``parts.Stock``) resolves ``[transistor] label``."""
     import tomllib
 
+    from .constants import MAX_TEXT_INPUT_BYTES
+    from .filesafe import read_limited
+
     p = Path(path)
     try:
-        data = tomllib.loads(p.read_text(encoding="utf-8"))
-    except FileNotFoundError:
-        raise SpecError(f"{p}: no such file") from None
+        data = tomllib.loads(read_limited(p, MAX_TEXT_INPUT_BYTES, SpecError, "spec").decode("utf-8"))
     except UnicodeDecodeError:
         raise SpecError(f"{p}: not a text file (UTF-8 expected)") from None
     except tomllib.TOMLDecodeError as exc:
@@ -165,7 +188,7 @@ def parse_spec(data: Mapping[str, Any], path: str = "<spec>", stock=None) -> Spe
     r = _Reader(path)
     r.table("", data, _TOP_KEYS)
     topology = data.get("topology")
-    if topology not in TOPOLOGY_ROLES:
+    if not isinstance(topology, str) or topology not in TOPOLOGY_ROLES:
         raise r.fail("topology", topology, f"expected one of {', '.join(TOPOLOGY_ROLES)}")
     polarity = data.get("polarity", "npn")
     if not isinstance(polarity, str) or polarity.lower() not in ("npn", "pnp"):
@@ -233,10 +256,10 @@ def _transistor(r: _Reader, data, polarity, stock, design: bool = False):
     if "hfe" in t and ("hfe_min" in t or "hfe_max" in t):
         raise r.fail("transistor.hfe", t["hfe"], "give either hfe or hfe_min and hfe_max, not both")
     if "hfe" in t:
-        fields["hfe_min"] = fields["hfe_max"] = r.quantity("transistor.hfe", t["hfe"], None)
+        fields["hfe_min"] = fields["hfe_max"] = r.gain("transistor.hfe", t["hfe"])
     for name in ("hfe_min", "hfe_max"):
         if name in t:
-            fields[name] = r.quantity(f"transistor.{name}", t[name], None)
+            fields[name] = r.gain(f"transistor.{name}", t[name])
     if ("hfe_min" in fields) != ("hfe_max" in fields):
         only = "hfe_min" if "hfe_min" in fields else "hfe_max"
         raise r.fail(f"transistor.{only}", t.get(only), "give both hfe_min and hfe_max (or one hfe)")
@@ -312,6 +335,8 @@ def _parts(r: _Reader, data, topology) -> dict:
                 raise r.fail(key, raw, exc.why) from None
             if not (math.isfinite(value) and value > 0):
                 raise r.fail(key, raw, "must be positive")
+            if not REAL_RANGE[0] <= value <= REAL_RANGE[1]:
+                raise r.fail(key, raw, "is outside the range of real parts and circuits (check the prefix)")
         if polarized is None:
             polarized = unit == "F" and value >= POLARIZED_FROM
             if polarized:

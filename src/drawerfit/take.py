@@ -1,40 +1,40 @@
-"""Take the parts of a design or kit out of the stock file, safely, and put them back on request.
+"""Take the parts of a design or kit out of the stock file, safely.
 
 The stock file is the user's own record, so a take changes nothing but the quantity cells of the
 lines it uses, and only after every check has passed:
 
-1. a lock file beside the stock file (created with O_EXCL) keeps two takes apart;
-2. the file's checksum must equal the one recorded in the design or kit;
-3. every line must hold what the pick list asks of it;
-4. a timestamped copy of the file is written beside it before anything changes;
-5. an entry goes to the log beside the file (``<name>.takes.jsonl``) before the switch, with the
+1. the stock file must be a plain, writable file (through a symbolic link, the file it points to);
+2. a lock file beside it keeps two takes apart (``filesafe.FileLock``; a lock left by a process
+   that is gone from this machine is taken over, with a note);
+3. the file's checksum must equal the one recorded in the design or kit;
+4. every line must hold what the pick list asks of it;
+5. a timestamped copy of the file is written beside it before anything changes;
+6. an entry goes to the log beside the file (``<name>.takes.jsonl``) before the switch, with the
    checksums before and after, the backup's name and every cell changed;
-6. the new file is written to a temporary file in the same folder, flushed to disk, then put in
+7. the new file is written to a temporary file in the same folder, flushed to disk, then put in
    place with os.replace, which is atomic on one file system.
 
-``undo`` reverses the last take that reached the file: it checks that the file is byte for byte
-what that take left, then puts the backup back (or, if the backup is gone, writes the old cells).
+Any failure on the way (a full disk, say) leaves the stock file as it was, and no lock, backup or
+half-written file behind.  The log, the history and undo are in ``drawerfit.history``.
 """
 
 from __future__ import annotations
 
-import datetime as _dt
 import json
+import math
 import os
-import shutil
-import tempfile
 from dataclasses import dataclass, field
 from pathlib import Path
 
+from .constants import MAX_TEXT_INPUT_BYTES
+from .filesafe import (BACKUP_TAG, LOCK_SUFFIX, LOG_SUFFIX, FileLock, FileRefused, append_line, atomic_write,
+                       check_replaceable, create_new, io_message, read_limited, real_target, stamp)
 from .parts import StockError
 from .stock.readers import file_checksum  # the same checksum the loader records in Stock.checksum
 
 __all__ = ["PickEntry", "TakePlan", "Change", "TakeResult", "read_pick_list", "plan_take", "take",
-           "undo", "log_path", "lock_path", "file_checksum", "pick_entries"]
-
-LOG_SUFFIX = ".takes.jsonl"
-LOCK_SUFFIX = ".take-lock"
-BACKUP_TAG = ".backup-"
+           "undo", "log_path", "lock_path", "file_checksum", "pick_entries", "TakeError", "format_result",
+           "read_log", "history"]
 
 
 class TakeError(StockError):
@@ -103,12 +103,13 @@ class TakeResult:
 
 
 def log_path(stock_file: str | os.PathLike) -> Path:
-    p = Path(stock_file)
+    """The log of takes, beside the real stock file (a link's takes are the file's takes)."""
+    p = real_target(stock_file)
     return p.with_name(p.name + LOG_SUFFIX)
 
 
 def lock_path(stock_file: str | os.PathLike) -> Path:
-    p = Path(stock_file)
+    p = real_target(stock_file)
     return p.with_name(p.name + LOCK_SUFFIX)
 
 
@@ -118,10 +119,7 @@ def lock_path(stock_file: str | os.PathLike) -> Path:
 def read_pick_list(path: str | os.PathLike) -> PickList:
     """The pick list of a saved design (TOML) or kit (JSON)."""
     p = Path(path)
-    try:
-        raw = p.read_bytes()
-    except OSError as exc:
-        raise TakeError(f"{p}: cannot read ({exc.strerror})") from None
+    raw = read_limited(p, MAX_TEXT_INPUT_BYTES, TakeError, "design or kit file")
     if p.suffix.lower() == ".toml":
         import tomllib
 
@@ -132,8 +130,8 @@ def read_pick_list(path: str | os.PathLike) -> PickList:
     else:
         try:
             doc = json.loads(raw.decode("utf-8-sig"))
-        except (json.JSONDecodeError, UnicodeDecodeError) as exc:
-            raise TakeError(f"{p}: not a readable JSON file ({exc})") from None
+        except (ValueError, RecursionError) as exc:
+            raise TakeError(f"{p}: not a readable JSON file ({str(exc)[:200]})") from None
     if not isinstance(doc, dict):
         raise TakeError(f"{p}: expected a table with 'units', 'stock_checksum' and 'pick_list'")
     for key in ("units", "stock_checksum", "pick_list"):
@@ -141,11 +139,18 @@ def read_pick_list(path: str | os.PathLike) -> PickList:
             raise TakeError(f"{p}: no {key!r} in the file; save the design or kit again with this version")
     units = doc["units"]
     if isinstance(units, bool) or not isinstance(units, int) or units < 1:
-        raise TakeError(f"{p}: 'units' must be a whole number of at least 1, not {units!r}")
+        raise TakeError(f"{p}: 'units' must be a whole number of at least 1, not {_short(units)}")
+    if not isinstance(doc["stock_checksum"], str):
+        raise TakeError(f"{p}: 'stock_checksum' must be text, not {_short(doc['stock_checksum'])}")
     if not isinstance(doc["pick_list"], list):
         raise TakeError(f"{p}: 'pick_list' must be a list of entries")
     entries = pick_entries(doc["pick_list"], units, str(p))
-    return PickList(str(p), units, str(doc["stock_checksum"]), entries)
+    return PickList(str(p), units, doc["stock_checksum"], entries)
+
+
+def _short(value: object, limit: int = 60) -> str:
+    text = repr(value)
+    return text if len(text) <= limit else text[:limit] + "…"
 
 
 def pick_entries(items: list, units: int, where_file: str) -> tuple[PickEntry, ...]:
@@ -158,18 +163,21 @@ def pick_entries(items: list, units: int, where_file: str) -> tuple[PickEntry, .
             row = src["row"]
             count = e["count"]
             per_unit = e.get("per_unit", count / units)
+            sheet = src.get("sheet") or None  # TOML has no null: a CSV's sheet may be written "" or left out
         except (KeyError, TypeError, AttributeError):
             raise TakeError(f"{where}: needs 'source' (with 'row'), 'count' and 'per_unit'") from None
         if isinstance(row, bool) or not isinstance(row, int) or row < 1:
-            raise TakeError(f"{where}: 'row' must be a row number, not {row!r}")
+            raise TakeError(f"{where}: 'row' must be a row number, not {_short(row)}")
         if isinstance(count, bool) or not isinstance(count, int) or count < 0:
-            raise TakeError(f"{where}: 'count' must be a whole number of parts, not {count!r}")
-        if isinstance(per_unit, bool) or not isinstance(per_unit, (int, float)) or per_unit < 0:
-            raise TakeError(f"{where}: 'per_unit' must be a number, not {per_unit!r}")
-        sheet = src.get("sheet") or None  # TOML has no null: a CSV's sheet may be written "" or left out
+            raise TakeError(f"{where}: 'count' must be a whole number of parts, not {_short(count)}")
+        if isinstance(per_unit, bool) or not isinstance(per_unit, (int, float)) or not math.isfinite(per_unit) \
+                or per_unit < 0:
+            raise TakeError(f"{where}: 'per_unit' must be a number, not {_short(per_unit)}")
+        if sheet is not None and not isinstance(sheet, str):
+            raise TakeError(f"{where}: 'sheet' must be a sheet name, not {_short(sheet)}")
         entries.append(PickEntry(sheet=sheet, row=row, per_unit=float(per_unit), count=count,
-                                 part=str(e.get("part", "")), location=str(e.get("location", "")),
-                                 file=str(src.get("file", ""))))
+                                 part=str(e.get("part", ""))[:200], location=str(e.get("location", ""))[:200],
+                                 file=str(src.get("file", ""))[:400]))
     return tuple(entries)
 
 
@@ -291,253 +299,153 @@ def _delimiter_for(data: bytes, changes, guess: bytes) -> bytes:
     return guess
 
 
-def _atomic_write(path: Path, data: bytes) -> None:
-    """Write ``data`` over ``path`` all at once: temp file in the same folder, fsync, os.replace."""
-    folder = path.parent
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=folder)
+def target_of(stock_file: str | os.PathLike) -> Path:
+    """The real stock file behind ``stock_file``, if take may replace it (else TakeError)."""
     try:
-        with os.fdopen(fd, "wb") as f:
-            f.write(data)
-            f.flush()
-            os.fsync(f.fileno())
-        try:
-            shutil.copymode(path, tmp)
-        except OSError:
-            pass
-        os.replace(tmp, path)
-    except BaseException:
-        try:
-            os.unlink(tmp)
-        except OSError:
-            pass
-        raise
-    _fsync_dir(folder)
+        return check_replaceable(stock_file, "stock file")
+    except FileRefused as exc:
+        raise TakeError(str(exc)) from None
 
 
-def _fsync_dir(folder: Path) -> None:
+def locked(target: Path) -> FileLock:
+    """The take lock of a stock file, acquired (TakeError when another take holds it)."""
+    lock = FileLock(target)
     try:
-        dfd = os.open(folder, os.O_RDONLY)
-    except OSError:
-        return
-    try:
-        os.fsync(dfd)
-    except OSError:
-        pass
-    finally:
-        os.close(dfd)
+        return lock.acquire()
+    except FileRefused as exc:
+        raise TakeError(str(exc)) from None
 
 
-def _stamp() -> str:
-    return _dt.datetime.now(_dt.timezone.utc).strftime("%Y%m%dT%H%M%S.%fZ")
-
-
-def _write_backup(path: Path, data: bytes, stamp: str) -> Path:
-    """A copy of the file's bytes beside it, never over an existing file."""
+def write_backup(target: Path, data: bytes, when: str) -> Path:
+    """A copy of the file's bytes beside it, never over an existing file; whole or absent."""
     n = 0
     while True:
-        name = f"{path.name}{BACKUP_TAG}{stamp}{'' if n == 0 else f'-{n}'}"
-        backup = path.with_name(name)
+        backup = target.with_name(f"{target.name}{BACKUP_TAG}{when}{'' if n == 0 else f'-{n}'}")
         try:
-            fd = os.open(backup, os.O_WRONLY | os.O_CREAT | os.O_EXCL, 0o644)
+            create_new(backup, data)
+            return backup
         except FileExistsError:
             n += 1
-            continue
-        with os.fdopen(fd, "wb") as f:
-            f.write(data)
-            f.flush()
-            os.fsync(f.fileno())
-        _fsync_dir(path.parent)
-        return backup
 
 
-def _append_log(path: Path, entry: dict) -> None:
-    log = log_path(path)
-    with open(log, "a", encoding="utf-8", newline="\n") as f:
-        f.write(json.dumps(entry, ensure_ascii=False) + "\n")
-        f.flush()
-        os.fsync(f.fileno())
+def append_log(target: Path, entry: dict) -> None:
+    append_line(log_path(target), json.dumps(entry, ensure_ascii=False))
 
 
-def read_log(stock_file: str | os.PathLike) -> list[dict]:
-    log = log_path(stock_file)
-    if not log.exists():
-        return []
-    entries = []
-    for n, text in enumerate(log.read_text(encoding="utf-8").splitlines(), start=1):
-        if not text.strip():
-            continue
-        try:
-            entries.append(json.loads(text))
-        except json.JSONDecodeError:
-            raise TakeError(f"{log}, line {n}: the log of takes is damaged; fix or remove that line") from None
-    return entries
+def commit(target: Path, old: bytes, new: bytes, entry: dict, doing: str) -> Path:
+    """Back up, log, and switch the stock file to ``new``; returns the backup.
 
-
-class _Lock:
-    """A lock file beside the stock file, created with O_EXCL: one take at a time."""
-
-    def __init__(self, stock_file: Path):
-        self.path = lock_path(stock_file)
-        self.held = False
-
-    def __enter__(self):
-        try:
-            fd = os.open(self.path, os.O_WRONLY | os.O_CREAT | os.O_EXCL, 0o644)
-        except FileExistsError:
-            holder = ""
+    On any failure before the switch the backup is removed, the entry is marked aborted (or cut
+    out of the log when even that cannot be written), and TakeError says the file is unchanged.
+    """
+    backup = None
+    logged = False
+    try:
+        backup = write_backup(target, old, entry["id"])
+        entry["backup"] = backup.name
+        append_log(target, entry)
+        logged = True
+        atomic_write(target, new)
+    except BaseException as exc:
+        if backup is not None:
             try:
-                holder = self.path.read_text(encoding="utf-8").strip()
+                os.unlink(backup)
             except OSError:
                 pass
-            gone = ""
+        if logged:
             try:
-                pid = int(holder.split()[1]) if holder.startswith("pid ") else None
-                if pid is not None:
-                    os.kill(pid, 0)
-            except ProcessLookupError:
-                gone = f" The process that took it (pid {pid}) is no longer running on this machine."
-            except (ValueError, IndexError, PermissionError, OSError):
-                pass
-            raise TakeError(
-                f"{self.path}: another take holds the lock ({holder or 'no details'}); nothing changed.{gone} If no"
-                " take is running (one was killed), delete that lock file and try again") from None
-        with os.fdopen(fd, "w", encoding="utf-8") as f:
-            f.write(f"pid {os.getpid()} since {_stamp()}\n")
-        self.held = True
-        return self
-
-    def __exit__(self, *exc):
-        if self.held:
-            try:
-                os.unlink(self.path)
+                append_log(target, {"id": stamp(), "action": "aborted", "when": stamp(), "take": entry["id"],
+                                    "why": f"{type(exc).__name__}: {exc}"})
             except OSError:
-                pass
-            self.held = False
-        return False
+                pass  # the file still matches checksum_before, which marks the entry as never landed
+        if isinstance(exc, OSError):
+            raise TakeError(f"{target}: could not {doing} ({io_message(exc)}); the stock file is unchanged and"
+                            " nothing was left behind") from None
+        raise
+    return backup
 
 
 def take(pick_file: str | os.PathLike, stock_file: str | os.PathLike, *, units: int | None = None,
          dry_run: bool = False) -> TakeResult:
     """Subtract a pick list from the stock file, or (dry run) only say what would change."""
-    path = Path(stock_file)
     pick = read_pick_list(pick_file)
+    target = target_of(stock_file)
     if dry_run:
-        plan = plan_take(pick, path, units)
+        plan = plan_take(pick, target, units)
         return TakeResult(plan, None, None, None, dry_run=True)
-    with _Lock(path):
-        data = _read(path)
-        plan = plan_take(pick, path, units, data=data)
+    lock = locked(target)
+    try:
+        notes = (lock.note,) if lock.note else ()
+        data = _read(target)
+        plan = plan_take(pick, target, units, data=data)
         if not plan.changes:
-            return TakeResult(plan, None, None, plan.checksum, notes=("the pick list takes nothing",))
-        new = _new_bytes(path, data, plan.changes)
-        stamp = _stamp()
-        backup = _write_backup(path, data, stamp)
+            return TakeResult(plan, None, None, plan.checksum, notes=notes + ("the pick list takes nothing",))
+        new = _new_bytes(target, data, plan.changes)
+        when = stamp()
         entry = {
-            "id": stamp,
+            "id": when,
             "action": "take",
-            "when": stamp,
+            "when": when,
             "from": str(pick_file),
-            "stock_file": path.name,
+            "stock_file": target.name,
             "units": plan.units,
             "checksum_before": plan.checksum,
             "checksum_after": file_checksum(new),
-            "backup": backup.name,
+            "backup": None,
             "changes": [c.to_dict() for c in plan.changes],
         }
         # The entry goes in before the switch: a crash after it leaves a file that still matches
         # checksum_before, and undo knows such a take never landed.
-        _append_log(path, entry)
-        try:
-            _atomic_write(path, new)
-        except BaseException as exc:
-            _append_log(path, {"id": _stamp(), "action": "aborted", "when": _stamp(), "take": stamp,
-                               "why": f"{type(exc).__name__}: {exc}"})
-            if isinstance(exc, OSError):
-                raise TakeError(f"{path}: could not write the new file ({exc}); the file is unchanged"
-                                f" and a copy is in {backup.name}") from None
-            raise
-        return TakeResult(plan, str(backup), str(log_path(path)), entry["checksum_after"])
+        backup = commit(target, data, new, entry, "write the new stock file")
+        return TakeResult(plan, str(backup), str(log_path(target)), entry["checksum_after"], notes=notes)
+    finally:
+        lock.release()
 
 
 def undo(stock_file: str | os.PathLike, *, dry_run: bool = False) -> TakeResult:
-    """Reverse the last take that reached the stock file, if the file is exactly what it left."""
-    path = Path(stock_file)
-    with _Lock(path) if not dry_run else _NoLock():
-        entries = read_log(path)
-        finished = {e.get("take") for e in entries if e.get("action") in ("undo", "aborted")}
-        takes = [e for e in entries if e.get("action") == "take" and e.get("id") not in finished]
-        data = _read(path)
-        current = file_checksum(data)
-        notes = []
-        while takes and takes[-1].get("checksum_before") == current and takes[-1].get("checksum_after") != current:
-            t = takes.pop()  # logged but never reached the file (interrupted before the switch)
-            notes.append(f"the take of {t['when']} never reached the file; skipped")
-            if not dry_run:
-                _append_log(path, {"id": _stamp(), "action": "aborted", "when": _stamp(), "take": t["id"],
-                                   "why": "found at undo: the file still matched its checksum before"})
-        if not takes:
-            raise TakeError(f"{log_path(path)}: no take to undo for {path}")
-        t = takes[-1]
-        if t.get("checksum_after") != current:
-            raise TakeError(
-                f"{path}: the file is not what the take of {t['when']} left (it was edited since), so undo"
-                f" would lose those edits; nothing changed. The file as it was before that take is in"
-                f" {t.get('backup')}")
-        changes = tuple(Change(c["sheet"], c["row"], c["column"], c["old_qty"], c["new_qty"], c.get("part", ""),
-                               c.get("location", "")) for c in t["changes"])
-        backup_bytes = None
-        bpath = path.with_name(t["backup"]) if t.get("backup") else None
-        if bpath is not None and bpath.exists():
-            b = bpath.read_bytes()
-            if file_checksum(b) == t.get("checksum_before"):
-                backup_bytes = b
-        if backup_bytes is None:
-            # backup gone or altered: write the old quantities back into the cells
-            backup_bytes = _new_bytes(path, data, changes, use_old=True)
-            if not path.suffix.lower().startswith(".xls") and file_checksum(backup_bytes) != t.get("checksum_before"):
-                raise TakeError(f"{path}: cannot rebuild the file as it was before the take of {t['when']}; nothing changed")
-            notes.append("the backup was missing or altered; the old quantities were written back instead")
-        plan = TakePlan(str(path), int(t.get("units", 0)), changes, current)
-        if dry_run:
-            return TakeResult(plan, None, None, None, dry_run=True, undone=t["id"], notes=tuple(notes))
-        stamp = _stamp()
-        backup = _write_backup(path, data, stamp)
-        entry = {"id": stamp, "action": "undo", "when": stamp, "take": t["id"], "stock_file": path.name,
-                 "checksum_before": current, "checksum_after": file_checksum(backup_bytes),
-                 "backup": backup.name}
-        _atomic_write(path, backup_bytes)
-        _append_log(path, entry)
-        return TakeResult(plan, str(backup), str(log_path(path)), entry["checksum_after"], undone=t["id"],
-                          notes=tuple(notes))
+    """Reverse the last take that reached the stock file (see ``history.undo_takes``)."""
+    from .history import undo_takes
+
+    return undo_takes(stock_file, dry_run=dry_run)[-1]
 
 
-class _NoLock:
-    def __enter__(self):
-        return self
+def read_log(stock_file: str | os.PathLike) -> list[dict]:
+    from .history import read_log as _read_log
 
-    def __exit__(self, *exc):
-        return False
+    return _read_log(stock_file)
+
+
+def history(stock_file: str | os.PathLike):
+    from .history import history as _history
+
+    return _history(stock_file)
 
 
 def format_result(result: TakeResult) -> str:
-    """What a take or undo did (or would do), for people."""
+    """What a take or undo did (or would do), for people: one aligned row per quantity cell."""
+    from .texttable import text_table
+
     plan = result.plan
-    lines = []
-    if result.undone is not None:
+    name = Path(plan.stock_file).name
+    undoing = result.undone is not None
+    if undoing:
         head = "would put back" if result.dry_run else "put back"
-        lines.append(f"{head} the take {result.undone} on {plan.stock_file}:")
-        for c in plan.changes:
-            lines.append(f"  {c.where(Path(plan.stock_file).name)}  {c.part:>10}  {c.location or '-':<8}"
-                         f"  {c.new_qty} -> {c.old_qty}")
+        lines = [f"{head} the take {result.undone} on {plan.stock_file}:"]
     else:
         head = "would take" if result.dry_run else "took"
-        lines.append(f"{head} parts for {plan.units} unit(s) from {plan.stock_file}:")
-        for c in plan.changes:
-            lines.append(f"  {c.where(Path(plan.stock_file).name)}  {c.part:>10}  {c.location or '-':<8}"
-                         f"  {c.old_qty} -> {c.new_qty}  (-{c.old_qty - c.new_qty})")
+        lines = [f"{head} parts for {plan.units} unit(s) from {plan.stock_file}:"]
+    sheets = any(c.sheet for c in plan.changes)
+    rows = []
+    for c in plan.changes:
+        before, after = (c.new_qty, c.old_qty) if undoing else (c.old_qty, c.new_qty)
+        row = [c.sheet or ""] if sheets else []
+        rows.append(row + [c.row, c.part, c.location or "-", f"{before} -> {after}", f"{after - before:+d}"])
+    header = (["sheet"] if sheets else []) + ["row", "part", "bin", "quantity", "change"]
+    align = ("<" if sheets else "") + "><<>>"
+    lines += text_table(header, rows, align)
     lines.extend(f"note: {n}" for n in result.notes)
     if result.dry_run:
-        lines.append("dry run: the stock file was not changed")
+        lines.append(f"dry run: {name} was not changed")
     else:
         if result.backup:
             lines.append(f"backup: {Path(result.backup).name}")

@@ -12,6 +12,8 @@ import re
 from dataclasses import dataclass
 from fractions import Fraction
 
+from .constants import MAX_VALUE_CHARS
+
 __all__ = [
     "ValueError_",
     "ValueParseError",
@@ -127,7 +129,10 @@ def parse_quantity(text: object, expect: str | None = None) -> Quantity:
             raise ValueParseError(str(text), "not a finite number")
         return Quantity(float(text), expect)
     if not isinstance(text, str):
-        raise ValueParseError(str(text))
+        raise ValueParseError(str(text)[:MAX_VALUE_CHARS])
+    if len(text) > MAX_VALUE_CHARS:
+        # nothing that long is a value, and reading it would take time that grows with its square
+        raise ValueParseError(text[:MAX_VALUE_CHARS] + "…", f"too long to be a value ({len(text):,} characters)")
     original = text
     s = re.sub(r"\s+", "", text)
     if s.count(",") == 1 and "." not in s:  # decimal comma: '4,7k'
@@ -136,6 +141,10 @@ def parse_quantity(text: object, expect: str | None = None) -> Quantity:
     if not s:
         raise ValueParseError(original, "empty")
     q = _parse_compact(s, original)
+    if not math.isfinite(q.value):
+        raise ValueParseError(original, "too large for a number")
+    if q.value == 0.0 and re.search(r"[1-9]", re.split(r"[eE]", s)[0]):
+        raise ValueParseError(original, "too small for a number")
     if q.unit is None and expect is not None:
         q = Quantity(q.value, expect)
     return _check_unit(q, expect, original)
@@ -227,6 +236,7 @@ def parse_value(text: object, expect: str | None = None) -> float:
 
 def parse_tolerance(text: object) -> float:
     """A tolerance as a fraction: '5%', '±1 %', '0.05', 5 (a bare number above 1 is a percent)."""
+    percent = False
     if isinstance(text, (int, float)) and not isinstance(text, bool):
         t = float(text)
     else:
@@ -236,13 +246,13 @@ def parse_tolerance(text: object) -> float:
         q = parse_quantity(s)
         if q.unit not in (None, "%"):
             raise ValueParseError(str(text), "a tolerance is a percentage or a fraction")
-        t = q.value
+        t, percent = q.value, q.unit == "%"
     if not math.isfinite(t) or t < 0:
         raise ValueParseError(str(text), "a tolerance must be zero or more")
-    if t >= 1.0:  # '5' in a tolerance column means 5 %
+    if t >= 1.0 and not percent:  # '5' in a tolerance column means 5 %; '5 %' is already a fraction
         t = t / 100.0
     if t >= 1.0:
-        raise ValueParseError(str(text), "a tolerance must be below 100 %")
+        raise ValueParseError(str(text), f"{t * 100:g} % is not below 100 %")
     return t
 
 

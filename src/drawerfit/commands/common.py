@@ -18,9 +18,23 @@ def load_stock_reporting(path: str, strict: bool) -> Stock:
 
 
 def report_problems(stock: Stock) -> None:
-    for p in stock.problems:
+    """Each line skipped and each note, on stderr, in the one form every command uses."""
+    report_problem_list(stock.problems)
+
+
+def report_problem_list(problems) -> None:
+    for p in problems:
         tag = "skipped" if p.severity == "error" else "note"
         click.echo(f"drawerfit: {tag}: {p}", err=True)
+
+
+def stock_summary(stock: Stock, kind: str | None = None, assumptions: bool = True) -> list[str]:
+    """The lines every command's summary ends with (stdout): warnings about what changes results,
+    then the defaults applied (to lines of ``kind`` only, when given)."""
+    out = [f"warning: {w}" for w in stock.warnings]
+    if assumptions:
+        out += [f"assumed: {a}" for a in stock.assumptions if kind is None or f" {kind} line" in a]
+    return out
 
 
 def part_json(line: StockLine) -> dict:

@@ -214,10 +214,9 @@ def saved_design(result, spec, stock, stock_file: str) -> dict:
 def _write_toml(path: Path, doc: dict) -> None:
     import tomli_w
 
-    tmp = path.with_name(path.name + ".tmp")
-    with open(tmp, "wb") as fh:
-        tomli_w.dump(doc, fh)
-    os.replace(tmp, path)
+    from ..filesafe import atomic_write
+
+    atomic_write(path, tomli_w.dumps(doc))
 
 
 # --- text for people ----------------------------------------------------------------------------
@@ -236,6 +235,7 @@ def _print_choice(result, spec, analysis, cautions, quiet: bool) -> None:
     click.echo(f"  Q1   {tr.label}  [{tr.location or '-'}; row {tr.source.row}]  hFE {tr.hfe_min:g}..{tr.hfe_max:g}")
     click.echo(f"  {'role':4} {'value':>9}  {'arrangement':15} {'tol':>5} {'rating':>7} {'dissip.':>9}  parts (bin; row)")
     wc = analysis.worst if analysis is not None else None
+    checks = {ch.name: ch for ch in analysis.checks} if analysis is not None else {}
     for role, c in best.roles.items():
         eq = c.equivalent
         kind = eq.kind
@@ -248,7 +248,10 @@ def _print_choice(result, spec, analysis, cautions, quiet: bool) -> None:
         click.echo(f"  {role:4} {format_si(eq.value, _UNIT[kind], 4):>9}  {eq.describe() if eq.part_count > 1 else eq.arrangement:15}"
                    f" {c.tolerance * 100:4.1f}% {rating_text(kind, c.rating):>7} {dis:>9}  {parts}")
         if c.orientation:
-            click.echo(f"       polarized: fit with {c.orientation} (DC across it stays one sign over the box)")
+            # the words of the stage's own polarity check, as `analyze` prints them
+            check = checks.get(f"{role} polarity")
+            how = check.message if check is not None else c.orientation.replace("+ to", "fit the + end toward")
+            click.echo(f"       polarized: {how}")
     click.echo("")
     click.echo("Binding constraints (smallest worst-case margins):")
     for b in binding(best):
@@ -332,6 +335,7 @@ def run_design(spec_file: str, stock_file: str, *, units: int = 1, max_parts: in
 
     from ..stock import load_stock
 
+    _check_outputs(spec_file, stock_file, save, report)
     stock = load_stock(stock_file, strict=strict)
     if not quiet:
         report_problems(stock)
@@ -340,20 +344,23 @@ def run_design(spec_file: str, stock_file: str, *, units: int = 1, max_parts: in
     result = design(problem, stock, top=top, exhaustive=exhaustive)
     if not result.feasible:
         if as_json:
-            emit_json(design_json(result, spec))
+            emit_json({**design_json(result, spec), "warnings": list(stock.warnings)})
         else:
             _print_infeasible(result)
+            _print_stock_summary(stock, quiet)
         raise NoDesignError(result.reason)
     analysis = _analysis(problem, spec, result.best)
     cautions = cautions_for(analysis, mains=spec.mains)
     if as_json:
         data = design_json(result, spec, analysis, cautions)
         data["stock_checksum"] = stock.checksum
+        data["warnings"] = list(stock.warnings)
         emit_json(data)
         for c in cautions:
             click.echo(f"caution: {c.text}", err=True)
     else:
         _print_choice(result, spec, analysis, cautions, quiet)
+        _print_stock_summary(stock, quiet)
     if save is not None or report is not None:
         target = Path(save) if save is not None else None
         if target is None:
@@ -361,23 +368,38 @@ def run_design(spec_file: str, stock_file: str, *, units: int = 1, max_parts: in
 
             tmpdir = tempfile.mkdtemp(prefix="drawerfit-")
             target = Path(tmpdir) / "design.toml"
-        _check_not_input(target, spec_file, stock_file)
         _write_toml(target, saved_design(result, spec, stock, stock_file))
         if save is not None and not as_json:
             click.echo(f"saved: {target}")
         if report is not None:
             from ..report.html import write_report
 
-            _check_not_input(Path(report), spec_file, stock_file)
             write_report(str(target), report, stock_file=stock_file)
             if not as_json:
                 click.echo(f"report: {report}")
 
 
-def _check_not_input(path: Path, *inputs: str) -> None:
-    for p in inputs:
-        if Path(p).exists() and path.exists() and os.path.samefile(p, path):
-            raise SpecError(f"{path}: will not write over an input file")
+def _print_stock_summary(stock, quiet: bool) -> None:
+    from .common import stock_summary
+
+    lines = stock_summary(stock, assumptions=not quiet)
+    if lines:
+        click.echo("")
+        for line in lines:
+            click.echo(line)
+
+
+def _check_outputs(spec_file: str, stock_file: str, save: str | None, report: str | None) -> None:
+    """Before any work: neither --save nor --report may land on an input, or on each other."""
+    from ..filesafe import check_output
+
+    inputs = [spec_file, stock_file]
+    if save is not None and report is not None and Path(save).resolve() == Path(report).resolve():
+        raise SpecError(f"{save}: --save and --report need different files")
+    if save is not None:
+        check_output(save, inputs, "design")
+    if report is not None:
+        check_output(report, inputs + ([save] if save else []), "report")
 
 
 # --- demo -----------------------------------------------------------------------------------

@@ -6,7 +6,7 @@ import click
 
 from ..parts import StockError
 from ..values import Quantity, format_code, format_si
-from .common import load_stock_reporting, part_json, part_text, rating_text
+from .common import load_stock_reporting, part_json, rating_text, stock_summary
 
 
 def run_match(value: Quantity, stock_file: str, *, within, max_parts, power, voltage, units, top, as_json, strict,
@@ -26,6 +26,9 @@ def run_match(value: Quantity, stock_file: str, *, within, max_parts, power, vol
         rating = voltage.value if voltage is not None else None
     elif voltage is not None:
         raise StockError("match: --voltage applies to capacitors; use --power for resistors")
+    if not (_SMALLEST <= value.value <= _LARGEST):
+        raise StockError(f"match: {value.value:g} {'Ω' if unit == 'ohm' else 'F'} is outside the range of real parts;"
+                         " check the prefix")
     stock = load_stock_reporting(stock_file, strict)
     lines = stock.of_kind(kind)
     window = DEFAULT_WINDOW if within is None else within
@@ -43,13 +46,21 @@ def run_match(value: Quantity, stock_file: str, *, within, max_parts, power, vol
                 "part_count": c.equivalent.part_count, "within": c.within, "tolerance": c.equivalent.tolerance,
                 rating_key: c.equivalent.rating, "describe": c.equivalent.describe(),
                 "parts": [part_json(m) for m in c.equivalent.members],
+                "on_hand": [{"part": part_json(h.line), "count": h.on_hand,
+                             "bins": [{**part_json(b), "qty": b.qty} for b in h.bins]} for h in c.holdings],
+                "take": [{**part_json(b), "count": n} for b, n in c.draws],
                 "warnings": _warnings(c.equivalent),
             } for c in result.candidates],
+            "warnings": list(stock.warnings),
             "assumptions": list(stock.assumptions),
             "problems": [p.to_dict() for p in stock.problems],
         })
         return
     _print_table(result, kind, unit, rating, stock)
+
+
+# Values outside these are no part anybody stocks (a prefix typed wrong): refused rather than searched.
+_SMALLEST, _LARGEST = 1e-15, 1e15
 
 
 def _warnings(eq) -> list[str]:
@@ -60,29 +71,64 @@ def _warnings(eq) -> list[str]:
     return out
 
 
+def _error_text(err: float) -> str:
+    """'+0.25 %', and for results far off '×3.2' (a percentage of thousands says nothing)."""
+    return f"{err * 100:+.2f} %" if abs(err) < 10 else f"×{1 + err:.3g}"
+
+
+def _bin(line, n: int) -> str:
+    return f"{line.location or 'row ' + str(line.source.row)} ×{n}"
+
+
+def _on_hand(c, unit: str) -> str:
+    """'43 in A1 ×20, A2 ×10, A3 ×5, A4 ×8', per part the equivalent uses."""
+    parts = []
+    for h in c.holdings:
+        bins = ", ".join(_bin(b, b.qty) for b in h.bins)
+        name = f"{format_code(h.line.value, unit)}: " if len(c.holdings) > 1 else ""
+        parts.append(f"{name}{h.on_hand} in {bins}")
+    return "; ".join(parts)
+
+
+def _rows(cands, kind, unit, start: int | None):
+    rows = []
+    for n, c in enumerate(cands, start or 1):
+        eq = c.equivalent
+        rows.append([n if start else "", format_si(eq.value, unit, 4), _error_text(c.error),
+                     f"{eq.tolerance * 100:.1f} %", rating_text(kind, eq.rating), eq.describe(), _on_hand(c, unit)])
+    return rows
+
+
 def _print_table(result, kind, unit, rating, stock) -> None:
+    from ..texttable import text_table
+
     need = f", at least {rating_text(kind, rating)}" if rating else ""
     per = f" for {result.units} units" if result.units > 1 else ""
+    window = f"±{result.within * 100:g} %"
     click.echo(f"Target {format_si(result.target, unit)} ({format_code(result.target, unit)}) "
-               f"within ±{result.within * 100:g} %{need}{per}; up to {result.max_parts} parts")
-    if not result.candidates:
+               f"within {window}{need}{per}; up to {result.max_parts} parts")
+    header = ["#", "makes", "error", "tol", "rating", "made of", "on hand (bins)"]
+    align = ">>>>><<"
+    inside, outside = result.inside, result.outside
+    if inside:
+        lines = text_table(header, _rows(inside, kind, unit, 1), align)
+        click.echo(lines[0])
+        for c, line in zip(inside, lines[1:]):
+            click.echo(line)
+            if result.units > 1:
+                click.echo(f"       take for {result.units} units: {', '.join(_bin(b, n) for b, n in c.draws)}")
+            for w in _warnings(c.equivalent):
+                click.echo(f"       caution: {w}")
+    else:
+        what = f"nothing in the drawer makes it within {window}{need}{per}"
+        click.echo(f"  {what} (pooling every bin of each part)" if result.units > 1 else f"  {what}")
+    if outside:
+        click.echo(f"  Nearest outside the {window} window (not substitutes at that window; widen --within to"
+                   " accept one):")
+        for line in text_table(header[1:], [r[1:] for r in _rows(outside, kind, unit, None)], align[1:],
+                               indent="    "):
+            click.echo(line)
+    if not inside and not outside:
         click.echo("  nothing in the drawer can be used (check the stock quantities and ratings)")
-        return
-    header = f"  {'':2} {'makes':>10} {'error':>8}  {'tol':>5}  {'rating':>8}  arrangement"
-    click.echo(header)
-    shown_outside = False
-    for n, c in enumerate(result.candidates, 1):
-        eq = c.equivalent
-        if not c.within and not shown_outside:
-            click.echo("  -- outside the window --")
-            shown_outside = True
-        parts = ", ".join(part_text(m) for m in eq.members)
-        click.echo(f"  {n:>2} {format_si(eq.value, unit, 4):>10} {c.error * 100:+7.2f}%  {eq.tolerance * 100:4.1f}%"
-                   f"  {rating_text(kind, eq.rating):>8}  {eq.describe()}  [{eq.arrangement}: {parts}]")
-        for w in _warnings(eq):
-            click.echo(f"       caution: {w}")
-    if not any(c.within for c in result.candidates):
-        click.echo("  no equivalent lies inside the window; the nearest are listed")
-    for a in stock.assumptions:
-        if f" {kind} line" in a:
-            click.echo(f"  assumed: {a}")
+    for line in stock_summary(stock, kind):
+        click.echo(f"  {line}")

@@ -26,17 +26,19 @@ def run_report(design_file: str, output: str, *, stock_file: str | None, monte_c
 
 def run_export(design_file: str, *, netlist: str | None, bom: str | None, quiet: bool,
                stock_file: str | None = None) -> None:
+    from ..filesafe import atomic_write, check_output
     from ..report.bom import write_bom
     from ..report.export import design_netlist
-    from ..report.html import atomic_write, check_output_path, read_design
+    from ..report.html import design_inputs, read_design
 
     outputs = [Path(p) for p in (netlist, bom) if p]
     if netlist and bom and Path(netlist).resolve() == Path(bom).resolve():
         raise SpecError(f"{netlist}: the netlist and the parts list need different files")
-    for out in outputs:
-        check_output_path(out, design_file, stock_file)
-    if bom and Path(bom).suffix.lower() not in (".csv", ".xlsx"):
-        raise SpecError(f"{bom}: the parts list is written as .csv or .xlsx")
+    inputs = design_inputs(design_file, stock_file)
+    if netlist:
+        check_output(netlist, inputs, "netlist")
+    if bom:
+        check_output(bom, inputs, "bom")
     done = []
     with progress("export", total=1 + len(outputs), quiet=quiet) as tick:
         tick(0, note="reading the design")

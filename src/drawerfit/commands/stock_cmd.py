@@ -9,7 +9,7 @@ import click
 
 from ..parts import Stock
 from ..values import format_si
-from .common import load_stock_reporting
+from .common import load_stock_reporting, stock_summary
 
 UNIT = {"resistor": "ohm", "capacitor": "F"}
 
@@ -54,7 +54,7 @@ def run_stock(file: str, *, as_json: bool, strict: bool) -> None:
                          ic_max=ln.ic_max, pd=ln.pd, vbe=ln.vbe, vce_sat=ln.vce_sat)
             parts.append(d)
         emit_json({"parts": parts, "problems": [p.to_dict() for p in stock.problems],
-                   "assumptions": list(stock.assumptions), "summary": summary(stock),
+                   "warnings": list(stock.warnings), "assumptions": list(stock.assumptions), "summary": summary(stock),
                    "checksum": stock.checksum})
         return
     click.echo(f"{file}: {len(stock.lines)} stock lines")
@@ -71,5 +71,5 @@ def run_stock(file: str, *, as_json: bool, strict: bool) -> None:
     errors = [p for p in stock.problems if p.severity == "error"]
     if errors:
         click.echo(f"  {len(errors)} line(s) could not be read and were skipped (listed on stderr)")
-    for a in stock.assumptions:
-        click.echo(f"  assumed: {a}")
+    for line in stock_summary(stock):
+        click.echo(f"  {line}")

@@ -1,7 +1,9 @@
 """The parts list of a design (per unit and for N units) as rows, CSV or XLSX.
 
-Every text cell that a spreadsheet could take for a formula (starting with = + - @, a tab or a
-carriage return) is neutralised by a leading apostrophe, so opening the file runs nothing.
+Every text cell that a spreadsheet could take for a formula, or that hides what it starts with, is
+neutralised by a leading apostrophe, so opening the file runs nothing: cells starting with = + - @,
+with any white space or line break (tab, carriage return, line feed, space, no-break space), with a
+zero-width character, or with a full-width = + - @.
 Numbers (counts, SI values, stock rows) are written as numbers in XLSX.
 """
 
@@ -17,10 +19,13 @@ from ..values import format_code, format_si
 from .design_file import DesignFile
 
 __all__ = ["BomRow", "COLUMNS", "bom_rows", "neutralise", "write_bom", "write_bom_csv", "write_bom_xlsx",
-           "FORMULA_STARTS"]
+           "bom_csv_bytes", "bom_xlsx_bytes", "FORMULA_STARTS"]
 
-# A spreadsheet reads a cell starting with one of these as a formula (or a formula's prefix).
-FORMULA_STARTS = ("=", "+", "-", "@", "\t", "\r")
+# A spreadsheet reads a cell starting with one of these as a formula (or a formula's prefix), or may
+# drop the character and read what follows as one: white space and line breaks, the invisible
+# zero-width characters, and the full-width forms of = + - @ that some spreadsheets fold to ASCII.
+FORMULA_STARTS = ("=", "+", "-", "@", "\t", "\r", "\n", " ", "\u00a0", "\u200b", "\u200c", "\u200d", "\u2060",
+                  "\ufeff", "\uff1d", "\uff0b", "\uff0d", "\uff20")
 
 # (header, BomRow attribute); headers are what a person sees in the first row.
 COLUMNS = (
@@ -70,7 +75,7 @@ class BomRow:
 
 def neutralise(cell):
     """A text cell made safe for a spreadsheet: prefixed with ' when it could start a formula."""
-    if isinstance(cell, str) and cell.startswith(FORMULA_STARTS):
+    if isinstance(cell, str) and (cell.startswith(FORMULA_STARTS) or cell[:1].isspace()):
         return "'" + cell
     return cell
 
@@ -133,20 +138,23 @@ def _cells(row: BomRow) -> list:
     return [getattr(row, attr) for _, attr in COLUMNS]
 
 
-def write_bom_csv(design: DesignFile, out: str | Path) -> int:
-    """Write the parts list as CSV (UTF-8 with a byte-order mark, so spreadsheets read µ and Ω)."""
-    rows = bom_rows(design)
-    with open(out, "w", newline="", encoding="utf-8-sig") as fh:
-        w = csv.writer(fh)
-        w.writerow([neutralise(h) for h, _ in COLUMNS])
-        for row in rows:
-            w.writerow([neutralise("" if c is None else c if isinstance(c, str) else f"{c:.10g}"
-                                   if isinstance(c, float) else str(c)) for c in _cells(row)])
-    return len(rows)
+def bom_csv_bytes(design: DesignFile) -> bytes:
+    """The parts list as CSV (UTF-8 with a byte-order mark, so spreadsheets read µ and Ω)."""
+    import io
+
+    buf = io.StringIO(newline="")
+    w = csv.writer(buf)
+    w.writerow([neutralise(h) for h, _ in COLUMNS])
+    for row in bom_rows(design):
+        w.writerow([neutralise("" if c is None else c if isinstance(c, str) else f"{c:.10g}"
+                               if isinstance(c, float) else str(c)) for c in _cells(row)])
+    return buf.getvalue().encode("utf-8-sig")
 
 
-def write_bom_xlsx(design: DesignFile, out: str | Path) -> int:
-    """Write the parts list (and the pick list, when the design has one) as an XLSX workbook."""
+def bom_xlsx_bytes(design: DesignFile) -> bytes:
+    """The parts list (and the pick list, when the design has one) as an XLSX workbook."""
+    import io
+
     from openpyxl import Workbook
     from openpyxl.styles import Font
 
@@ -174,8 +182,9 @@ def write_bom_xlsx(design: DesignFile, out: str | Path) -> int:
         _text_only(pl)
         _fit_columns(pl)
         pl.freeze_panes = "A2"
-    wb.save(out)
-    return len(rows)
+    buf = io.BytesIO()
+    wb.save(buf)
+    return buf.getvalue()
 
 
 def _fit_columns(ws) -> None:
@@ -196,27 +205,25 @@ def _text_only(ws) -> None:
                 cell.data_type = "s"
 
 
+def write_bom_csv(design: DesignFile, out: str | Path) -> int:
+    from ..filesafe import atomic_write
+
+    atomic_write(out, bom_csv_bytes(design))
+    return len(bom_rows(design))
+
+
+def write_bom_xlsx(design: DesignFile, out: str | Path) -> int:
+    from ..filesafe import atomic_write
+
+    atomic_write(out, bom_xlsx_bytes(design))
+    return len(bom_rows(design))
+
+
 def write_bom(design: DesignFile, out: str | Path) -> int:
     """CSV or XLSX by the file's suffix, written atomically; returns the number of part rows."""
-    import os
-    import tempfile
-
     out = Path(out)
     suffix = out.suffix.lower()
     writer = {".csv": write_bom_csv, ".xlsx": write_bom_xlsx}.get(suffix)
     if writer is None:
         raise SpecError(f"{out}: the parts list is written as .csv or .xlsx, not {suffix or 'a file with no suffix'}")
-    # through a temporary file and a rename, so a failed run leaves no half-written list
-    fd, tmp = tempfile.mkstemp(prefix=".drawerfit-", suffix=suffix, dir=out.parent)
-    os.close(fd)
-    try:
-        rows = writer(design, tmp)
-        mask = os.umask(0)
-        os.umask(mask)
-        os.chmod(tmp, 0o666 & ~mask)
-        os.replace(tmp, out)
-    except BaseException:
-        if os.path.exists(tmp):
-            os.unlink(tmp)
-        raise
-    return rows
+    return writer(design, out)

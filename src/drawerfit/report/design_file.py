@@ -158,16 +158,19 @@ def load_design(path: str | Path, stock=None) -> DesignFile:
     """
     from ..spec import parse_spec
 
+    from ..constants import MAX_TEXT_INPUT_BYTES
+    from ..filesafe import read_limited
+
     path = str(path)
     try:
-        with open(path, "rb") as fh:
-            data = tomllib.load(fh)
-    except FileNotFoundError:
-        raise SpecError(f"{path}: no such file") from None
+        data = tomllib.loads(read_limited(path, MAX_TEXT_INPUT_BYTES, SpecError, "design").decode("utf-8-sig"))
+    except UnicodeDecodeError:
+        raise SpecError(f"{path}: not a text file (UTF-8 expected)") from None
     except tomllib.TOMLDecodeError as exc:
         raise SpecError(f"{path}: not valid TOML ({exc})") from None
-    except OSError as exc:
-        raise SpecError(f"{path}: cannot read ({exc.strerror})") from None
+    for key in ("stock_file", "stock_checksum"):
+        if key in data and not isinstance(data[key], str):
+            raise SpecError(f"{path}: {key}: must be text")
     spec = parse_spec({k: v for k, v in data.items() if k not in DESIGN_KEYS}, path, stock)
     stage = spec.stage()
     design = data.get("design", {})

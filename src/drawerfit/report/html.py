@@ -313,6 +313,7 @@ def render_report(design: DesignFile, *, monte_carlo: int = 2000, seed: int = 0,
     on_step(note="writing")
     doc = f"""<!DOCTYPE html>
 <html lang="en"><head><meta charset="utf-8">
+<meta name="generator" content="drawerfit {_e(__version__)}">
 <meta name="viewport" content="width=device-width, initial-scale=1">
 <title>{_e(title)} — drawerfit report</title>
 <style>{_CSS}</style></head>
@@ -353,32 +354,22 @@ def render_report(design: DesignFile, *, monte_carlo: int = 2000, seed: int = 0,
     return doc
 
 
-def atomic_write(path: Path, text: str) -> None:
-    """Write ``text`` to ``path`` through a temporary file and a rename: never half a file."""
-    import os
-    import tempfile
+def design_inputs(design_toml_path, stock_file=None) -> list[tuple[str, str]]:
+    """Every file a command over a saved design reads: the design, the stock file given, and the
+    stock file the design names (as written, and beside the design), so no output lands on one."""
+    import tomllib
 
-    fd, tmp = tempfile.mkstemp(prefix=".drawerfit-", suffix=path.suffix, dir=path.parent or ".")
+    inputs = [(str(design_toml_path), "the design")]
+    if stock_file:
+        inputs.append((str(stock_file), "the stock file given"))
     try:
-        with os.fdopen(fd, "w", encoding="utf-8") as fh:
-            fh.write(text)
-        mask = os.umask(0)
-        os.umask(mask)
-        os.chmod(tmp, 0o666 & ~mask)  # mkstemp makes 0600; give the file the usual mode
-        os.replace(tmp, path)
-    except BaseException:
-        if os.path.exists(tmp):
-            os.unlink(tmp)
-        raise
-
-
-def check_output_path(out: Path, *inputs) -> None:
-    """Refuse to write over an input file (the design or the stock), so nothing of the user's is lost."""
-    for inp in inputs:
-        if inp and Path(inp).exists() and out.exists() and out.resolve() == Path(inp).resolve():
-            raise SpecError(f"{out}: that is an input file; choose another output name")
-    if not out.parent.exists():
-        raise SpecError(f"{out}: the folder {out.parent} does not exist")
+        named = tomllib.loads(Path(design_toml_path).read_text(encoding="utf-8-sig")).get("stock_file")
+    except (OSError, UnicodeDecodeError, tomllib.TOMLDecodeError):
+        named = None
+    if isinstance(named, str) and named.strip():
+        role = f"the stock file that {Path(design_toml_path).name} names"
+        inputs += [(named, role), (str(Path(design_toml_path).parent / named), role)]
+    return inputs
 
 
 def read_design(design_toml_path, stock_file=None) -> tuple[DesignFile, str]:
@@ -401,8 +392,9 @@ def write_report(design_toml_path, out_path, *, stock_file=None, monte_carlo=200
     ``stock_file`` (read only) supplies a transistor given by label, the transistor's bin when
     the design lacks it, and a check that the stock still matches the design's checksum.
     """
-    out = Path(out_path)
-    check_output_path(out, design_toml_path, stock_file)
+    from ..filesafe import atomic_write, check_output
+
+    out = check_output(out_path, design_inputs(design_toml_path, stock_file), "report")
     on_step(note="reading the design")
     design, note = read_design(design_toml_path, stock_file)
     text = render_report(design, monte_carlo=monte_carlo, seed=seed, stock_note=note, on_step=on_step)

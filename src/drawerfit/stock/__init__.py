@@ -10,7 +10,7 @@ from collections import Counter
 from ..parts import Problem, Stock, StockError
 from .headers import match_header
 from .lines import describe_assumptions, read_sheet
-from .readers import file_checksum, read_file
+from .readers import file_checksum, open_table_file
 
 __all__ = ["load_stock", "match_header", "file_checksum"]
 
@@ -20,16 +20,17 @@ def load_stock(path: str, *, strict: bool = False) -> Stock:
 
     With ``strict``, any unreadable line (a problem of severity "error") raises StockError.
     """
-    raw = read_file(str(path))
-    lines, problems = [], []
+    raw = open_table_file(str(path))
+    lines, problems, warnings = [], [], []
     assumed: Counter = Counter()
     for note in raw.notes:
         problems.append(Problem(raw.path, None, None, None, "", note.split(": ", 1)[-1], "warning"))
-    for sheet in raw.sheets:
-        result = read_sheet(sheet.rows, sheet.numbers, raw.path, sheet.name, len(lines))
+    for sheet in raw.sheets():
+        result = read_sheet(sheet.records, raw.path, sheet.name, len(lines))
         lines.extend(result.lines)
         problems.extend(result.problems)
         assumed.update(result.assumed)
+        warnings.extend(result.warnings)
     errors = [p for p in problems if p.severity == "error"]
     if strict and errors:
         shown = "\n".join(f"  {p}" for p in errors[:20])
@@ -38,4 +39,4 @@ def load_stock(path: str, *, strict: bool = False) -> Stock:
     if not lines and not errors:
         raise StockError(f"{raw.path}: no stock lines found (is there a header row with a value column?)")
     return Stock(lines=tuple(lines), problems=tuple(problems), assumptions=tuple(describe_assumptions(assumed)),
-                 files=(raw.path,), checksum=raw.checksum)
+                 files=(raw.path,), checksum=raw.checksum, warnings=tuple(warnings))

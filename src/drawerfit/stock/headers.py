@@ -20,6 +20,8 @@ FIELD_WORDS: dict[str, tuple[str, ...]] = {
     "power": ("power", "watts", "wattage", "powerrating", "ratedpower", "watt"),
     "voltage": ("voltage", "volts", "workingvoltage", "voltagerating", "ratedvoltage", "wv", "vmax",
                 "maxvoltage", "volt", "ratingv"),
+    # one column holding watts on resistors and volts on capacitors: read by the unit in each cell
+    "rating": ("rating", "ratings", "rated", "maxrating", "ratingmax", "maximumrating"),
     "qty": ("qty", "quantity", "count", "onhand", "stock", "instock", "amount", "pcs", "pieces", "number",
             "num", "units", "have", "left"),
     "location": ("location", "bin", "drawer", "box", "slot", "place", "shelf", "position", "where", "tray",

@@ -7,10 +7,13 @@ import re
 from collections import Counter
 from dataclasses import dataclass, field
 
+from typing import Iterable
+
 from .. import constants as K
 from ..parts import Problem, Source, StockLine
 from ..values import UNIT_SYMBOL, ValueParseError, format_si, implied_unit, parse_quantity, parse_tolerance
 from .headers import Column, find_header, normalise
+from .readers import LongCell, excerpt
 
 KIND_WORDS = {
     "resistor": ("r", "res", "resistor", "resistors", "resistance", "ohm", "ohms"),
@@ -27,6 +30,9 @@ DIELECTRICS = {
 _WORD_KIND = {w: k for k, ws in KIND_WORDS.items() for w in ws}
 _YES = {"yes", "y", "true", "1", "polarized", "polarised", "pol", "+", "x"}
 _NO = {"no", "n", "false", "0", "nonpolar", "nonpolarized", "nonpolarised", "bipolar", "np", "-", ""}
+# What a unit in a rating column means on each kind of line.
+RATING_FIELDS = {"resistor": {"W": "power"}, "capacitor": {"V": "voltage"},
+                 "transistor": {"W": "pd", "V": "vceo", "A": "ic_max"}}
 _BARE_NUMBER = re.compile(r"^\s*[+]?(\d+(\.\d*)?|\.\d+)([eE][+-]?\d+)?\s*$")
 
 
@@ -35,11 +41,14 @@ class SheetResult:
     lines: list[StockLine] = field(default_factory=list)
     problems: list[Problem] = field(default_factory=list)
     assumed: Counter = field(default_factory=Counter)  # (kind, field, default text) -> count
+    warnings: list[str] = field(default_factory=list)  # what changes results: shown in every summary
 
 
 def _text(cell: object) -> str:
     if cell is None:
         return ""
+    if isinstance(cell, LongCell):
+        return cell.start + "…"
     if isinstance(cell, float) and cell.is_integer():
         return str(int(cell))
     return str(cell).strip()
@@ -84,7 +93,7 @@ class _Row:
     def problem(self, fieldname: str | None, text: object, message: str, severity: str = "error") -> None:
         col = self.cols.get(fieldname) if fieldname else None
         self.out.problems.append(Problem(self.file, self.sheet, self.number, col.header if col else fieldname,
-                                         _text(text), message, severity))
+                                         excerpt(_text(text)), message, severity))
         if severity == "error":
             self.failed = True
 
@@ -109,6 +118,49 @@ class _Row:
             return None
         return v
 
+    def rating(self, kind: str) -> tuple[str, float] | None:
+        """(field, value) read from a rating column by the unit in the cell: W is a power rating, V a
+        voltage rating, A a transistor's collector current; a bare number takes the column's unit,
+        else the rating that matters for the kind (W for a resistor, V for a capacitor)."""
+        cell = self.raw("rating")
+        if cell is None:
+            return None
+        col = self.cols["rating"]
+        try:
+            if isinstance(cell, (int, float)) and not isinstance(cell, bool):
+                value, unit = float(cell) * col.scale, col.unit
+            else:
+                text = str(cell)
+                q = parse_quantity(text)
+                value = q.value * col.scale if _BARE_NUMBER.match(text) else q.value
+                unit = q.unit or col.unit
+        except ValueParseError as exc:
+            self.problem("rating", cell, f"not a rating: {exc.why}")
+            return None
+        fields = RATING_FIELDS[kind]
+        if unit is None:
+            unit = {"resistor": "W", "capacitor": "V"}.get(kind)
+            if unit is None:
+                self.problem("rating", cell, "a transistor's rating needs its unit (W, V or A); not read", "warning")
+                return None
+        if unit not in fields:
+            wanted = " or ".join(UNIT_SYMBOL[u] for u in fields)
+            self.problem("rating", cell, f"a {kind}'s rating is in {wanted}, not {UNIT_SYMBOL.get(unit, unit)}")
+            return None
+        if not math.isfinite(value) or value <= 0:
+            self.problem("rating", cell, "must be a positive value")
+            return None
+        return fields[unit], value
+
+    def rated(self, fieldname: str, unit: str, kind: str) -> float | None:
+        """A rating from its own column, else from a rating column holding that unit."""
+        v = self.quantity(fieldname, unit)
+        if v is None and not self.failed and "rating" in self.cols:
+            got = self.rating(kind)
+            if got is not None and got[0] == fieldname:
+                v = got[1]
+        return v
+
     def number_(self, fieldname: str) -> float | None:
         cell = self.raw(fieldname)
         if cell is None:
@@ -124,23 +176,35 @@ class _Row:
         return v
 
 
-def read_sheet(rows: list[list[object]], numbers: list[int], file: str, sheet: str | None,
-               first_index: int, has_qty_default: bool = False) -> SheetResult:
-    """Stock lines from the rows of one sheet; lines are indexed from ``first_index`` on."""
+HEADER_LOOK = 10  # the header is among the first rows with content
+
+
+def read_sheet(records: Iterable[tuple[int, list]], file: str, sheet: str | None,
+               first_index: int) -> SheetResult:
+    """Stock lines from the (row number, cells) records of one sheet, read as they come; lines are
+    indexed from ``first_index`` on."""
     out = SheetResult()
-    found = find_header(rows)
+    records = iter(records)
+    head: list[tuple[int, list]] = []
+    for number, cells in records:
+        if any(_text(c) for c in cells):
+            head.append((number, cells))
+            if len(head) >= HEADER_LOOK:
+                break
+    found = find_header([[None if isinstance(c, LongCell) else c for c in cells] for _n, cells in head])
     if found is None:
-        if any(any(_text(c) for c in row) for row in rows):
+        if head:
             out.problems.append(Problem(file, sheet, None, None, "",
                                         "no header row found (need at least a value or label column and one more, "
                                         "e.g. 'value' and 'qty'); sheet skipped", "warning"))
+        for _ in records:  # the rest of the sheet is not read
+            pass
         return out
     head_at, cols = found
-    unknown = [str(c).strip() for i, c in enumerate(rows[head_at])
-               if _text(c) and all(col.index != i for col in cols.values())]
-    if unknown:
-        out.problems.append(Problem(file, sheet, numbers[head_at], None, ", ".join(unknown),
-                                    "columns not recognised and ignored", "warning"))
+    header_row, header_number = head[head_at][1], head[head_at][0]
+    unknown = {i: str(c).strip() for i, c in enumerate(header_row)
+               if _text(c) and not isinstance(c, LongCell) and all(col.index != i for col in cols.values())}
+    ignored = _IgnoredColumns(unknown)
     sheet_kind = kind_from_word(sheet)[0] if sheet else None
     value_col = cols.get("value")
     header_kind = None
@@ -149,10 +213,24 @@ def read_sheet(rows: list[list[object]], numbers: list[int], file: str, sheet: s
         header_kind = header_kind or {"resistance": "resistor", "ohms": "resistor", "capacitance": "capacitor",
                                       "farads": "capacitor"}.get(normalise(value_col.header.split("(")[0]))
     qty_col = cols.get("qty")
-    for cells, number in zip(rows[head_at + 1:], numbers[head_at + 1:]):
+    read_at = {col.index: col.header for col in cols.values()}
+
+    def rows():
+        yield from head[head_at + 1:]
+        yield from records
+
+    for number, cells in rows():
         texts = [_text(c) for c in cells]
         nonblank = [t for t in texts if t]
         if not nonblank or nonblank[0].startswith("#"):
+            continue
+        ignored.see(cells)
+        long = [(i, c) for i, c in enumerate(cells) if isinstance(c, LongCell) and i in read_at]
+        if long:
+            i, c = long[0]
+            out.problems.append(Problem(file, sheet, number, read_at[i], excerpt(c.start),
+                                        f"a cell of {c.length:,} characters, over the limit of"
+                                        f" {K.MAX_CELL_CHARS:,}; line skipped"))
             continue
         row = _Row(cells, cols, file, sheet, number, out)
         line = _read_line(row, first_index + len(out.lines), sheet_kind or header_kind,
@@ -162,7 +240,56 @@ def read_sheet(rows: list[list[object]], numbers: list[int], file: str, sheet: s
             out.lines.append(line)
             for f in line.assumed:
                 out.assumed[(line.kind, f)] += 1
+    if unknown:
+        warned = ignored.warnings(out.assumed, "sheet " + repr(sheet) if sheet else None)
+        out.warnings.extend(warned)
+        if not warned:
+            out.problems.append(Problem(file, sheet, header_number, None, ", ".join(unknown.values()),
+                                        "columns not recognised and ignored", "warning"))
     return out
+
+
+class _IgnoredColumns:
+    """What the columns nobody reads seem to hold, to warn when ignoring one changes results."""
+
+    # a unit seen in an ignored column, and the defaults it could have replaced: (kind, field)
+    WOULD_FILL = {"W": (("resistor", "power"),), "V": (("capacitor", "voltage"),),
+                  "%": (("resistor", "tolerance"), ("capacitor", "tolerance"))}
+    SAMPLE = 500  # rows looked at: enough to see what a column holds
+
+    def __init__(self, columns: dict[int, str]):
+        self.columns = columns
+        self.units: dict[int, Counter] = {i: Counter() for i in columns}
+        self.seen = 0
+
+    def see(self, cells) -> None:
+        if not self.columns or self.seen >= self.SAMPLE:
+            return
+        self.seen += 1
+        for i in self.columns:
+            if i < len(cells) and isinstance(cells[i], str) and 0 < len(cells[i]) <= K.MAX_VALUE_CHARS:
+                try:
+                    unit = parse_quantity(cells[i]).unit
+                except ValueParseError:
+                    continue
+                if unit in self.WOULD_FILL:
+                    self.units[i][unit] += 1
+
+    def warnings(self, assumed: Counter, where: str | None) -> list[str]:
+        out = []
+        for i, header in self.columns.items():
+            for unit, _n in self.units[i].most_common():
+                hit = [(kind, f, assumed[(kind, f)]) for kind, f in self.WOULD_FILL[unit] if assumed[(kind, f)]]
+                if not hit:
+                    continue
+                got = "; ".join(f"{n} {kind} line{'s' if n != 1 else ''} got the default "
+                                f"{DEFAULT_TEXT[(kind, f)]}" for kind, f, n in hit)
+                place = f" ({where})" if where else ""
+                out.append(f"column {header!r}{place} holds values in {UNIT_SYMBOL.get(unit, unit)} but was not"
+                           f" read, so {got}; name the column for what it holds (e.g. 'power', 'voltage',"
+                           " 'rating' or 'tolerance'; docs/inventory-format.md)")
+                break
+        return out
 
 
 def _read_line(row: _Row, index: int, hint: str | None, source: Source) -> StockLine | None:
@@ -196,6 +323,8 @@ def _read_line(row: _Row, index: int, hint: str | None, source: Source) -> Stock
     note = _text(row.raw("note"))
     label = _text(row.raw("label"))
     if kind == "transistor":
+        if not label and value_cell is not None:
+            label = _text(value_cell)  # a transistor named in the value column: that text is its label
         return _transistor(row, index, source, qty, location, label, note, polarity, assumed)
 
     unit = "ohm" if kind == "resistor" else "F"
@@ -214,7 +343,7 @@ def _read_line(row: _Row, index: int, hint: str | None, source: Source) -> Stock
         return None
 
     if kind == "resistor":
-        power = row.quantity("power", "W")
+        power = row.rated("power", "W", "resistor")
         if row.failed:
             return None
         if power is None:
@@ -247,7 +376,7 @@ def _read_line(row: _Row, index: int, hint: str | None, source: Source) -> Stock
     if dielectric is None:
         dielectric = "electrolytic" if polarized else "ceramic"
         assumed.append("dielectric")
-    voltage = row.quantity("voltage", "V")
+    voltage = row.rated("voltage", "V", "capacitor")
     if row.failed:
         return None
     if voltage is None:
@@ -282,6 +411,9 @@ def _qty(row: _Row) -> int | None:
     if q < 0:
         row.problem("qty", cell, "quantity is negative")
         return None
+    if q > K.MAX_QTY:
+        row.problem("qty", cell, f"quantity is over {K.MAX_QTY:,}, more than any drawer holds")
+        return None
     return int(q)
 
 
@@ -298,7 +430,13 @@ def _transistor(row: _Row, index, source, qty, location, label, note, polarity, 
         key = normalise(label)
         polarity = "npn" if "npn" in key else "pnp" if "pnp" in key else None
     if polarity is None:
-        row.problem("polarity", "", "transistor line without NPN or PNP; not guessed, line skipped")
+        if "polarity" in row.cols:
+            row.problem("polarity", "", "no NPN or PNP given for this transistor; not guessed, line skipped")
+        else:
+            at = next((f for f in ("kind", "label", "value") if f in row.cols), None)
+            place = f" in the {row.cols['kind'].header!r} column" if "kind" in row.cols else ""
+            row.problem(at, label, "a transistor needs NPN or PNP, and the file has no polarity column: add a"
+                                   f" 'polarity' column, or write NPN or PNP{place}; not guessed, line skipped")
         return None
     if not label:
         label = f"{polarity.upper()} (row {source.row})"
@@ -314,6 +452,13 @@ def _transistor(row: _Row, index, source, qty, location, label, note, polarity, 
     pd = row.quantity("pd", "W")
     if pd is None and "pd" not in row.cols:
         pd = row.quantity("power", "W")  # a plain 'power' column on a transistor line is its dissipation
+    if "rating" in row.cols and not row.failed:
+        got = row.rating("transistor")  # one figure, told by its unit; the columns of its own come first
+        if got is not None:
+            name, v = got
+            vceo = v if name == "vceo" and vceo is None else vceo
+            ic_max = v if name == "ic_max" and ic_max is None else ic_max
+            pd = v if name == "pd" and pd is None else pd
     vbe = row.quantity("vbe", "V")
     vce_sat = row.quantity("vce_sat", "V")
     if row.failed:
@@ -352,12 +497,14 @@ DEFAULT_TEXT = {
 
 
 def describe_assumptions(assumed: Counter) -> list[str]:
-    """One sentence per default applied: 'power rating 250 mW assumed on 12 resistor lines'."""
+    """One phrase per default applied, to follow 'assumed: ': 'power rating 250 mW for 12 resistor
+    lines (the file does not say)'."""
     out = []
     for (kind, fieldname), n in sorted(assumed.items()):
+        lines = f"{n} {kind} line{'s' if n != 1 else ''}"
         if fieldname == "qty":
-            out.append(f"no quantity column: each of {n} {kind} line{'s' if n != 1 else ''} counted as one part")
+            out.append(f"one part on each of {lines} (the file has no quantity column)")
             continue
         what = DEFAULT_TEXT.get((kind, fieldname), fieldname)
-        out.append(f"{what} assumed on {n} {kind} line{'s' if n != 1 else ''} (not given in the file)")
+        out.append(f"{what} for {lines} (the file does not say)")
     return out

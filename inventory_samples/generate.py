@@ -1,7 +1,8 @@
 """Write the invented sample drawers in this folder.  Run: python inventory_samples/generate.py
 
-The scenario is our own: a school electronics lab ("Room 4 drawer"), a repair bench box, and a
-drawer typed by hand over the years.  Transistor labels are invented; they name no real product.
+The scenario is our own: a school electronics lab ("Room 4 drawer"), a repair bench box, a drawer
+typed by hand over the years, and a full-size lab drawer of 1 % resistors (``full_lab``; larger
+variants are written on demand by benchmarks/bench_scale.py).  Transistor labels are invented; they name no real product.
 Quantities come from a seeded random generator so the files are the same on every run.
 """
 
@@ -116,6 +117,51 @@ R;15k;2%;0.5W;11;A-10;
 """
 
 
+TRANSISTORS_FULL = [
+    # label, polarity, hFE min, hFE max, VCEO V, IC max A, Pd W, VBE V, VCE(sat) V, qty, bin
+    ("Kit-N110", "NPN", 110, 260, 40, 0.2, 0.5, 0.65, 0.2, 60, "Q-A"),
+    ("Kit-N200", "NPN", 200, 450, 45, 0.1, 0.5, 0.66, 0.25, 60, "Q-B"),
+    ("Kit-N40P", "NPN", 40, 160, 60, 3.0, 1.25, 0.70, 0.5, 20, "Q-C"),
+    ("Kit-P100", "PNP", 100, 300, 40, 0.2, 0.6, 0.65, 0.25, 60, "Q-D"),
+    ("Kit-P40P", "PNP", 40, 160, 60, 3.0, 1.25, 0.70, 0.5, 20, "Q-E"),
+]
+
+
+def full_lab(rng: random.Random, series: str = "E96", decades: tuple[float, float] = (10.0, 9.99e6),
+             extra_5pct: bool = False) -> list[list[str]]:
+    """A full-size lab drawer: 1 % resistors of one E series over six decades (one line a value),
+    ceramic, film and electrolytic capacitors over nine decades, five transistor lines.
+
+    ``extra_5pct`` adds E24 5 % carbon film at 0.25 W and 0.5 W over the same decades (a drawer that
+    also keeps an assortment kit), which brings an E192 drawer to about two thousand lines."""
+    rows = [["Kind", "Value", "Tolerance", "Power (W)", "Voltage (V)", "Dielectric", "Qty", "Bin", "Label",
+             "hFE min", "hFE max", "VCEO (V)", "IC max (A)", "Pd (W)", "VBE (V)", "VCE(sat) (V)"]]
+    blank = [""] * 7
+    for i, v in enumerate(decade_values(series, *decades)):
+        rows.append(["resistor", format_code(v, "ohm"), "1%", "0.25", "", "", str(rng.randint(5, 100)),
+                     f"MF-{i // 48 + 1:02d}", "", *blank])
+    if extra_5pct:
+        for w in ("0.25", "0.5"):
+            for i, v in enumerate(decade_values("E24", *decades)):
+                rows.append(["resistor", format_code(v, "ohm"), "5%", w, "", "", str(rng.randint(5, 100)),
+                             f"CF{w[2:]}-{i // 24 + 1:02d}", "", *blank])
+    for volts in ("50", "100"):  # ceramic 1 pF .. 100 nF
+        for v in decade_values("E12", 1e-12, 100e-9):
+            rows.append(["capacitor", format_code(v, "F"), "10%", "", volts, "ceramic", str(rng.randint(5, 100)),
+                         f"CC-{volts}", "", *blank])
+    for v in decade_values("E6", 1e-9, 1e-6):  # film 1 nF .. 680 nF
+        rows.append(["capacitor", format_code(v, "F"), "5%", "", "100", "film", str(rng.randint(5, 50)), "CF",
+                     "", *blank])
+    for volts in ("16", "35", "63"):  # electrolytic 1 µF .. 1 mF
+        for v in decade_values("E6", 1e-6, 1e-3):
+            rows.append(["capacitor", format_code(v, "F"), "20%", "", volts, "electrolytic",
+                         str(rng.randint(5, 60)), f"CE-{volts}", "", *blank])
+    for (label, pol, hmin, hmax, vceo, icmax, pd, vbe, vsat, qty, bin_) in TRANSISTORS_FULL:
+        rows.append([pol, "", "", "", "", "", str(qty), bin_, label, str(hmin), str(hmax), str(vceo), str(icmax),
+                     str(pd), str(vbe), str(vsat)])
+    return rows
+
+
 def write_csv(path: Path, rows: list[list[str]], delimiter: str = ",") -> None:
     with open(path, "w", newline="", encoding="utf-8") as fh:
         csv.writer(fh, delimiter=delimiter, lineterminator="\n").writerows(rows)
@@ -165,6 +211,7 @@ def main() -> None:
     write_lab_xlsx(HERE / "teaching_lab.xlsx", lab)
     write_csv(HERE / "repair_bench.csv", repair_bench(rng))
     (HERE / "messy_drawer.csv").write_text(MESSY, encoding="utf-8")
+    write_csv(HERE / "full_lab_e96.csv", full_lab(random.Random(20261203)))
 
 
 if __name__ == "__main__":

@@ -38,7 +38,7 @@ import numpy as np
 from ..parts import StockLine
 from .capacitors import CapSide, Completion, _bought
 from .evaluate import Context, evaluate_resistors, nominal_distance
-from .joins import candidate_sets
+from .joins import candidate_sets, role_ranges
 from .pools import Pools
 from .tables import RoleTable, TripleWindow
 from .windows import Band
@@ -49,15 +49,15 @@ __all__ = ["Completion", "Found", "Search", "search_transistor", "exhaustive_sea
 JUDGE_CHUNK = 4096
 LB_CHUNK = 256
 KEEP = 200_000  # judged resistor sets one entry keeps at once
-SMALL_SPACE = 50_000  # a shape with at most this many sets passing the bounds is searched in one band
-SMALL_WORK = 2_000_000  # ... if the bounds formed at most this many partial sets to find them
+SMALL_SPACE = 4_000_000  # a shape of at most this many sets (before the bounds) is searched in one band
 SET_BUDGET = 4_000_000  # resistor sets the searches may enumerate (after the bounds) before they give up proving
 # partial sets the bounds may form and reject on the way (joins.candidate_sets' tally): about twenty
 # seconds of pruning work, for specs whose bounds reject nearly everything but only late
 WORK_BUDGET = 100_000_000
-# the bands of D, finest where designs usually are; a design's nominal IE lies inside the IE window
-# (IE is monotone in every parameter of the box), so D rarely reaches 1, or √2 with a gain window
-BANDS = (0.0, 2.0 ** -8, 2.0 ** -6, 2.0 ** -4, 2.0 ** -3, 2.0 ** -2, 2.0 ** -1, 1.0, 2.0, np.inf)
+# the bands of D: a large drawer holds designs within 1e-5 of the centres, a small one at 0.1 to 0.5;
+# a design's nominal IE lies inside the IE window (IE is monotone in every parameter of the box), so
+# D rarely reaches 1, or √2 with a gain window
+BANDS = (0.0,) + tuple(2.0 ** k for k in range(-16, 1, 2)) + (2.0, np.inf)
 
 
 @dataclass
@@ -134,13 +134,30 @@ def _role_tables(cands, count: int) -> list:
     return [t] if t is not None and len(t) else []
 
 
-def _sub_shapes(tabs, shape):
-    """Every combination of one table (or triple window) per role, resolved lazily."""
-    lists = [_role_tables(tabs[r], c) for r, c in shape.items()]
+def _sub_shapes(tabs, shape, ranges=None, stats=None):
+    """Every combination of one table (or triple window) per role, resolved lazily; with
+    ``ranges`` (role -> (lo, hi) nominal values a feasible set can hold), triple windows outside
+    them are skipped unbuilt; ``stats["work"]`` counts the triples built."""
+    lists = []
+    for r, c in shape.items():
+        ts = _role_tables(tabs[r], c)
+        if ranges is not None and r in ranges:
+            lo, hi = ranges[r]
+            ts = [t for t in ts if not isinstance(t, TripleWindow) or (t.hi >= lo and t.lo <= hi)]
+        lists.append(ts)
     if not all(lists):
         return
     for combo in itertools.product(*lists):
-        yield {r: (t.table if isinstance(t, TripleWindow) else t) for r, t in zip(shape, combo)}
+        out = {}
+        for r, t in zip(shape, combo):
+            if isinstance(t, TripleWindow):
+                before = t.space.built
+                out[r] = t.table
+                if stats is not None:
+                    stats["work"] += t.space.built - before
+            else:
+                out[r] = t
+        yield out
 
 
 def resistor_batches(ctx: Context, rtables, pools: Pools, virtual, *, pruned: bool = True) -> list[RBatch]:
@@ -240,7 +257,6 @@ class Search:
         self.found: dict[tuple, Found] = {}  # (transistor, resistor set) -> its best design
         self._cache: dict = {}
         self._counts: dict = {}  # (transistor, shape, count) -> sets the last band enumerated
-        self._small: dict = {}  # (transistor, shape) -> whether the whole shape fits one band
 
     # --- keys ------------------------------------------------------------------------------------
 
@@ -313,7 +329,7 @@ class Search:
             seen = self.stats["sets"] - before
             last = self._counts.get((ti, si, pc))
             self._counts[(ti, si, pc)] = seen
-            nxt = np.inf if last is not None and seen == last else _next_band(d1)
+            nxt = np.inf if d1 >= 1.0 and last is not None and seen == last else _next_band(d1)
             self._push(self._bkey(ti, 0, p_next, d1), (ti, si, d1, nxt, pc))
         if pc is not None and d0 == 0.0:
             later = [c for c in pcs if c > pc]
@@ -322,25 +338,16 @@ class Search:
         self._complete(ti, kept, pc)
 
     def _is_small(self, ti: int, si: int) -> bool:
-        """Whether the whole shape is small: at most SMALL_SPACE sets pass the bounds, found with at
-        most SMALL_WORK partial sets (counted once, until either is passed)."""
-        if (ti, si) not in self._small:
-            tr, ctx, caps, shapes = self.trs[ti]
-            tabs = per_role(ctx.res_roles, self.rtables)
-            n = work = 0
-            tally = [0]
-            for T in _sub_shapes(tabs, shapes[si]):
-                for idx in candidate_sets(ctx, T, tally, None, self._cache):
-                    n += len(idx[ctx.res_roles[0]])
-                    work += tally[0]
-                    self.stats["work"] += tally[0]
-                    tally[0] = 0
-                    if n > SMALL_SPACE or work > SMALL_WORK:
-                        break
-                if n > SMALL_SPACE or work > SMALL_WORK:
-                    break
-            self._small[(ti, si)] = n <= SMALL_SPACE and work <= SMALL_WORK
-        return self._small[(ti, si)]
+        """Whether the shape's space (the product of its tables' sizes) is at most SMALL_SPACE."""
+        tr, ctx, caps, shapes = self.trs[ti]
+        tabs = per_role(ctx.res_roles, self.rtables)
+        size = 1
+        for r, c in shapes[si].items():
+            ts = _role_tables(tabs[r], c)
+            if len(ts) != 1 or isinstance(ts[0], TripleWindow):
+                return False
+            size *= len(ts[0])
+        return size <= SMALL_SPACE
 
     def _enumerate(self, ti: int, shape: dict, d0: float, d1: float):
         """The judged sets of one entry with d0 <= D < cut (cut = d1 unless more than KEEP passed)."""
@@ -352,7 +359,9 @@ class Search:
         n_kept = 0
         cut = d1
         tally = [0]
-        for T in _sub_shapes(tabs, shape):
+        for T in _sub_shapes(tabs, shape, role_ranges(ctx), self.stats):
+            if self._spent():
+                return kept, cut
             for idx in candidate_sets(ctx, T, tally, band, self._cache):
                 n = len(idx[ctx.res_roles[0]])
                 self.stats["sets"] += n

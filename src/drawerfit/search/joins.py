@@ -1,68 +1,14 @@
 """Pruned enumeration of resistor sets: only sets that can pass the worst case get judged in full.
 
-Each bound below is a necessary condition for feasibility at one point of the tolerance box (a
-vertex), so a set it rejects fails the full judgement too; the full judgement in ``evaluate`` then
-decides.  Voltages are in the NPN-mirrored frame of ``analysis.core``: RA is the divider resistor
-on the emitter-rail's far side (R1 for NPN, R2 for PNP), RB the other; VTH = VCC·RB/(RA+RB).
-
-* Divider (RA, RB): the transistor must conduct at (RA high, RB low, cold): VTH > VBE; with a swing
-  target the follower needs VE ≥ VEmin (below), and VE ≤ VTH − VBE, so VTH ≥ VEmin + VBE there;
-  every stage needs VE ≤ VCC − VCE(sat) − swing, and at (RA low, RB high, hFE low, hot)
-  VE ≥ VTH − VBE − IEmax·RTH/(hFEmin+1); with rin_min, RTH at (RA low, RB low) must reach RTHmin
-  (below; at least rin_min, since the input resistance is below the divider's).
-* Emitter (RE, plus RE2 in series): IE = (VTH − VBE)/(RET + RTH/(β+1)) in the active region,
-  falling with RET; at the vertex of highest IE it must not pass ie_max, at the lowest not fall
-  under ie_min: an interval for the low and high ends of RET.
-* Input resistance (rin_min) on RE alone.  At the vertex (RA low, RB low, RE low, hFE low) the
-  input resistance is RTH‖Zb with Zb = (hFEmin+1)·(re + X), X = RE low‖RL for the follower and
-  RE low for the common emitter (RE2 is bypassed; the design search has no unbypassed RE2), and
-  re = VT/IE ≤ VT(hottest ambient)/ie_min (IE ≥ ie_min at every vertex of a feasible set; VT
-  grows with temperature, so this holds whatever the vertex's ambient).  rin ≥ rin_min needs
-  Zb ≥ rin_min·RTH/(RTH − rin_min), so X ≥ that/(hFEmin+1) − re_max: a floor on RE's low end per
-  divider.  For the follower X < RL and X ≤ REmax‖RL (swing, below), which bounds Zb for every
-  set and gives RTHmin = rin_min·Zbmax/(Zbmax − rin_min) for the divider (nothing is feasible when
-  Zbmax ≤ rin_min).
-* Follower swing (swing_peak = min(up, down) ≥ swing at every vertex, in the active region, with
-  up = VCC − VCE(sat) − IE·RE and down = IE·(RE‖RL)).  At the vertex of RE low, IE ≤ ie_max, so
-  RE low‖RL ≥ swing/ie_max: a floor on RE's low end (nothing is feasible if swing/ie_max ≥ RL).
-  At any one vertex, up ≥ swing and down ≥ swing give swing·(RE + RL)/RL ≤ IE·RE ≤
-  VCC − VCE(sat) − swing, which no longer depends on IE: RE ≤ RL·(VCC − VCE(sat) − 2·swing)/swing,
-  a ceiling on RE's high end (without a load: nothing is feasible if VCC − VCE(sat) < 2·swing).
-  With the same inequality VE = IE·RE ≥ swing·(1 + RE low/RL) =: VEmin.
-* Common-emitter headroom on RE and RE2.  At the vertex (RC high, RE low, RE2 low) the transistor
-  must be active and the downward swing (VCE − VCE(sat))·k, 0 < k ≤ 1, must reach the swing (0
-  without a target), so VCC − IC·RC high − IE·RET low ≥ VCE(sat) + swing, with IE ≥ ie_min and
-  IC = α·IE ≥ α_lo·ie_min (α = hFE/(hFE+1)): RET low + α_lo·RC high ≤ (VCC − VCE(sat) − swing)/ie_min.
-  RC high ≥ RC low ≥ RCneed: the gain at (RC low, RE high) is below (RC low‖RL)/RE high (α < 1,
-  re > 0, the source divides), so RC low‖RL > gain_min·RE high; the upward swing IC·(RC low‖RL)
-  with IC < ie_max gives RC low‖RL ≥ swing/ie_max.  So RET low ≤ headroom − α_lo·RCneed(RE high):
-  a test on RE alone (RE2 ≥ 0), a ceiling on RE2's low end per (divider, RE), and, with the
-  emitter window's RET low ≥ L, a ceiling on RE's high end per divider (RCneed ≤
-  (headroom − L)/α_lo).  These drop α, re and the source's division, so they are not tight.
-* Collector (RC, common emitter): the gain magnitude is |g1|·(RC‖RL) with g1 the gain per ohm of
-  collector load at a vertex (the active-region IE does not depend on RC; g1 is the gain at
-  RC = 1 Ω divided by 1 Ω‖RL); gain_min at the vertex of lowest IE, gain_max at the highest,
-  rout_max (rout = RC), the swing up (IC·(RC‖RL)) and the room for the swing down
-  (VCE ≥ VCE(sat) + swing at the vertex of highest IE) bound RC.
-
-Interval bounds are found by binary search on the sorted nominal values (low end ≤ nominal ≤ high
-end), then the exact end conditions are applied, with a relative slack of 1e-9 so that rounding
-never rejects a set the full judgement would accept.
-
-Nominal band (``Band``): the search asks for the sets whose distance D to the target centres is
-below a level d (``evaluate.nominal_figures``: IE = (VTH − VBE)⁺/(RET + RTH/(β+1)) and, for the
-common emitter, |gain| = g₁·(RC‖RL) at the nominal point).  D < d needs IE in (c − d·h, c + d·h)
-(c, h the window's centre and half-width), so for each divider the nominal RET lies in an interval
-(N1, N2) (IE falls with RET); with a gain window, |gain| in its band needs RC‖RL in (G1/g₁, G2/g₁)
-for each (divider, RE, RE2).  These are consequences of D < d, exact but for the slack.  Together
-with the worst-case window (L, U) they also bound the divider: some nominal RET must lie in
-[max(N1, L/(1 − t)), min(N2, U/(1 + t))], t the smallest tolerance of the RET candidates (the low
-end of a sum is at most its nominal times 1 − t).
-
-RE + RE2 (``SumIndex``): when the two tables are small enough (``SUM_INDEX_MAX`` pairs), the
-sums of their nominal values are sorted once, and each divider finds the (RE, RE2) with a sum in
-its window by binary search, so the work is in proportion to what is found, not to the number of RE
-candidates per divider; the exact end conditions above are then applied to each.
+The bounds themselves, and why they are sound, are in ``bounds``; this module joins the roles'
+sorted tables under them: dividers (RA, RB) first, then the emitter (RE alone, or RE + RE2 through
+the sorted sums of ``windows.SumIndex``), then the collector (RC), each join a binary search on
+sorted nominal values followed by the exact end conditions.  With a band of the distance D
+(``windows.Band``), each divider's nominal RET and each set's RC are held to the band's windows.
+When a divider table is much larger than the other tables (a pair or triple in RA or RB) and the
+emitter is RE alone, a band is joined the other way round (``_sets_emitter_first``): every (small
+divider part, RE) and, by binary search, the large part whose nominal IE falls in the band (IE
+falls as RA grows and rises as RB grows), then the same exact conditions.
 """
 
 from __future__ import annotations
@@ -73,7 +19,8 @@ import numpy as np
 
 from ..analysis import core
 from .evaluate import Context, nominal_figures, vertex_dc
-from .windows import CHUNK, SLACK, Band, SumIndex, groups as _groups, vth as _vth
+from .bounds import Box, EmitterBounds, emitter_window, par_ceiling, par_floor
+from .windows import CHUNK, DIVIDER_CACHE, EMITTER_FIRST, SLACK, Band, SumIndex, groups as _groups, vth as _vth
 from .tables import RoleTable
 
 __all__ = ["candidate_sets", "Band"]
@@ -102,156 +49,8 @@ def _span(values: np.ndarray, lo, hi) -> tuple[np.ndarray, np.ndarray]:
     return start, stop
 
 
-class _Box:
-    """The ends of the box the search guarantees over (one point when the guarantee is nominal)."""
-
-    def __init__(self, ctx: Context):
-        p, tr = ctx.problem, ctx.tr
-        self.nominal = p.guarantee == "nominal"
-        if self.nominal:
-            t = p.conditions.nominal_temp
-            self.b_lo = self.b_hi = tr.hfe
-            self.vbe_hi = self.vbe_lo = ctx.vbe_at(t)
-        else:
-            self.b_lo, self.b_hi = tr.hfe_min, tr.hfe_max
-            self.vbe_hi, self.vbe_lo = ctx.vbe_at(ctx.t_lo), ctx.vbe_at(ctx.t_hi)
-
-        # the largest thermal voltage over the box: re = VT/IE <= vt_max/ie_min at every vertex
-        from ..constants import thermal_voltage
-
-        self.vt_max = float(thermal_voltage(p.conditions.nominal_temp if self.nominal else max(ctx.t_lo, ctx.t_hi)))
-
-    def lo(self, t: RoleTable):
-        return t.v if self.nominal else t.lo
-
-    def hi(self, t: RoleTable):
-        return t.v if self.nominal else t.hi
-
-    def tmax(self, t: RoleTable) -> float:
-        return 0.0 if self.nominal or not len(t) else float(t.tol.max())
-
-    def tmin(self, t: RoleTable) -> float:
-        return 0.0 if self.nominal or not len(t) else float(t.tol.min())
-
-
-def _par_floor(q, rl: float):
-    """The smallest R with R‖rl >= q: 0 where q <= 0, inf where no R reaches it (q >= rl)."""
-    q = np.asarray(q, float)
-    if not np.isfinite(rl):
-        return np.maximum(q, 0.0)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        return np.where(q <= 0, 0.0, np.where(q < rl, q * rl / (rl - q), np.inf))
-
-
-class _Emitter:
-    """Bounds on RE alone (not RE + RE2) that hold for every set of the problem, and the ingredients
-    of the per-divider input-resistance bound.
-
-    ``re_lo_min``: RE's low end must reach it; ``re_hi_max``: RE's high end must not pass it (the
-    follower's swing); ``ve_min``: the least VE of a follower with a swing target; ``rth_min``: the
-    least divider resistance RTH at (RA low, RB low) that can still give ``rin_min``.
-    """
-
-    def __init__(self, ctx: Context, box: _Box):
-        p, tr = ctx.problem, ctx.tr
-        t = p.targets
-        rl = p.rl
-        follower = p.topology == "emitter-follower"
-        self.follower = follower
-        self.rl = rl
-        self.re_lo_min, self.re_hi_max = 0.0, np.inf
-        self.ve_min = 0.0
-        s = t.swing or 0.0
-        if follower and s > 0:
-            # down = IE·(RE‖RL) >= s with IE <= ie_max, at the vertex of RE low
-            self.re_lo_min = float(_par_floor(s * (1 - SLACK) / t.ie_max, rl))
-            # up = VCC − VCE(sat) − IE·RE >= s and down >= s at one vertex: IE·RE cancels
-            room = p.supply - tr.vce_sat - 2.0 * s + SLACK * p.supply
-            if np.isfinite(rl):
-                self.re_hi_max = rl * room / s
-            elif room < 0:
-                self.re_hi_max = -np.inf
-            # VE = IE·RE >= s·(RE + RL)/RL >= s·(1 + RE low/RL)
-            self.ve_min = s * (1.0 + (self.re_lo_min / rl if np.isfinite(rl) else 0.0))
-        self.rin = None if t.rin_min is None else t.rin_min * (1 - SLACK)
-        # re = VT/IE <= VT(hottest)/ie_min at every vertex of a set that keeps IE >= ie_min
-        self.re_max = box.vt_max / t.ie_min * (1 + SLACK)
-        self.b1 = box.b_lo + 1.0
-        self.rth_min = 0.0
-        if self.rin is not None:
-            self.rth_min = self.rin
-            if follower:
-                # the base impedance (β+1)(re + RE‖RL) at hFE low, RE‖RL below RL and below RE high‖RL
-                x = rl
-                if np.isfinite(self.re_hi_max):
-                    h = max(self.re_hi_max, 0.0)
-                    x = h if not np.isfinite(rl) else h * rl / (h + rl) if h > 0 else 0.0
-                zmax = self.b1 * (self.re_max + x)
-                self.rth_min = (np.inf if zmax <= self.rin else
-                                self.rin if not np.isfinite(zmax) else self.rin * zmax / (zmax - self.rin))
-
-        # common emitter: the headroom VCE >= VCE(sat) + swing at (RC high, RE and RE2 low) holds
-        # IE·RET low + IC·RC high, with IE >= ie_min and IC = α·IE >= α_lo·ie_min; RC's high end
-        # must reach rc_need (gain_min at (RC low, RE high): |gain| < (RC‖RL)/RE; swing up at RC
-        # low: IC·(RC‖RL) >= swing with IC < ie_max)
-        self.headroom = None
-        if not follower:
-            self.headroom = (p.supply - tr.vce_sat - s) / t.ie_min * (1 + SLACK)
-            self.alpha_lo = box.b_lo / (box.b_lo + 1.0)
-            self.rc_swing = float(_par_floor(s * (1 - SLACK) / t.ie_max, rl))
-            self.gain_min = None if t.gain_min is None else t.gain_min * (1 - SLACK)
-
-    def rc_need(self, re_hi: np.ndarray) -> np.ndarray:
-        """Common emitter: the least RC low end (so also high end) that the gain and upward swing
-        targets leave, for RE's high end ``re_hi``."""
-        need = np.full(np.shape(re_hi), self.rc_swing)
-        if self.gain_min is not None:
-            need = np.maximum(need, _par_floor(self.gain_min * np.asarray(re_hi), self.rl))
-        return need
-
-    def ret_lo_max(self, re_hi: np.ndarray) -> np.ndarray:
-        """Common emitter: the largest low end of RE + RE2 the headroom allows, for RE's high end."""
-        return self.headroom - self.alpha_lo * self.rc_need(re_hi)
-
-    def re_hi_cap(self, L: np.ndarray) -> np.ndarray:
-        """Common emitter: the largest RE high end per divider whose emitter window starts at L
-        (RET low >= L): RC low <= RC high <= (headroom − L)/α_lo, and RC low must reach rc_need."""
-        cap = np.full(np.shape(L), np.inf)
-        if self.headroom is None:
-            return cap
-        with np.errstate(invalid="ignore", divide="ignore"):
-            r = (self.headroom - np.maximum(L, 0.0)) / self.alpha_lo
-            if self.gain_min is not None:
-                par = r if not np.isfinite(self.rl) else np.where(r > 0, r * self.rl / (r + self.rl), 0.0)
-                cap = par / self.gain_min * (1 + SLACK)
-            return np.where(r * (1 + SLACK) >= self.rc_swing, cap, -np.inf)
-
-    def re_ok(self, box: _Box, RE: RoleTable) -> np.ndarray:
-        """RE candidates that meet the bounds on RE alone (RE2, if any, only adds to RET)."""
-        lo, hi = box.lo(RE), box.hi(RE)
-        ok = (lo * (1 + SLACK) >= self.re_lo_min) & (hi * (1 - SLACK) <= self.re_hi_max)
-        if self.headroom is not None:
-            with np.errstate(invalid="ignore"):
-                ok &= lo <= self.ret_lo_max(hi)
-        return ok
-
-    def nothing(self) -> bool:
-        return self.re_lo_min > self.re_hi_max * (1 + SLACK) or not np.isfinite(self.rth_min)
-
-    def re_lo_rin(self, rth_ll: np.ndarray, rl: float) -> np.ndarray:
-        """The least RE low end that lets the input resistance reach rin_min, per divider, from
-        rin = RTH(RA low, RB low) ‖ (β_lo+1)(re + X) at (RA low, RB low, RE low, hFE low), where X is
-        RE low‖RL (follower) or RE low (common emitter, RE2 bypassed) and re <= ``re_max``."""
-        if self.rin is None:
-            return np.zeros(len(rth_ll))
-        with np.errstate(divide="ignore", invalid="ignore"):
-            zneed = np.where(rth_ll > self.rin, self.rin * rth_ll / (rth_ll - self.rin), np.inf)
-            q = zneed / self.b1 - self.re_max
-        return _par_floor(q, rl) if self.follower else np.maximum(q, 0.0)
-
-
-def _dividers(ctx: Context, box: _Box, em: _Emitter, A: RoleTable, B: RoleTable, a_idx: np.ndarray, tally=None,
-              band: Band | None = None, ret_range=(0.0, np.inf), tmin: float = 0.0):
+def _dividers(ctx: Context, box: Box, em: EmitterBounds, A: RoleTable, B: RoleTable, a_idx: np.ndarray, tally=None,
+              ret_range=(0.0, np.inf), tmin: float = 0.0):
     p, tr = ctx.problem, ctx.tr
     vcc = p.supply
     s = p.targets.swing or 0.0
@@ -269,8 +68,18 @@ def _dividers(ctx: Context, box: _Box, em: _Emitter, A: RoleTable, B: RoleTable,
             need_lo_b = np.maximum(need_lo_b, np.where(lo_a > r, r * lo_a / (lo_a - r), np.inf))
     start, stop = _span(B.v, need_lo_b, max_hi_b)
     ia, ib = _ranges(a_idx, start, stop, tally)
+    ok = _divider_ok(ctx, box, em, A, B, ia, ib, ret_range, tmin)
+    return ia[ok], ib[ok]
+
+
+def _divider_ok(ctx: Context, box: Box, em: EmitterBounds, A: RoleTable, B: RoleTable, ia, ib, ret_range, tmin):
+    """The exact divider conditions (module ``bounds``) for (RA, RB) index pairs."""
+    p, tr = ctx.problem, ctx.tr
+    vcc = p.supply
+    s = p.targets.swing or 0.0
+    ie_max = p.targets.ie_max
     if not len(ia):
-        return ia, ib
+        return np.zeros(0, bool)
     lo_a, hi_a, lo_b, hi_b = box.lo(A)[ia], box.hi(A)[ia], box.lo(B)[ib], box.hi(B)[ib]
     vth_l, _ = _vth(vcc, hi_a, lo_b)
     vth_h, rth_h = _vth(vcc, lo_a, hi_b)
@@ -281,35 +90,64 @@ def _dividers(ctx: Context, box: _Box, em: _Emitter, A: RoleTable, B: RoleTable,
     if em.rin is not None:
         _, rth_ll = _vth(vcc, lo_a, lo_b)
         ok &= rth_ll * (1 + SLACK) >= em.rth_min
-    ia, ib = ia[ok], ib[ok]
-    if not len(ia):
-        return ia, ib
-    # some nominal RET must fit the worst-case window (L, U), the table's range and, with a band,
-    # the band's window (N1, N2)
-    L, U = _emitter_window(ctx, box, A, B, ia, ib)
-    lo_r = np.maximum(L / (1.0 - tmin), ret_range[0]) * (1 - SLACK) - SLACK
-    hi_r = np.minimum(U / (1.0 + tmin), ret_range[1]) * (1 + SLACK)
-    if band is not None:
-        n1, n2 = band.ret(vcc, A.v[ia], B.v[ib])
-        lo_r, hi_r = np.maximum(lo_r, n1), np.minimum(hi_r, n2)
-    ok = lo_r <= hi_r
-    return ia[ok], ib[ok]
+    # some nominal RET must fit the worst-case window (L, U) and the table's range
+    with np.errstate(divide="ignore", invalid="ignore"):
+        L, U = emitter_window(ctx, box, A, B, ia, ib)
+        lo_r = np.maximum(L / (1.0 - tmin), ret_range[0]) * (1 - SLACK) - SLACK
+        hi_r = np.minimum(U / (1.0 + tmin), ret_range[1]) * (1 + SLACK)
+    return ok & (lo_r <= hi_r)
 
 
-def _emitter_window(ctx: Context, box: _Box, A, B, ia, ib):
-    """(L, U): RET low end must be >= L and high end <= U."""
+class _DividerBlock:
+    """Dividers that pass the bounds, with what the emitter join needs of each."""
+
+    __slots__ = ("ia", "ib", "L", "U", "re_lo", "re_hi", "lo_r", "hi_r")
+
+    def __init__(self, **kw):
+        for k, v in kw.items():
+            setattr(self, k, v)
+
+    def __len__(self) -> int:
+        return len(self.ia)
+
+    def take(self, sel) -> "_DividerBlock":
+        return _DividerBlock(**{k: getattr(self, k)[sel] for k in self.__slots__})
+
+
+def _divider_blocks(ctx: Context, box: Box, em: EmitterBounds, A: RoleTable, B: RoleTable, tally, ret_range, tmin,
+                    cache: dict | None):
+    """Blocks of dividers that pass the bounds; kept in ``cache`` (when not too many) so that the
+    bands of a search form them once."""
+    key = ("dividers", id(ctx), id(A), id(B), ret_range, tmin)
+    if cache is not None and key in cache:
+        yield from cache[key]
+        return
     p = ctx.problem
-    vcc = p.supply
-    vth_h, rth_h = _vth(vcc, box.lo(A)[ia], box.hi(B)[ib])
-    vth_l, rth_l = _vth(vcc, box.hi(A)[ia], box.lo(B)[ib])
-    L = (vth_h - box.vbe_lo) / p.targets.ie_max - rth_h / (box.b_hi + 1.0)
-    U = (vth_l - box.vbe_hi) / p.targets.ie_min - rth_l / (box.b_lo + 1.0)
-    return L, U
+    keep: list | None = [] if cache is not None else None
+    total = 0
+    step = max(1, CHUNK // max(1, len(B)))
+    for a0 in range(0, len(A), step):
+        ia, ib = _dividers(ctx, box, em, A, B, np.arange(a0, min(len(A), a0 + step)), tally, ret_range, tmin)
+        L, U = emitter_window(ctx, box, A, B, ia, ib)
+        # RE alone: the follower's swing bounds and the input resistance bound
+        _, rth_ll = _vth(p.supply, box.lo(A)[ia], box.lo(B)[ib])
+        block = _DividerBlock(ia=ia, ib=ib, L=L, U=U, re_lo=np.maximum(em.re_lo_min, em.re_lo_rin(rth_ll, p.rl)),
+                              re_hi=np.minimum(em.re_hi_max, em.re_hi_cap(L)),
+                              lo_r=np.maximum(L / (1.0 - tmin), ret_range[0]) * (1 - SLACK) - SLACK,
+                              hi_r=np.minimum(U / (1.0 + tmin), ret_range[1]) * (1 + SLACK))
+        if keep is not None:
+            total += len(ia)
+            keep = keep + [block] if total <= DIVIDER_CACHE else None
+        yield block
+    if keep is not None:
+        cache[key] = keep
 
 
-def _join_sorted(T: RoleTable, box: _Box, owner_lo, owner_hi, owner_lo_max=None, tally=None, nominal=None):
-    """Indices (owner position, k) with T.lo[k] >= owner_lo and T.hi[k] <= owner_hi (and, if
-    given, T.lo[k] <= owner_lo_max, and ``nominal`` = (nlo, nhi) <= T.v[k] <= nhi)."""
+def _join_sorted(T: RoleTable, box: Box, owner_lo, owner_hi, owner_lo_max=None, tally=None, nominal=None,
+                 limit: int = CHUNK):
+    """Chunks (owner position, k) with T.lo[k] >= owner_lo and T.hi[k] <= owner_hi (and, if
+    given, T.lo[k] <= owner_lo_max, and ``nominal`` = (nlo, nhi) <= T.v[k] <= nhi); each chunk
+    forms at most about ``limit`` pairs before the exact conditions, so memory stays bounded."""
     top = owner_hi
     bottom = owner_lo
     if owner_lo_max is not None:
@@ -319,36 +157,29 @@ def _join_sorted(T: RoleTable, box: _Box, owner_lo, owner_hi, owner_lo_max=None,
         bottom = np.maximum(bottom, nominal[0])
         top = np.minimum(top, nominal[1])
     start, stop = _span(T.v, bottom, top)
-    pos, k = _ranges(np.arange(len(owner_lo)), start, stop, tally)
-    if not len(pos):
-        return pos, k
-    ok = (box.lo(T)[k] * (1 + SLACK) >= owner_lo[pos]) & (box.hi(T)[k] * (1 - SLACK) <= owner_hi[pos])
-    if owner_lo_max is not None:
-        ok &= box.lo(T)[k] * (1 - SLACK) <= owner_lo_max[pos]
-    if nominal is not None:
-        ok &= (T.v[k] >= nominal[0][pos]) & (T.v[k] <= nominal[1][pos])
-    return pos[ok], k[ok]
+    stop = np.maximum(stop, start)
+    for g in _groups(stop - start, limit):
+        pos, k = _ranges(np.arange(g.start, g.stop), start[g], stop[g], tally)
+        if not len(pos):
+            continue
+        ok = (box.lo(T)[k] * (1 + SLACK) >= owner_lo[pos]) & (box.hi(T)[k] * (1 - SLACK) <= owner_hi[pos])
+        if owner_lo_max is not None:
+            ok &= box.lo(T)[k] * (1 - SLACK) <= owner_lo_max[pos]
+        if nominal is not None:
+            ok &= (T.v[k] >= nominal[0][pos]) & (T.v[k] <= nominal[1][pos])
+        yield pos[ok], k[ok]
 
 
-def _par_ceiling(y, rl: float):
-    """The largest R with R‖rl <= y: inf where y >= rl (or no load)."""
-    y = np.asarray(y, float)
-    if not np.isfinite(rl):
-        return y
-    with np.errstate(divide="ignore", invalid="ignore"):
-        return np.where(y < rl, y * rl / (rl - y), np.inf)
-
-
-def _collector(ctx: Context, box: _Box, T: Mapping[str, RoleTable], idx: dict[str, np.ndarray],
+def _collector(ctx: Context, box: Box, T: Mapping[str, RoleTable], idx: dict[str, np.ndarray],
                band: Band | None = None):
-    """Join RC to (divider, emitter) sets by the gain, rout, swing and saturation bounds (and the
-    band's gain window)."""
+    """Chunks of (divider, emitter) sets joined to RC by the gain, rout, swing and saturation bounds
+    (and the band's gain window)."""
     p = ctx.problem
     RC = T["RC"]
     rl = p.rl
     n = len(idx["RE"])
     if not n:
-        return {k: v[:0] for k, v in idx.items()}, np.zeros(0, np.int64)
+        return
     vals = {r: T[r].v[idx[r]] for r in idx}
     tols = {r: (np.zeros(n) if box.nominal else T[r].tol[idx[r]]) for r in idx}
     vals["RC"] = np.ones(n)
@@ -370,10 +201,10 @@ def _collector(ctx: Context, box: _Box, T: Mapping[str, RoleTable], idx: dict[st
             need_par = np.maximum(need_par, np.where(g_lo > 0, t.gain_min / g_lo, np.inf))
         if s > 0:
             need_par = np.maximum(need_par, np.where(d_lo.ic > 0, s / d_lo.ic, np.inf))
-        need_lo = _par_floor(need_par, rl)
+        need_lo = par_floor(need_par, rl)
         max_hi = np.full(n, np.inf)
         if t.gain_max is not None:
-            max_hi = np.minimum(max_hi, _par_ceiling(t.gain_max / g_hi, rl))
+            max_hi = np.minimum(max_hi, par_ceiling(t.gain_max / g_hi, rl))
         if t.rout_max is not None:
             max_hi = np.minimum(max_hi, t.rout_max)
         room = np.where(d_hi.ic > 0, (p.supply - d_hi.ve - ctx.tr.vce_sat - s) / d_hi.ic, np.inf)
@@ -386,12 +217,14 @@ def _collector(ctx: Context, box: _Box, T: Mapping[str, RoleTable], idx: dict[st
         if band is not None and band.g is not None:
             g1 = nominal_figures(ctx, vals)["gain"] * per_ohm
             g_lo_n, g_hi_n = band.g
-            nlo = np.where(g1 > 0, _par_floor(np.maximum(g_lo_n, 0.0) / g1 * (1 - SLACK), rl),
+            nlo = np.where(g1 > 0, par_floor(np.maximum(g_lo_n, 0.0) / g1 * (1 - SLACK), rl),
                            np.where(g_lo_n < 0, 0.0, np.inf))
-            nhi = np.where(g1 > 0, _par_ceiling(g_hi_n / g1 * (1 + SLACK), rl), np.inf)
+            nhi = np.where(g1 > 0, par_ceiling(g_hi_n / g1 * (1 + SLACK), rl), np.inf)
             nominal = (nlo * (1 - SLACK), nhi * (1 + SLACK))
-    pos, k = _join_sorted(RC, box, need_lo, max_hi, nominal=nominal)
-    return {r: a[pos] for r, a in idx.items()}, k
+    for pos, k in _join_sorted(RC, box, need_lo, max_hi, nominal=nominal):
+        out = {r: a[pos] for r, a in idx.items()}
+        out["RC"] = k
+        yield out
 
 
 def _emitter_pairs(ctx, box, em, T, ia, ib, L, U, re_lo, re_hi, re_ok, kcap, band, tally, cache):
@@ -437,9 +270,9 @@ def _emitter_pairs(ctx, box, em, T, ia, ib, L, U, re_lo, re_hi, re_ok, kcap, ban
         d, kre = d[ok], kre[ok]
         lo_max = em.ret_lo_max(box.hi(RE)[kre]) - box.lo(RE)[kre]
         nominal = None if band is None else (nlo[d] - RE.v[kre], nhi[d] - RE.v[kre])
-        pos, kre2 = _join_sorted(RE2, box, L[d] - box.lo(RE)[kre], U[d] - box.hi(RE)[kre], lo_max, tally,
-                                 nominal=nominal)
-        yield _emitter_exact(box, em, RE, RE2, d[pos], kre[pos], kre2, L, U, re_lo, re_hi, nlo, nhi)
+        for pos, kre2 in _join_sorted(RE2, box, L[d] - box.lo(RE)[kre], U[d] - box.hi(RE)[kre], lo_max, tally,
+                                      nominal=nominal):
+            yield _emitter_exact(box, em, RE, RE2, d[pos], kre[pos], kre2, L, U, re_lo, re_hi, nlo, nhi)
 
 
 def _emitter_exact(box, em, RE, RE2, d, kre, kre2, L, U, re_lo, re_hi, nlo, nhi):
@@ -458,14 +291,133 @@ def _emitter_exact(box, em, RE, RE2, d, kre, kre2, L, U, re_lo, re_hi, nlo, nhi)
 def _emitters(ctx, box, RE, A, B, ia, ib, L, U, re_lo, re_hi, re_ok, re_top, band, tally):
     """Chunks of (divider position, {role: index}) for a stage whose emitter is RE alone."""
     vcc = ctx.problem.supply
-    for g in _groups(np.ones(len(ia), np.int64), max(1, CHUNK // 32)):
-        ia_g, ib_g = ia[g], ib[g]
-        nominal = None if band is None else band.ret(vcc, A.v[ia_g], B.v[ib_g])
-        pos, kre = _join_sorted(RE, box, np.maximum(L[g], re_lo[g]), np.minimum(U[g], re_hi[g]), tally=tally,
-                                nominal=nominal)
+    nominal = None if band is None else band.ret(vcc, A.v[ia], B.v[ib])
+    floor = np.maximum(np.maximum(L, re_lo), _power_floor(ctx, box, A, B, ia, ib, RE, np.maximum(L, re_lo)))
+    for pos, kre in _join_sorted(RE, box, floor, np.minimum(U, re_hi), tally=tally, nominal=nominal):
         keep = re_ok[kre] & (kre < re_top)
         pos, kre = pos[keep], kre[keep]
-        yield pos, {ctx.ra: ia_g[pos], ctx.rb: ib_g[pos], "RE": kre}
+        yield pos, {ctx.ra: ia[pos], ctx.rb: ib[pos], "RE": kre}
+
+
+def _power_floor(ctx, box, A, B, ia, ib, RE: RoleTable, low) -> np.ndarray:
+    """A floor on RE's low end from its power at the vertex of highest IE (``_hot_ok``), for dividers
+    whose other bounds already keep RE's low end at ``low`` or above.
+
+    There IE = a/(x + k) with x the low end of RE, a = VTH − VBE and k = RTH/(β+1), so the power
+    x·a²/(x + k)² rises up to x = k and falls after; with the table's best rating r it stays within
+    the derated c·r outside (x₁, x₂), the roots of c·r·(x + k)² = a²·x.  Where ``low`` is above x₁,
+    RE's low end must reach x₂ (a candidate with a lower rating needs more: the exact test follows)."""
+    p = ctx.problem
+    if not len(ia) or not len(RE):
+        return np.zeros(len(ia))
+    vth_h, rth_h = _vth(p.supply, box.lo(A)[ia], box.hi(B)[ib])
+    a = np.maximum(vth_h - box.vbe_lo, 0.0)
+    k = rth_h / (box.b_hi + 1.0)
+    cr = p.conditions.resistor_derating * float(RE.rating.max())
+    with np.errstate(invalid="ignore", divide="ignore"):
+        disc = a * a - 4.0 * cr * k
+        root = np.sqrt(np.maximum(disc, 0.0))
+        x1 = (a * a - 2.0 * cr * k - a * root) / (2.0 * cr)
+        x2 = (a * a - 2.0 * cr * k + a * root) / (2.0 * cr)
+    return np.where((disc > 0) & (low > x1 * (1 + SLACK)), x2 * (1 - SLACK) - SLACK, 0.0)
+
+
+def _ra_at(vcc, vbe, b1, rb, ret, ie):
+    """The RA at which the nominal IE equals ``ie`` for (RB, RET): IE falls as RA grows (nan: none)."""
+    with np.errstate(divide="ignore", invalid="ignore"):
+        num = vcc - vbe - ie * ret
+        return np.where(num > 0, rb * num / (vbe + ie * ret + ie * rb / b1), np.nan)
+
+
+def _rb_at(vcc, vbe, b1, ra, ret, ie):
+    """The RB at which the nominal IE equals ``ie`` for (RA, RET): IE rises with RB (inf: never)."""
+    with np.errstate(divide="ignore", invalid="ignore"):
+        den = vcc - vbe - ie * ret - ie * ra / b1
+        return np.where(den > 0, ra * (vbe + ie * ret) / den, np.inf)
+
+
+def _sets_emitter_first(ctx, box, em, T, band: Band | None, re_ok, ret_range, tmin, tally):
+    """Chunks of {role: index}, joined (small divider part, RE) → large divider part: the large
+    part's range comes from the IE window at the two extreme vertices (IE falls as RA grows and
+    rises with RB, at every vertex), RE's power and IC max at the vertex of highest IE, and the
+    band's nominal window; then the exact conditions of the divider-first join."""
+    p = ctx.problem
+    vcc = p.supply
+    A, B, RE = T[ctx.ra], T[ctx.rb], T["RE"]
+    big_is_a = len(A) >= len(B)
+    small = B if big_is_a else A
+    big = A if big_is_a else B
+    kre_all = np.flatnonzero(re_ok)
+    t = p.targets
+    per = max(1, CHUNK // max(1, len(kre_all)))
+    for s0 in range(0, len(small), per):
+        ks = np.repeat(np.arange(s0, min(len(small), s0 + per)), len(kre_all))
+        kr = np.tile(kre_all, min(len(small), s0 + per) - s0)
+        if tally is not None:
+            tally[0] += len(ks)
+        re_lo, re_hi = box.lo(RE)[kr], box.hi(RE)[kr]
+        # IE at the vertex of highest IE (RA low, RB high, RE low, hFE high, hot) at most ie_max,
+        # and within RE's power and IC max; at the vertex of lowest IE at least ie_min
+        with np.errstate(divide="ignore", invalid="ignore"):
+            cap = np.minimum(np.sqrt(p.conditions.resistor_derating * RE.rating[kr] / re_lo), t.ie_max)
+        if ctx.tr.ic_max is not None:
+            cap = np.minimum(cap, ctx.tr.ic_max * (box.b_hi + 1.0) / (2.0 * box.b_hi))
+        cap = cap * (1 + SLACK)
+        floor = t.ie_min * (1 - SLACK)
+        if big_is_a:  # IE falls as RA grows: RA's low end at least ra(cap), its high end at most ra(floor)
+            lo_v = np.nan_to_num(_ra_at(vcc, box.vbe_lo, box.b_hi + 1.0, box.hi(small)[ks], re_lo, cap), nan=0.0)
+            hi_v = np.nan_to_num(_ra_at(vcc, box.vbe_hi, box.b_lo + 1.0, box.lo(small)[ks], re_hi, floor),
+                                 nan=-np.inf)
+        else:  # IE rises with RB: RB's high end at most rb(cap), its low end at least rb(floor)
+            hi_v = _rb_at(vcc, box.vbe_lo, box.b_hi + 1.0, box.lo(small)[ks], re_lo, cap)
+            lo_v = _rb_at(vcc, box.vbe_hi, box.b_lo + 1.0, box.hi(small)[ks], re_hi, floor)
+        if band is not None:  # the nominal IE in the band's (i1, i2)
+            xs, ret = small.v[ks], RE.v[kr]
+            if big_is_a:
+                lo_v = np.maximum(lo_v, np.nan_to_num(_ra_at(vcc, band.vbe, band.b1, xs, ret, band.i2), nan=0.0))
+                if band.i1 > 0:
+                    hi_v = np.minimum(hi_v, np.nan_to_num(_ra_at(vcc, band.vbe, band.b1, xs, ret, band.i1),
+                                                          nan=-np.inf))
+            else:
+                if band.i1 > 0:
+                    lo_v = np.maximum(lo_v, _rb_at(vcc, band.vbe, band.b1, xs, ret, band.i1))
+                hi_v = np.minimum(hi_v, _rb_at(vcc, band.vbe, band.b1, xs, ret, band.i2))
+        live = np.flatnonzero(lo_v * (1 - SLACK) <= hi_v * (1 + SLACK))
+        if not len(live):
+            continue
+        ks, kr = ks[live], kr[live]
+        start, stop = _span(big.v, lo_v[live] * (1 - SLACK), hi_v[live] * (1 + SLACK))
+        for g in _groups(np.maximum(stop - start, 0), CHUNK):
+            own, kb = _ranges(np.arange(g.start, g.stop), start[g], stop[g], tally)
+            i_small, i_re = ks[own], kr[own]
+            ia, ib = (kb, i_small) if big_is_a else (i_small, kb)
+            ok = _divider_ok(ctx, box, em, A, B, ia, ib, ret_range, tmin)
+            ia, ib, kre = ia[ok], ib[ok], i_re[ok]
+            if not len(ia):
+                continue
+            L, U = emitter_window(ctx, box, A, B, ia, ib)
+            _, rth_ll = _vth(vcc, box.lo(A)[ia], box.lo(B)[ib])
+            lo_e = np.maximum(np.maximum(em.re_lo_min, em.re_lo_rin(rth_ll, p.rl)), L)
+            hi_e = np.minimum(np.minimum(em.re_hi_max, em.re_hi_cap(L)), U)
+            ok = (box.lo(RE)[kre] * (1 + SLACK) >= lo_e) & (box.hi(RE)[kre] * (1 - SLACK) <= hi_e)
+            if band is not None:
+                n1, n2 = band.ret(vcc, A.v[ia], B.v[ib])
+                ok &= (RE.v[kre] >= n1) & (RE.v[kre] <= n2)
+            yield {ctx.ra: ia[ok], ctx.rb: ib[ok], "RE": kre[ok]}
+
+
+def role_ranges(ctx: Context) -> dict[str, tuple[float, float]]:
+    """Nominal values each emitter and collector role can hold in a set that passes the bounds:
+    RE at least its floor (swing) and at most its ceiling; RE + RE2 at most U, which is below
+    (VCC − VBE)/ie_min; RC at most the headroom over α (bounds)."""
+    p = ctx.problem
+    box = Box(ctx)
+    em = EmitterBounds(ctx, box)
+    u_max = max(p.supply - box.vbe_hi, 0.0) / p.targets.ie_min * (1 + SLACK)
+    out = {"RE": (em.re_lo_min * (1 - SLACK), min(em.re_hi_max, u_max)), "RE2": (0.0, u_max)}
+    if em.headroom is not None:
+        out["RC"] = (0.0, max(em.headroom, 0.0) / em.alpha_lo * (1 + SLACK))
+    return out
 
 
 def candidate_sets(ctx: Context, T: Mapping[str, RoleTable], tally: list | None = None, band: Band | None = None,
@@ -481,8 +433,8 @@ def candidate_sets(ctx: Context, T: Mapping[str, RoleTable], tally: list | None 
     """
     empty = {r: np.zeros(0, np.int64) for r in ctx.res_roles}
     p = ctx.problem
-    box = _Box(ctx)
-    em = _Emitter(ctx, box)
+    box = Box(ctx)
+    em = EmitterBounds(ctx, box)
     A, B = T[ctx.ra], T[ctx.rb]
     if not (len(A) and len(B)) or any(not len(T[r]) for r in ctx.res_roles):
         return
@@ -505,37 +457,70 @@ def candidate_sets(ctx: Context, T: Mapping[str, RoleTable], tally: list | None 
         if p.targets.rout_max is not None:
             rc_cap = min(rc_cap, p.targets.rout_max)
         kcap = rc_cap / p.targets.gain_min / (1 - box.tmax(RE)) * (1 + SLACK)
-    step = max(1, CHUNK // max(1, len(B)))
-    for a0 in range(0, len(A), step):
-        ia, ib = _dividers(ctx, box, em, A, B, np.arange(a0, min(len(A), a0 + step)), tally, band, ret_range, tmin)
-        if not len(ia):
+    if not has2 and min(len(A), len(B)) * int(re_ok.sum()) * EMITTER_FIRST < len(A) * len(B):
+        chunks = _sets_emitter_first(ctx, box, em, T, band, re_ok, ret_range, tmin, tally)
+    else:
+        chunks = _sets_dividers_first(ctx, box, em, T, band, re_ok, re_top, ret_range, tmin, kcap, tally, cache)
+    for idx in chunks:
+        idx = _hot_ok(ctx, box, T, idx)
+        if "RC" in T:
+            for c0 in range(0, len(idx["RE"]), CHUNK):
+                part = {r: a[c0:c0 + CHUNK] for r, a in idx.items()}
+                if tally is not None:
+                    tally[0] += 10 * len(part["RE"])
+                got = False
+                for out in _collector(ctx, box, T, part, band):
+                    if len(out["RC"]):
+                        got = True
+                        yield out
+                if not got and tally is not None:
+                    yield empty
+            if tally is not None and not len(idx["RE"]):
+                yield empty
+        elif len(idx["RE"]) or tally is not None:
+            yield idx
+
+
+def _hot_ok(ctx: Context, box: Box, T, idx: dict) -> dict:
+    """The sets whose emitter resistors stay within their derated power, and 2·IC within IC max, at
+    the vertex of highest IE (RA low, RB high, RE and RE2 low, hFE high, hot: the search's first
+    vertex), where IE = (VTH − VBE)/(RET + RTH/(β+1)) in the active region (bounds)."""
+    p, tr = ctx.problem, ctx.tr
+    if not len(idx["RE"]):
+        return idx
+    A, B, RE = T[ctx.ra], T[ctx.rb], T["RE"]
+    vth_h, rth_h = _vth(p.supply, box.lo(A)[idx[ctx.ra]], box.hi(B)[idx[ctx.rb]])
+    re_lo = box.lo(RE)[idx["RE"]]
+    ret = re_lo + (box.lo(T["RE2"])[idx["RE2"]] if "RE2" in idx else 0.0)
+    ie = np.maximum(vth_h - box.vbe_lo, 0.0) / (ret + rth_h / (box.b_hi + 1.0))
+    derate = p.conditions.resistor_derating
+    ok = ie * ie * re_lo * (1 - SLACK) <= derate * RE.rating[idx["RE"]]
+    if "RE2" in idx:
+        ok &= ie * ie * box.lo(T["RE2"])[idx["RE2"]] * (1 - SLACK) <= derate * T["RE2"].rating[idx["RE2"]]
+    if tr.ic_max is not None:
+        ok &= 2.0 * ie * box.b_hi / (box.b_hi + 1.0) * (1 - SLACK) <= tr.ic_max
+    return idx if ok.all() else {r: a[ok] for r, a in idx.items()}
+
+
+def _sets_dividers_first(ctx, box, em, T, band, re_ok, re_top, ret_range, tmin, kcap, tally, cache):
+    """Chunks of {role: index} (RC not yet joined): dividers first, then the emitter."""
+    p = ctx.problem
+    A, B, RE = T[ctx.ra], T[ctx.rb], T["RE"]
+    empty = {r: np.zeros(0, np.int64) for r in (ctx.ra, ctx.rb, "RE")}
+    for block in _divider_blocks(ctx, box, em, A, B, tally, ret_range, tmin, cache):
+        if band is not None and len(block):
+            # some nominal RET must also lie in the band's window (N1, N2)
+            n1, n2 = band.ret(p.supply, A.v[block.ia], B.v[block.ib])
+            block = block.take(np.maximum(block.lo_r, n1) <= np.minimum(block.hi_r, n2))
+        if not len(block):
             if tally is not None:
                 yield empty
             continue
-        L, U = _emitter_window(ctx, box, A, B, ia, ib)
-        # RE alone: the follower's swing bounds and the input resistance bound
-        _, rth_ll = _vth(p.supply, box.lo(A)[ia], box.lo(B)[ib])
-        re_lo = np.maximum(em.re_lo_min, em.re_lo_rin(rth_ll, p.rl))
-        re_hi = np.minimum(em.re_hi_max, em.re_hi_cap(L))
-        if has2:
-            pieces = ((d, {ctx.ra: ia[d], ctx.rb: ib[d], "RE": kre, "RE2": kre2})
-                      for d, kre, kre2 in _emitter_pairs(ctx, box, em, T, ia, ib, L, U, re_lo, re_hi, re_ok, kcap,
-                                                         band, tally, cache))
+        ia, ib, L, U, re_lo, re_hi = block.ia, block.ib, block.L, block.U, block.re_lo, block.re_hi
+        if "RE2" in T:
+            for d, kre, kre2 in _emitter_pairs(ctx, box, em, T, ia, ib, L, U, re_lo, re_hi, re_ok, kcap, band, tally,
+                                               cache):
+                yield {ctx.ra: ia[d], ctx.rb: ib[d], "RE": kre, "RE2": kre2}
         else:
-            pieces = _emitters(ctx, box, RE, A, B, ia, ib, L, U, re_lo, re_hi, re_ok, re_top, band, tally)
-        for _, idx in pieces:
-            if "RC" in T:
-                for c0 in range(0, len(idx["RE"]), CHUNK):
-                    part = {r: a[c0:c0 + CHUNK] for r, a in idx.items()}
-                    if tally is not None:
-                        tally[0] += 10 * len(part["RE"])
-                    part, krc = _collector(ctx, box, T, part, band)
-                    part["RC"] = krc
-                    if len(krc):
-                        yield part
-                    elif tally is not None:
-                        yield empty
-                if tally is not None and not len(idx["RE"]):
-                    yield empty
-            elif len(idx["RE"]) or tally is not None:
+            for _, idx in _emitters(ctx, box, RE, A, B, ia, ib, L, U, re_lo, re_hi, re_ok, re_top, band, tally):
                 yield idx

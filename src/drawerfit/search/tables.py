@@ -28,7 +28,8 @@ from ..parts import StockLine
 
 __all__ = ["RoleTable", "Candidates", "build_tables", "with_default_ratings", "equivalent_key", "TRIPLE_BLOCK"]
 
-TRIPLE_BLOCK = 2_000_000  # triples built at once (about 120 MB); larger windows are split
+TRIPLE_BLOCK = 500_000  # triples built at once (about 30 MB, 150 MB while building); larger windows are split
+KEEP_WINDOWS = 2  # triple windows kept built at once, per drawer and kind
 
 
 @dataclass(frozen=True, eq=False)
@@ -140,6 +141,8 @@ class _TripleSpace:
     def __init__(self, pool: _Pool, kind: str, units: int):
         self.pool, self.kind, self.units = pool, kind, units
         self.pairs = {recip: _pairs(pool, recip, units) for recip in (False, True)}
+        self.built = 0  # triples built so far (a measure of the work)
+        self.live: list = []  # the windows now built, oldest first
 
     def _spans(self, pair_recip: bool, outer_recip: bool, lo: float, hi: float):
         pool, pr = self.pool, self.pairs[pair_recip]
@@ -304,7 +307,9 @@ class Candidates:
         ts = self.tables(count)
         if not ts:
             return None
-        ts = [t.table if isinstance(t, TripleWindow) else t for t in ts]
+        if len(ts) > 1 or isinstance(ts[0], TripleWindow):
+            # whole: built here without the window cache (small drawers, tests, the naive enumeration)
+            ts = [t.space.build(t.lo, t.hi, t.last) if isinstance(t, TripleWindow) else t for t in ts]
         if len(ts) == 1:
             return ts[0]
         return _make(self.kind, count, self.pool, np.concatenate([t.pos for t in ts]),
@@ -336,16 +341,26 @@ class Candidates:
 
 
 class TripleWindow:
-    """One value window of the triples, built on first use and kept while the search needs it."""
+    """One value window of the triples, built on first use; at most ``KEEP_WINDOWS`` windows of a
+    space stay built (the least recently built is dropped and built again if asked for)."""
 
     def __init__(self, space: _TripleSpace, lo: float, hi: float, last: bool):
         self.space, self.lo, self.hi, self.last = space, lo, hi, last
         self._t: RoleTable | None = None
 
     @property
+    def built(self) -> bool:
+        return self._t is not None
+
+    @property
     def table(self) -> RoleTable:
         if self._t is None:
             self._t = self.space.build(self.lo, self.hi, self.last)
+            self.space.built += len(self._t)
+            live = self.space.live
+            live.append(self)
+            while len(live) > KEEP_WINDOWS:
+                live.pop(0).release()
         return self._t
 
     def release(self) -> None:

@@ -7,11 +7,13 @@ import numpy as np
 
 from .evaluate import Context
 
-__all__ = ["Band", "SumIndex", "groups", "vth", "SLACK", "CHUNK", "SUM_INDEX_MAX"]
+__all__ = ["Band", "SumIndex", "groups", "vth", "SLACK", "CHUNK", "SUM_INDEX_MAX", "DIVIDER_CACHE", "EMITTER_FIRST"]
 
 SLACK = 1e-9  # relative slack of every bound, so that rounding never rejects a set the judgement accepts
 CHUNK = 400_000  # sets handled at once: bounds memory
 SUM_INDEX_MAX = 6_000_000  # (RE, RE2) pairs sorted by their sum at most (about 100 MB)
+DIVIDER_CACHE = 3_000_000  # dividers kept between the bands of a search, all shapes together (about 200 MB)
+EMITTER_FIRST = 8  # join (small divider part, RE) first when that is this many times smaller than the dividers
 
 
 def vth(vcc, ra, rb):

@@ -2,7 +2,7 @@
 
 Heavy libraries (pandas, scipy, ortools, matplotlib, openpyxl) are imported inside the commands,
 so `drawerfit --help` stays fast.  User mistakes become one line on stderr and an exit status
-(2 bad input, 3 no design in stock), never a traceback.
+(2 bad input, 3 no design in stock, 5 search stopped at its work budget), never a traceback.
 """
 
 from __future__ import annotations
@@ -160,14 +160,18 @@ def analyze(spec, stock_file, as_json, monte_carlo, seed) -> None:
 @click.option("--report", type=click.Path(dir_okay=False), default=None, help="Write an HTML report.")
 @click.option("--quiet", is_flag=True, help="Shorter output; no stock notes.")
 @click.option("--strict", is_flag=True, help="Fail (exit 2) if any stock line cannot be read.")
+@click.option("--budget", type=click.FloatRange(0.01, 1000.0), default=1.0, show_default=True,
+              help="Work budget of the search, as a multiple of the default (about 20 s of pruning on one "
+                   "core); past it the answer is the best found, with exit status 5.")
 @user_errors
 def design(spec, stock_file, units, max_parts, guarantee, prefer, top, as_json, save, exhaustive, report, quiet,
-           strict) -> None:
+           strict, budget) -> None:
     """Design the stage in SPEC (TOML with [targets]) from the parts in the stock file."""
     from .commands.design_cmd import run_design
 
     run_design(spec, stock_file, units=units, max_parts=max_parts, guarantee=guarantee, prefer=prefer, top=top,
-               as_json=as_json, save=save, exhaustive=exhaustive, report=report, quiet=quiet, strict=strict)
+               as_json=as_json, save=save, exhaustive=exhaustive, report=report, quiet=quiet, strict=strict,
+               budget=budget)
 
 
 @main.command()

@@ -143,3 +143,9 @@ class NoDesignError(DrawerfitError):
     """Nothing in the drawer meets the spec."""
 
     exit_status = 3
+
+
+class SearchLimitError(DrawerfitError):
+    """The design search stopped at its work budget: what it shows is not proven."""
+
+    exit_status = 5

@@ -8,7 +8,7 @@ from pathlib import Path
 
 import click
 
-from ..parts import NoDesignError, SpecError
+from ..parts import NoDesignError, SearchLimitError, SpecError
 from ..values import format_code, format_si
 from .common import rating_text
 
@@ -100,7 +100,8 @@ def design_json(result, spec, analysis=None, cautions=()) -> dict:
         near = result.nearest
         out = {"feasible": False, "units": problem.units, "reason": result.reason,
                "nearest": None, "buy": [_buy_json(b) for b in result.buy], "buy_checked": result.buy_checked,
-               "buy_proven": result.buy_proven, "buy_design": None, "notes": list(result.notes)}
+               "buy_proven": result.buy_proven, "buy_design": None, "notes": list(result.notes),
+               "search": search_json(result)}
         if result.buy_design is not None:
             out["buy_design"] = {"transistor": result.buy_design.transistor.label,
                                  "parts": _role_json(result.buy_design)}
@@ -141,9 +142,21 @@ def design_json(result, spec, analysis=None, cautions=()) -> dict:
                           "parts": {r: c.equivalent.describe() for r, c in d.roles.items()}}
                          for d in result.designs[1:]],
         "notes": list(result.notes),
+        "search": search_json(result),
         "stock_checksum": None,
     }
     return out
+
+
+def search_json(result) -> dict:
+    """How far the search went: sets and steps, whether it finished, and the bound still open."""
+    st = result.stats or {}
+    open_ = st.get("open")
+    return {"proven": not st.get("truncated", False), "resistor_sets": st.get("sets", 0),
+            "judged": st.get("judged", 0), "steps": st.get("work", 0),
+            "open_bound": None if open_ is None else {
+                "part_count": int(open_[2] if result.problem.prefer == "closest" else open_[1]),
+                "distance": float(open_[1] if result.problem.prefer == "closest" else open_[2])}}
 
 
 def _buy_json(b: dict) -> dict:
@@ -325,7 +338,7 @@ def _print_infeasible(result) -> None:
 def run_design(spec_file: str, stock_file: str, *, units: int = 1, max_parts: int = 2,
                guarantee: str = "worst-case", prefer: str = "fewest-parts", top: int = 1, as_json: bool = False,
                save: str | None = None, exhaustive: bool = False, report: str | None = None,
-               quiet: bool = False, strict: bool = False) -> None:
+               quiet: bool = False, strict: bool = False, budget: float = 1.0) -> None:
     from ..cautions import cautions_for
     from ..cli import emit_json
     from ..search.design import design
@@ -341,13 +354,20 @@ def run_design(spec_file: str, stock_file: str, *, units: int = 1, max_parts: in
         report_problems(stock)
     spec = load_spec(spec_file, stock=stock)
     problem = problem_from_spec(spec, units=units, max_parts=max_parts, guarantee=guarantee, prefer=prefer)
-    result = design(problem, stock, top=top, exhaustive=exhaustive)
+    from ..progress import progress
+
+    with progress("design", quiet=quiet) as tick:
+        result = design(problem, stock, top=top, exhaustive=exhaustive, on_step=tick, budget=budget)
+    limited = bool(result.stats.get("truncated"))
     if not result.feasible:
         if as_json:
             emit_json({**design_json(result, spec), "warnings": list(stock.warnings)})
         else:
             _print_infeasible(result)
             _print_stock_summary(stock, quiet)
+        if limited:
+            raise SearchLimitError("no design was found before the search's work budget ran out; "
+                                   "that none exists is not proven (exit status 5)")
         raise NoDesignError(result.reason)
     analysis = _analysis(problem, spec, result.best)
     cautions = cautions_for(analysis, mains=spec.mains)
@@ -377,6 +397,9 @@ def run_design(spec_file: str, stock_file: str, *, units: int = 1, max_parts: in
             write_report(str(target), report, stock_file=stock_file)
             if not as_json:
                 click.echo(f"report: {report}")
+    if limited:
+        raise SearchLimitError("the search stopped at its work budget: the design shown is the best found, "
+                               "not proven optimal (exit status 5)")
 
 
 def _print_stock_summary(stock, quiet: bool) -> None:

@@ -154,9 +154,10 @@ def _choice(problem: DesignProblem, ctx: Context, f: Found) -> DesignChoice:
 
 
 def _run(problem: DesignProblem, lines, top: int, exhaustive: bool, virtual_ids=(), min_bought: int = 0,
-         stats_out: dict | None = None, budget: int | None = None, tables=None, on_step=None):
+         stats_out: dict | None = None, budget=None, tables=None, on_step=None):
     """The search over ``lines``; ``tables`` = (resistor, capacitor) candidates replaces the ones
-    built from ``lines`` (shared by the roles, or per role: ``engine.per_role``).
+    built from ``lines`` (shared by the roles, or per role: ``engine.per_role``).  ``budget``: the
+    resistor sets the search may enumerate, or (sets, steps); default ``engine``'s budgets.
 
     Lines standing for parts to buy are never pooled with the drawer (``pools``)."""
     from .shopping import BUY_FILE
@@ -188,6 +189,8 @@ def _run(problem: DesignProblem, lines, top: int, exhaustive: bool, virtual_ids=
             from .engine import SET_BUDGET, WORK_BUDGET
 
             budget, work_budget = SET_BUDGET, WORK_BUDGET
+        elif isinstance(budget, tuple):
+            budget, work_budget = budget
         search = Search([(tr, ctxs[tr.index]) for tr in trs], rtables, ctables, lines, top, virtual_ids=virtual_ids,
                         min_bought=min_bought, pools=pools, budget=budget, work_budget=work_budget, on_step=on_step)
         found = search.run()
@@ -217,27 +220,23 @@ def _with_picks(choice: "DesignChoice", pools: Pools, units: int) -> "DesignChoi
 
 
 def design(problem: DesignProblem, stock: Stock, *, top: int = 1, exhaustive: bool = False,
-           suggest: bool = True, catalogue=None, on_step=None) -> DesignResult:
+           suggest: bool = True, catalogue=None, on_step=None, budget: float | None = None) -> DesignResult:
     """The ``top`` best designs from ``stock`` for ``problem`` (exhaustive: naive enumeration).
 
     When there is none: the nearest design and (``suggest``) the fewest parts to buy from
     ``catalogue`` (StockLines standing for parts one can buy; default ``shopping.e_series_catalogue``).
+    ``budget`` scales the search's work budget (1.0: the default, ``engine.WORK_BUDGET`` steps);
+    ``on_step(note=...)`` hears of progress.
     """
     lines, notes = with_default_ratings(stock.lines)
     stats: dict = {}
-    designs, trs, why = _run(problem, lines, top, exhaustive, stats_out=stats, on_step=on_step)
+    designs, trs, why = _run(problem, lines, top, exhaustive, stats_out=stats, on_step=on_step,
+                             budget=None if budget is None else _budget(budget))
     result = DesignResult(problem, "optimal" if designs else "infeasible", designs, notes,
                           transistors_tried=[t.label for t in trs])
     result.stats = stats
     if stats.get("truncated"):
-        from .engine import WORK_BUDGET
-
-        result.notes.append(
-            f"the search stopped after {stats['sets']:,} candidate resistor sets"
-            + (f" ({stats['work']:,} partial sets formed by the bounds)" if stats.get("work", 0) > WORK_BUDGET else "")
-            + (": the designs shown are the best found, not proven optimal" if designs else
-               ": no design was found, but it is not proven that none exists (try --max-parts 1, or name "
-               "the transistor with [transistor] label, or list fewer roles in pairs)"))
+        result.notes.append(limit_note(problem, stats, designs))
         if designs:
             result.status = "best-found"
     if designs:
@@ -247,3 +246,35 @@ def design(problem: DesignProblem, stock: Stock, *, top: int = 1, exhaustive: bo
     explain_infeasible(result, lines, trs, why, suggest=suggest, catalogue=catalogue,
                        drawer_proven=not stats.get("truncated"))
     return result
+
+
+def _budget(scale: float) -> tuple[int, int]:
+    from .engine import SET_BUDGET, WORK_BUDGET
+
+    return max(1, int(SET_BUDGET * scale)), max(1, int(WORK_BUDGET * scale))
+
+
+def limit_note(problem: DesignProblem, stats: dict, designs) -> str:
+    """What a search that stopped at its work budget has proven, and how to narrow it, in words."""
+    open_ = stats.get("open")
+    done = f"the search stopped at its work budget ({stats.get('sets', 0):,} resistor sets, " \
+           f"{stats.get('work', 0):,} steps)"
+    proven = ""
+    if open_ is not None:
+        if problem.prefer == "closest":
+            d, p = open_[1], open_[2]
+            proven = f"; proven: no design lies nearer the target centres than D = {d:.3g}"
+        else:
+            p, d = open_[1], open_[2]
+            proven = f"; proven: no design has fewer than {p} parts"
+            if d > 0:
+                proven += f", and none of {p} parts lies nearer the target centres than D = {d:.3g}"
+    if designs:
+        best = designs[0]
+        what = (f"; the design shown ({best.part_count} parts, D = {best.distance:.3g}) is the best found, "
+                "not proven optimal")
+    else:
+        what = "; no design was found, and it is not proven that none exists"
+    how = ("; to narrow the search: --max-parts 1 or 2, name the transistor ([transistor] label), list fewer "
+           "roles under pairs, or raise --budget")
+    return done + proven + what + how

@@ -38,7 +38,7 @@ __all__ = ["Candidates", "KitResult", "Filled", "Unfilled", "Buy", "candidates_f
 # (the output layer, pick list, text and JSON, is in kit_output; its names stay importable from here)
 
 PPM = 1_000_000
-TRIPLES_PER_LINE = 200  # closest equivalents searched for triples per list line (max_parts=3)
+TRIPLES_PER_LINE = 200  # triples of a list line's window at most (max_parts=3); beyond, those nearest the value
 
 
 @dataclass(frozen=True)
@@ -111,16 +111,20 @@ def candidates_for(line: KitLine, stock: Stock, max_parts: int = 2,
     tables = [table]
     truncated = False
     if parts >= 3:
-        # Triples in a wide window over a big drawer run to hundreds of thousands per line, so
-        # the triples among the TRIPLES_PER_LINE equivalents closest to the target are taken
-        # (exactly, by the nearest search); when the window holds more than that, the result is
-        # marked as not proven optimal.
-        k = TRIPLES_PER_LINE
-        near = index.nearest(line.value, k, max_parts=3, min_rating=line.min_rating)
-        inside = (near.value >= line.lo) & (near.value <= line.hi) & (near.part_count == 3)
-        tables.append(near.take(np.flatnonzero(inside)))
-        if len(near) == k and line.lo <= near.value[-1] <= line.hi:
+        # Triples are built by value window (triples.py), never all: every triple in the line's
+        # window when it holds at most TRIPLES_PER_LINE, else the window of that many around the
+        # target (then the result is marked as not proven optimal).
+        from .triples import TripleSpace
+
+        key = ("triples", line.kind)
+        if key not in indexes:
+            indexes[key] = TripleSpace(index.pool, 1, {r: index.pairs(r) for r in (False, True)})
+        space = indexes[key]
+        lo, hi = line.lo, line.hi
+        if space.count(lo, hi) > TRIPLES_PER_LINE:
+            lo, hi = space.around(line.value, TRIPLES_PER_LINE, lo, hi)
             truncated = True
+        tables.append(_TripleTable(space, space.build(lo, hi), line.min_rating))
     sizes = [len(t) for t in tables]
     n = sum(sizes)
     if n == 0:
@@ -157,6 +161,32 @@ def candidates_for(line: KitLine, stock: Stock, max_parts: int = 2,
     idx = np.nonzero(keep)[0]
     return Candidates(pc[idx], err[idx], members[idx], counts[idx],
                       lambda i, _idx=idx: equivalent(int(_idx[i])), n, truncated)
+
+
+class _TripleTable:
+    """A window of triples with the attributes ``candidates_for`` reads of an equivalent table."""
+
+    def __init__(self, space, blk, min_rating: float | None):
+        keep = np.ones(len(blk), bool)  # as for pairs, polarized capacitors in series are candidates
+        if min_rating is not None:
+            keep &= blk.rating >= min_rating * (1 - 1e-12)
+        blk = blk.take(np.flatnonzero(keep))
+        from .equivalents import _counts
+
+        self.space, self.blk = space, blk
+        self.value = blk.v
+        self.part_count = np.full(len(blk), 3, np.int64)
+        self.members, self.counts = _counts(np.asarray(blk.pos, np.int64), space.pool)
+
+    def __len__(self) -> int:
+        return len(self.blk)
+
+    def equivalent(self, i: int):
+        from .equivalents import _table
+
+        b, j = self.blk, slice(int(i), int(i) + 1)
+        return _table(self.space.pool, np.asarray(b.pos[j], np.int64), b.v[j], b.vlo[j], b.vhi[j], b.rating[j],
+                      b.form[j].astype(np.int64), b.pol_series[j]).equivalent(0)
 
 
 def _pair_key(a: np.ndarray, b: np.ndarray, top: int) -> np.ndarray:

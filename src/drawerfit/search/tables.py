@@ -22,8 +22,8 @@ from typing import Sequence
 import numpy as np
 
 from ..constants import POWER_RESISTOR, VOLTAGE_NONPOLAR, VOLTAGE_POLARIZED
-from ..equivalents import (FORM_NAMES, EquivalentTable, _combine, _counts, _form_of, _inverse, _pairs, _pool, _Pool,
-                           _table)
+from ..equivalents import FORM_NAMES, EquivalentTable, _counts, _form_of, _pairs, _pool, _Pool, _table
+from ..triples import TripleSpace
 from ..parts import StockLine
 
 __all__ = ["RoleTable", "Candidates", "build_tables", "with_default_ratings", "equivalent_key", "TRIPLE_BLOCK"]
@@ -135,115 +135,11 @@ def _pair_table(pool: _Pool, kind: str, units: int) -> RoleTable:
     return _make(kind, 2, pool, *cat)
 
 
-class _TripleSpace:
-    """Every triple 'single <outer> pair' of one pool, counted and built by value window."""
-
-    def __init__(self, pool: _Pool, kind: str, units: int):
-        self.pool, self.kind, self.units = pool, kind, units
-        self.pairs = {recip: _pairs(pool, recip, units) for recip in (False, True)}
-        self.built = 0  # triples built so far (a measure of the work)
-        self.live: list = []  # the windows now built, oldest first
-
-    def _spans(self, pair_recip: bool, outer_recip: bool, lo: float, hi: float):
-        pool, pr = self.pool, self.pairs[pair_recip]
-        plo = _inverse(outer_recip, pool.v, lo) if lo > 0 else np.zeros(len(pool.v))
-        phi = _inverse(outer_recip, pool.v, hi) if np.isfinite(hi) else np.full(len(pool.v), np.inf)
-        plo, phi = np.nan_to_num(plo, nan=np.inf), np.nan_to_num(phi, nan=np.inf)
-        if not outer_recip:
-            phi = np.where(phi < 0, -1.0, phi)
-        with np.errstate(over="ignore", invalid="ignore"):
-            start = np.searchsorted(pr.v, plo * (1 - 1e-12), side="left")
-            stop = np.searchsorted(pr.v, phi * (1 + 1e-12), side="right")
-        return start, np.maximum(stop, start)
-
-    def count(self, lo: float, hi: float) -> int:
-        """An upper bound on the triples with nominal value in [lo, hi] (before the quantity and
-        ordering filters)."""
-        total = 0
-        for pair_recip in (False, True):
-            for outer_recip in (False, True):
-                start, stop = self._spans(pair_recip, outer_recip, lo, hi)
-                total += int((stop - start).sum())
-        return total
-
-    def windows(self, lo: float = 0.0, hi: float = np.inf, block: int = TRIPLE_BLOCK) -> list[tuple[float, float]]:
-        """Half-open value windows covering [lo, hi) with at most about ``block`` triples each."""
-        pool = self.pool
-        if not len(pool.v):
-            return []
-        vmax = 3.0 * float(pool.v.max()) * (1 + 1e-9)
-        vmin = float(pool.v.min()) / 3.0 * (1 - 1e-9)
-        lo, hi = max(lo, vmin), min(hi, vmax)
-        if not lo < hi:
-            return []
-        if self.count(lo, hi) <= block:
-            return [(lo, hi)]
-        out = []
-        a = lo
-        while a < hi:
-            # grow the window geometrically, then bisect (in log value) to about ``block`` triples
-            b_lo, b_hi = a, hi
-            if self.count(a, hi) <= block:
-                out.append((a, hi))
-                break
-            for _ in range(40):
-                mid = float(np.sqrt(b_lo * b_hi)) if b_lo > 0 else 0.5 * (b_lo + b_hi)
-                if self.count(a, mid) <= block:
-                    b_lo = mid
-                else:
-                    b_hi = mid
-                if b_hi / max(b_lo, 1e-300) < 1 + 1e-9:
-                    break
-            b = b_lo if b_lo > a else b_hi  # a single value may hold more than a block: take it whole
-            out.append((a, b))
-            a = b
-        return out
-
-    def build(self, lo: float, hi: float, last: bool) -> RoleTable:
-        """The triples with nominal value in [lo, hi) ([lo, hi] when ``last``), sorted, deduplicated."""
-        pool, units = self.pool, self.units
-        blocks = []
-        for pair_recip in (False, True):
-            pr = self.pairs[pair_recip]
-            for outer_recip in (False, True):
-                start, stop = self._spans(pair_recip, outer_recip, lo, hi)
-                from ..equivalents import _ranges
-
-                a, k = _ranges(np.arange(len(pool.v)), start, stop)
-                if not len(a):
-                    continue
-                v, vlo, vhi, r = _combine(pool.kind, outer_recip, (pool.v[a], pool.lo[a], pool.hi[a], pool.r[a]),
-                                          (pr.v[k], pr.lo[k], pr.hi[k], pr.r[k]))
-                pos = np.stack([a, pr.i[k], pr.j[k]], axis=1)
-                series_caps_outer = pool.kind == "capacitor" and outer_recip
-                pol_series = pr.pol_series[k] | (series_caps_outer & (pool.pol[a] | pool.pol[pr.i[k]]
-                                                                       | pool.pol[pr.j[k]]))
-                ok = ~pol_series & (v >= lo) & ((v <= hi) if last else (v < hi))
-                # a line used c times in one equivalent must hold c * units
-                s = np.sort(pos, axis=1)
-                same01, same12 = s[:, 0] == s[:, 1], s[:, 1] == s[:, 2]
-                uses = np.stack([1 + same01 + (same01 & same12), 1 + same12, np.ones(len(s), np.int64)], axis=1)
-                ok &= np.all(pool.qty[s] >= uses * units, axis=1)
-                if pair_recip == outer_recip:  # all-series or all-parallel: keep one ordering, a <= b <= c
-                    ok &= a <= pr.i[k]
-                sel = np.flatnonzero(ok)
-                form = _form_of(self.kind, pair_recip, outer_recip)
-                blocks.append((pos[sel], np.full(len(sel), form), v[sel], vlo[sel], vhi[sel], r[sel]))
-        if not blocks:
-            z = np.zeros(0)
-            return _make(self.kind, 3, pool, np.zeros((0, 3), np.int64), z.astype(np.int64), z, z, z, z)
-        pos, form, v, vlo, vhi, r = (np.concatenate([b[i] for b in blocks]) for i in range(6))
-        # drop repeats: the same form from the same lines in the same counts (a + (b ∥ c) and
-        # b + (a ∥ c) when a and b are two lines of one value), keeping the first
-        key = np.sort(pos, axis=1).astype(np.int64)
-        bits = np.ascontiguousarray(v, np.float64).view(np.int64)
-        order = np.lexsort((np.arange(len(v)), bits, key[:, 2], key[:, 1], key[:, 0], form))
-        first = np.ones(len(v), bool)
-        same = ((form[order][1:] == form[order][:-1]) & np.all(key[order][1:] == key[order][:-1], axis=1)
-                & (bits[order][1:] == bits[order][:-1]))
-        first[1:] = ~same
-        keep = np.sort(order[first])
-        return _make(self.kind, 3, pool, pos[keep], form[keep], v[keep], vlo[keep], vhi[keep], r[keep])
+def _triple_table(space: TripleSpace, lo: float, hi: float, last: bool) -> RoleTable:
+    """The triples of one value window as a role table (polarized capacitors in series left out)."""
+    blk = space.build(lo, hi, last)
+    blk = blk.take(np.flatnonzero(~blk.pol_series))
+    return _make(space.kind, 3, space.pool, blk.pos, blk.form, blk.v, blk.vlo, blk.vhi, blk.rating)
 
 
 class Candidates:
@@ -262,7 +158,7 @@ class Candidates:
         self.units = units
         self.pool = _pool(usable, units) if usable else None
         self._tables: dict[int, list] = {}
-        self._triples: _TripleSpace | None = None
+        self._triples: TripleSpace | None = None
 
     @property
     def available(self) -> tuple[int, ...]:
@@ -281,7 +177,7 @@ class Candidates:
         if 3 not in self.available:
             return 0
         if self._triples is None:
-            self._triples = _TripleSpace(self.pool, self.kind, self.units)
+            self._triples = TripleSpace(self.pool, self.units)
         return self._triples.count(0.0, np.inf)
 
     def tables(self, count: int) -> list:
@@ -295,9 +191,9 @@ class Candidates:
                 self._tables[2] = [_pair_table(self.pool, self.kind, self.units)]
             else:
                 if self._triples is None:
-                    self._triples = _TripleSpace(self.pool, self.kind, self.units)
+                    self._triples = TripleSpace(self.pool, self.units)
                 space = self._triples
-                wins = space.windows()
+                wins = space.windows(block=TRIPLE_BLOCK)
                 self._tables[3] = [TripleWindow(space, lo, hi, k == len(wins) - 1) for k, (lo, hi) in enumerate(wins)]
         return self._tables[count]
 
@@ -309,7 +205,7 @@ class Candidates:
             return None
         if len(ts) > 1 or isinstance(ts[0], TripleWindow):
             # whole: built here without the window cache (small drawers, tests, the naive enumeration)
-            ts = [t.space.build(t.lo, t.hi, t.last) if isinstance(t, TripleWindow) else t for t in ts]
+            ts = [_triple_table(t.space, t.lo, t.hi, t.last) if isinstance(t, TripleWindow) else t for t in ts]
         if len(ts) == 1:
             return ts[0]
         return _make(self.kind, count, self.pool, np.concatenate([t.pos for t in ts]),
@@ -344,7 +240,7 @@ class TripleWindow:
     """One value window of the triples, built on first use; at most ``KEEP_WINDOWS`` windows of a
     space stay built (the least recently built is dropped and built again if asked for)."""
 
-    def __init__(self, space: _TripleSpace, lo: float, hi: float, last: bool):
+    def __init__(self, space: TripleSpace, lo: float, hi: float, last: bool):
         self.space, self.lo, self.hi, self.last = space, lo, hi, last
         self._t: RoleTable | None = None
 
@@ -355,8 +251,7 @@ class TripleWindow:
     @property
     def table(self) -> RoleTable:
         if self._t is None:
-            self._t = self.space.build(self.lo, self.hi, self.last)
-            self.space.built += len(self._t)
+            self._t = _triple_table(self.space, self.lo, self.hi, self.last)
             live = self.space.live
             live.append(self)
             while len(live) > KEEP_WINDOWS:

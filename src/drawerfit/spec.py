@@ -33,7 +33,7 @@ _TOP_KEYS = {"topology", "polarity", "supply", "source_resistance", "load", "mai
              # written by `design --save` for take and report; analyze reads past them
              "units", "stock_checksum", "stock_file", "pick_list", "design"}
 _TRANSISTOR_KEYS = {"label", "hfe", "hfe_min", "hfe_max", "vbe", "vce_sat", "vceo", "ic_max",
-                    "pd", "i_sat", "vbe_tempco"}
+                    "pd", "i_sat", "vbe_tempco", "pins"}
 _TARGET_UNITS = {"ie": "A", "ie_min": "A", "ie_max": "A", "f_low": "Hz", "swing": "V",
                  "rin_min": "ohm", "rout_max": "ohm", "gain_min": None, "gain_max": None}
 _LIMIT_KEYS = {"derating", "resistor_derating", "transistor_derating", "cap_voltage_margin",
@@ -244,6 +244,17 @@ def _transistor(r: _Reader, data, polarity, stock, design: bool = False):
             v = getattr(line, name, None)
             if v is not None:
                 fields[name] = float(v)
+        if line.pins:
+            fields["pins"] = line.pins
+    if "pins" in t:
+        from .parts import parse_pin_order
+
+        if not isinstance(t["pins"], str):
+            raise r.fail("transistor.pins", t["pins"], "expected the leads in pin order, e.g. \"EBC\"")
+        try:
+            fields["pins"] = parse_pin_order(t["pins"])
+        except ValueError as exc:
+            raise r.fail("transistor.pins", t["pins"], str(exc)) from None
     units = {"vbe": "V", "vce_sat": "V", "vceo": "V", "ic_max": "A", "pd": "W", "i_sat": "A"}
     for name, unit in units.items():
         if name in t:

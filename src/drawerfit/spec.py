@@ -69,6 +69,7 @@ class Spec:
     bypass: bool = False  # design: common emitter with RE2 bypassed by CE
     title: str = ""
     assumptions: tuple[str, ...] = ()
+    notes: tuple[str, ...] = ()  # e.g. a saved value changed by hand, read as written
 
     @property
     def kind(self) -> str:
@@ -185,8 +186,11 @@ def parse_spec(data: Mapping[str, Any], path: str = "<spec>", stock=None) -> Spe
     from .analysis.targets import IE_WINDOW, Targets
     from .stages import Conditions
 
+    from .readable_toml import restore
+
     r = _Reader(path)
-    r.table("", data, _TOP_KEYS)
+    r.table("", data, _TOP_KEYS | {"exact"})
+    data, notes = restore(data, path)  # a saved design's exact numbers in place of their rounded text
     topology = data.get("topology")
     if not isinstance(topology, str) or topology not in TOPOLOGY_ROLES:
         raise r.fail("topology", topology, f"expected one of {', '.join(TOPOLOGY_ROLES)}")
@@ -224,7 +228,7 @@ def parse_spec(data: Mapping[str, Any], path: str = "<spec>", stock=None) -> Spe
     return Spec(path=path, topology=topology, polarity=polarity, supply=supply,
                 source_resistance=rs, load=load, mains=mains, transistor=transistor,
                 transistor_label=label, parts=parts, targets=targets, conditions=conditions,
-                pairs=pairs, bypass=bypass, title=title, assumptions=tuple(r.assumptions))
+                pairs=pairs, bypass=bypass, title=title, assumptions=tuple(r.assumptions), notes=tuple(notes))
 
 
 def _transistor(r: _Reader, data, polarity, stock, design: bool = False):

@@ -122,6 +122,8 @@ def summary_lines(result, spec=None, cautions=None) -> list[str]:
         out.append(f"Note: {ch.name}: {ch.message}")
     if spec is not None and spec.assumptions:
         out.append("Assumed: " + "; ".join(spec.assumptions))
+    for note in (spec.notes if spec is not None else ()):
+        out.append(f"Note: {note}")
     out.append("")
     out.append("Cautions")
     for cau in cautions:

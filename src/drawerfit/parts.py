@@ -163,3 +163,9 @@ class NoDesignError(DrawerfitError):
     """Nothing in the drawer meets the spec."""
 
     exit_status = 3
+
+
+class ChecksNotMetError(DrawerfitError):
+    """`analyze --must-pass`: the stage misses a target or a rating (the analysis was printed)."""
+
+    exit_status = 4

@@ -16,7 +16,10 @@ def _load_stock(stock_file: str):
 
 
 def run_analyze(spec_file: str, *, stock_file: str | None = None, as_json: bool = False,
-                monte_carlo: int = 0, seed: int = 0) -> None:
+                monte_carlo: int = 0, seed: int = 0, must_pass: bool = False) -> None:
+    """Print the analysis; with ``must_pass``, then raise ``ChecksNotMetError`` (exit status 4) when
+    a check other than advice fails: the state, a target, a rating or a capacitor's polarity.
+    A rating that is not given is not checked and does not fail."""
     from ..analysis import analyse
     from ..cautions import cautions_for
     from ..cli import emit_json
@@ -32,9 +35,15 @@ def run_analyze(spec_file: str, *, stock_file: str | None = None, as_json: bool 
         # The cautions still reach a person: on stderr, so stdout stays plain JSON.
         for c in cautions:
             click.echo(f"caution: {c.text}", err=True)
-        return
-    for line in summary_lines(result, spec, cautions):
-        click.echo(line)
+    else:
+        for line in summary_lines(result, spec, cautions):
+            click.echo(line)
+    if must_pass and result.warnings:
+        from ..parts import ChecksNotMetError
+
+        missed = [c.name for c in result.warnings]
+        raise ChecksNotMetError(f"{spec_file}: {len(missed)} check{'s' if len(missed) != 1 else ''} not met: "
+                                + ", ".join(missed))
 
 
 def _v(x, unit, digits=4):

@@ -113,3 +113,76 @@ def test_ngspice_is_quiet_when_the_ratings_hold(tmp_path):
     run = subprocess.run([exe, "-b", deck.name], cwd=tmp_path, capture_output=True, text=True, timeout=60)
     assert "exceeded" not in run.stdout + run.stderr
     assert "Error" not in run.stdout + run.stderr
+
+
+# Roles made of several parts, written into the follower design (invented values): RE 830R as
+# 680R + (300R ∥ 300R) or 1k66 ∥ (1k + 660R), C2 220µ as 110µ ∥ 110µ, C1 22µ as 44µ in series
+# with 44µ.  Each network's value is the role's, so the simulated stage must be the same.
+_NETWORKS = {
+    "RE series-parallel": ("RE", "series-parallel", (680.0, 300.0, 300.0)),
+    "RE parallel-series": ("RE", "parallel-series", (1660.0, 1000.0, 660.0)),
+    "C2 parallel": ("C2", "parallel", (110e-6, 110e-6)),
+    "C1 series": ("C1", "series", (44e-6, 44e-6)),
+}
+
+
+def _with_network(tmp_path, role, arrangement, values):
+    import tomllib
+
+    import tomli_w
+
+    data = tomllib.loads(FOLLOWER.read_text(encoding="utf-8"))
+    data["design"]["roles"][role]["arrangement"] = arrangement
+    data["design"]["roles"][role]["parts"] = [
+        {"value": v, "location": f"X-{i}", "source": {"file": "bench_drawer.csv", "row": 50 + i}}
+        for i, v in enumerate(values)]
+    data.pop("pick_list")
+    path = tmp_path / "network.toml"
+    path.write_text(tomli_w.dumps(data), encoding="utf-8")
+    return path
+
+
+_OP_AND_AC = """.control
+option reltol=1e-9 abstol=1e-15 vntol=1e-12
+op
+print v(b) v(e) @q1[ic]
+ac lin 3 2 20
+print vm(out)
+.endc
+"""
+
+
+def _op_and_ac(deck_text: str, workdir) -> dict:
+    exe = require_ngspice()
+    deck = workdir / "run.cir"
+    deck.write_text(deck_text.rstrip()[: -len(".end")] + _OP_AND_AC + ".end\n", encoding="utf-8")
+    run = subprocess.run([exe, "-b", deck.name], cwd=workdir, capture_output=True, text=True, timeout=60)
+    values = {}
+    for line in run.stdout.splitlines():
+        m = _PRINTED.match(line)
+        if m:
+            values[m.group(1)] = float(m.group(2))
+    ac = [float(x) for x in re.findall(r"^\d+\s+[-+0-9.eE]+\s+([-+0-9.eE]+)\s*$", run.stdout, re.M)]
+    if not {"v(e)", "v(b)", "@q1[ic]"} <= set(values) or len(ac) != 3:
+        raise AssertionError(f"ngspice gave no result ({run.returncode}):\n{run.stdout}\n{run.stderr}")
+    return {**values, "ac": ac}
+
+
+@pytest.mark.parametrize("case", list(_NETWORKS))
+def test_a_role_drawn_as_its_parts_simulates_as_the_single_equivalent(tmp_path, case):
+    # source: ngspice.  The exported deck wires R1a, R1b... as the arrangement says; the same stage
+    # with one element of the role's value must give the same operating point and response
+    from drawerfit.report.export import design_netlist
+    from drawerfit.report.netlist import stage_netlist
+
+    role, arrangement, values = _NETWORKS[case]
+    design = load_design(_with_network(tmp_path, role, arrangement, values))
+    parts = design_netlist(design, analyses=False)
+    names = [line.split()[0] for line in parts.splitlines() if line[:1] in "RC" and not line.startswith("*")]
+    assert [n for n in names if n.startswith(role)] == [role + x for x in "abc"[:len(values)]]
+    single = stage_netlist(design.stage, temp_c=design.conditions.nominal_temp)
+    assert not any(line.startswith(role + "a") for line in single.splitlines())
+    got, want = _op_and_ac(parts, tmp_path), _op_and_ac(single, tmp_path)
+    for key in ("v(b)", "v(e)", "@q1[ic]"):
+        assert got[key] == pytest.approx(want[key], rel=1e-6), key
+    assert got["ac"] == pytest.approx(want["ac"], rel=1e-6)  # 2, 11 and 20 Hz: around the corner

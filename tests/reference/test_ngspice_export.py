@@ -21,7 +21,7 @@ from drawerfit.analysis.core import evaluate
 from drawerfit.cli import main
 from drawerfit.report.design_file import load_design
 
-from ..report.helpers import CE_PNP, FOLLOWER, PLAIN, VARIANTS, write_spec
+from ..report.helpers import CE_PNP, FOLLOWER, PLAIN, VARIANTS, with_networks, write_spec
 from .spice_harness import _corner, require_ngspice
 
 pytestmark = pytest.mark.ngspice
@@ -126,22 +126,6 @@ _NETWORKS = {
 }
 
 
-def _with_network(tmp_path, role, arrangement, values):
-    import tomllib
-
-    import tomli_w
-
-    data = tomllib.loads(FOLLOWER.read_text(encoding="utf-8"))
-    data["design"]["roles"][role]["arrangement"] = arrangement
-    data["design"]["roles"][role]["parts"] = [
-        {"value": v, "location": f"X-{i}", "source": {"file": "bench_drawer.csv", "row": 50 + i}}
-        for i, v in enumerate(values)]
-    data.pop("pick_list")
-    path = tmp_path / "network.toml"
-    path.write_text(tomli_w.dumps(data), encoding="utf-8")
-    return path
-
-
 _OP_AND_AC = """.control
 option reltol=1e-9 abstol=1e-15 vntol=1e-12
 op
@@ -176,7 +160,7 @@ def test_a_role_drawn_as_its_parts_simulates_as_the_single_equivalent(tmp_path, 
     from drawerfit.report.netlist import stage_netlist
 
     role, arrangement, values = _NETWORKS[case]
-    design = load_design(_with_network(tmp_path, role, arrangement, values))
+    design = load_design(with_networks(tmp_path, FOLLOWER, {role: (arrangement, values)}))
     parts = design_netlist(design, analyses=False)
     names = [line.split()[0] for line in parts.splitlines() if line[:1] in "RC" and not line.startswith("*")]
     assert [n for n in names if n.startswith(role)] == [role + x for x in "abc"[:len(values)]]

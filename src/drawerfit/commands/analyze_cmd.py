@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import click
 
+from ..parts import pin_order_text
 from ..values import format_si
 
 __all__ = ["run_analyze", "summary_lines"]
@@ -75,7 +76,8 @@ def summary_lines(result, spec=None, cautions=None) -> list[str]:
     head += f", load {_v(s.load, 'ohm')}" if s.load is not None else ", no load"
     out.append((spec.title + ": " if spec is not None and spec.title else "") + head)
     hfe = f"hFE {t.hfe_min:g}" if t.hfe_min == t.hfe_max else f"hFE {t.hfe_min:g}–{t.hfe_max:g} (nominal {t.hfe:.4g})"
-    out.append(f"Q1 {t.label or '(unnamed)'}: {hfe}, VBE {_v(t.vbe, 'V')} at 25 °C")
+    pins = f", pins {pin_order_text(t.pins)} (pin 1 first)" if t.pins else ""
+    out.append(f"Q1 {t.label or '(unnamed)'}: {hfe}, VBE {_v(t.vbe, 'V')} at 25 °C{pins}")
     warnings = result.warnings
     if warnings:
         out.append("")

@@ -61,6 +61,7 @@ class PickItem:
     per_unit: float  # whole for a design; a kit may spread a part over bins
     count: int
     source: Mapping[str, object] = field(default_factory=dict)
+    roles: tuple[str, ...] = ()  # the designators it gives parts for (R1, REa, REb)
 
 
 @dataclass(frozen=True)
@@ -155,10 +156,12 @@ def _pick_list(path: str, items, units: int) -> tuple[PickItem, ...]:
     if not isinstance(items, list):
         raise SpecError(f"{_where(path, 'pick_list')}: must be a list of entries")
     out = []
-    for e in pick_entries(items, units, path):
+    for e, raw in zip(pick_entries(items, units, path), items):
         per_unit = int(e.per_unit) if float(e.per_unit).is_integer() else e.per_unit
+        names = raw.get("roles", ()) if isinstance(raw, Mapping) else ()
+        roles = tuple(str(n)[:20] for n in names) if isinstance(names, list) else ()
         out.append(PickItem(e.location, e.part, per_unit, e.count,
-                            {"file": e.file, "sheet": e.sheet, "row": e.row}))
+                            {"file": e.file, "sheet": e.sheet, "row": e.row}, roles))
     return tuple(out)
 
 

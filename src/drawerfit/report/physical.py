@@ -102,6 +102,7 @@ class Member:
     rating: float | None = None
     location: str = ""
     row: object = None
+    arrangement: str = "single"  # of the role the part belongs to
 
 
 def members_of(role: str, kind: str, choice) -> list[Member]:
@@ -115,4 +116,4 @@ def members_of(role: str, kind: str, choice) -> list[Member]:
     edges = wiring(arrangement, len(placed))
     share = shares(kind, arrangement, [p.value for p in placed])
     return [Member(n, p.value, e, s, getattr(p, "tolerance", None), getattr(p, "rating", None), p.location,
-                   p.source.get("row")) for n, p, e, s in zip(names, placed, edges, share)]
+                   p.source.get("row"), arrangement) for n, p, e, s in zip(names, placed, edges, share)]

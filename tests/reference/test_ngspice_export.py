@@ -37,18 +37,23 @@ wrdata ac.txt vm(out) vr(out)
 _PRINTED = re.compile(r"^\s*(?:\w+\.)?(\S+)\s*=\s*([-+0-9.eE]+)\s*$")
 
 
-def _simulate(deck_text: str, workdir) -> dict:
+def _run(deck_text: str, workdir, control: str):
+    """Run the deck as written, with ``control`` before its .end: (printed values, the output)."""
     exe = require_ngspice()
     deck = workdir / "run.cir"
-    # Run the exported deck as written, with a control block before its .end.
     assert deck_text.rstrip().endswith(".end")
-    deck.write_text(deck_text.rstrip()[: -len(".end")] + _CONTROL + ".end\n", encoding="utf-8")
+    deck.write_text(deck_text.rstrip()[: -len(".end")] + control + ".end\n", encoding="utf-8")
     run = subprocess.run([exe, "-b", deck.name], cwd=workdir, capture_output=True, text=True, timeout=60)
     values = {}
     for line in run.stdout.splitlines():
         m = _PRINTED.match(line)
         if m:
             values[m.group(1)] = float(m.group(2))
+    return values, run
+
+
+def _simulate(deck_text: str, workdir) -> dict:
+    values, run = _run(deck_text, workdir, _CONTROL)
     if not {"v(e)", "@q1[ic]", "@q1[ib]"} <= set(values):
         raise AssertionError(f"ngspice gave no operating point ({run.returncode}):\n{run.stdout}\n{run.stderr}")
     return values
@@ -137,15 +142,7 @@ print vm(out)
 
 
 def _op_and_ac(deck_text: str, workdir) -> dict:
-    exe = require_ngspice()
-    deck = workdir / "run.cir"
-    deck.write_text(deck_text.rstrip()[: -len(".end")] + _OP_AND_AC + ".end\n", encoding="utf-8")
-    run = subprocess.run([exe, "-b", deck.name], cwd=workdir, capture_output=True, text=True, timeout=60)
-    values = {}
-    for line in run.stdout.splitlines():
-        m = _PRINTED.match(line)
-        if m:
-            values[m.group(1)] = float(m.group(2))
+    values, run = _run(deck_text, workdir, _OP_AND_AC)
     ac = [float(x) for x in re.findall(r"^\d+\s+[-+0-9.eE]+\s+([-+0-9.eE]+)\s*$", run.stdout, re.M)]
     if not {"v(e)", "v(b)", "@q1[ic]"} <= set(values) or len(ac) != 3:
         raise AssertionError(f"ngspice gave no result ({run.returncode}):\n{run.stdout}\n{run.stderr}")

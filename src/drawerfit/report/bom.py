@@ -18,7 +18,7 @@ from ..stages import RESISTOR_ROLES
 from ..values import format_code, format_percent, format_si
 from .design_file import DesignFile
 
-__all__ = ["BomRow", "COLUMNS", "bom_rows", "neutralise", "write_bom", "write_bom_csv", "write_bom_xlsx",
+__all__ = ["BomRow", "COLUMNS", "bom_rows", "roles_in_order", "neutralise", "write_bom", "write_bom_csv", "write_bom_xlsx",
            "bom_csv_bytes", "bom_xlsx_bytes", "FORMULA_STARTS"]
 
 # A spreadsheet reads a cell starting with one of these as a formula (or a formula's prefix), or may
@@ -49,6 +49,15 @@ COLUMNS = (
 )
 
 ROLE_ORDER = ("R1", "R2", "RE", "RE2", "RC", "C1", "C2", "CE")
+
+
+def roles_in_order(stage):
+    """(role, part, unit, rating unit) of each part the stage has, in the order lists show them."""
+    for role in ROLE_ORDER:
+        part = stage.parts.get(role)
+        if part is not None:
+            unit = _unit(role)
+            yield role, part, unit, "W" if unit == "ohm" else "V"
 
 
 @dataclass(frozen=True)
@@ -103,11 +112,7 @@ def bom_rows(design: DesignFile) -> list[BomRow]:
     stage, units = design.stage, design.units
     members = role_members(design)
     rows: list[BomRow] = []
-    for role in ROLE_ORDER:
-        part = stage.parts.get(role)
-        if part is None:
-            continue
-        unit = _unit(role)
+    for role, part, unit, _rating_unit in roles_in_order(stage):
         choice = design.roles.get(role)
         arrangement = choice.arrangement if choice else "single"
         if choice and choice.describe and arrangement != "single":

@@ -39,7 +39,7 @@ def _num(x: float) -> str:
 def design_netlist(design: DesignFile, *, analyses: bool = True) -> str:
     """The deck as text.  ``analyses`` adds .op and an .ac sweep around the corner."""
     from ..analysis.core import evaluate
-    from .bom import ROLE_ORDER
+    from .bom import roles_in_order
     from .figures import gather, polarity_text
     from .netlist import stage_netlist
 
@@ -60,12 +60,7 @@ def design_netlist(design: DesignFile, *, analyses: bool = True) -> str:
         "*",
         "* Parts (designator: value, tolerance, rating; then each physical part and its bin):",
     ]
-    for role in ROLE_ORDER:
-        part = stage.parts.get(role)
-        if part is None:
-            continue
-        unit = "ohm" if role.startswith("R") else "F"
-        rating_unit = "W" if unit == "ohm" else "V"
+    for role, part, unit, rating_unit in roles_in_order(stage):
         rating = f", {format_si(part.rating, rating_unit, 3)} rating" if part.rating else ""
         tol = f", +/-{format_percent(part.tolerance)}" if part.tolerance else ""
         choice = design.roles.get(role)

@@ -143,17 +143,12 @@ def _where(location, row) -> str:
 
 def parts_table(design: DesignFile, figs, members) -> str:
     """A row per role, and under a role of several parts a row per part with its designator."""
-    from .bom import ROLE_ORDER
+    from .bom import roles_in_order
     from .figures import polarity_text
 
     stage, fig = design.stage, figs.nominal
     rows = []
-    for role in ROLE_ORDER:
-        part = stage.parts.get(role)
-        if part is None:
-            continue
-        unit = "ohm" if role.startswith("R") else "F"
-        rating_unit = "W" if unit == "ohm" else "V"
+    for role, part, unit, rating_unit in roles_in_order(stage):
         choice = design.roles.get(role)
         parts = members.get(role, ())
         if unit == "ohm":

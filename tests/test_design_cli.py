@@ -110,7 +110,7 @@ def test_people_output_and_bad_spec(tmp_path, samples):
 def test_report_option_writes_the_html_report(tmp_path, samples):
     import tomllib
 
-    from drawerfit.values import format_code
+    from drawerfit.values import format_code, parse_value
 
     out, saved = tmp_path / "r.html", tmp_path / "d.toml"
     r = CliRunner().invoke(main, ["design", str(samples / "specs" / "bench_buffer.toml"), "--stock",
@@ -120,7 +120,7 @@ def test_report_option_writes_the_html_report(tmp_path, samples):
     page = out.read_text(encoding="utf-8")
     re_value = tomllib.loads(saved.read_text(encoding="utf-8"))["design"]["roles"]["RE"]["value"]
     assert page.lstrip().lower().startswith("<!doctype html")
-    assert format_code(float(re_value), "ohm") in page  # the chosen emitter resistor is on the page
+    assert format_code(parse_value(re_value), "ohm") in page  # the chosen emitter resistor is on the page
 
 
 def test_demo_writes_nothing_into_the_samples(samples):

@@ -191,7 +191,7 @@ def test_a_better_part_is_taken_only_when_the_named_ones_run_out():
     entries = {e["location"]: e for e in pick_list(r.best, 4)}
     assert any(ln.index == 0 for c in r.best.roles.values() for ln, _ in c.equivalent.uses)
     assert entries["R10K-0"]["count"] == 6 and entries["R10K-1"]["count"] == 2
-    assert entries["R10K-1"]["stands_in_for"] == [{"part": "resistor 10k 5% 250 mW", "row": 2, "count": 2}]
+    assert entries["R10K-1"]["stands_in_for"] == [{"part": "resistor 10k 5 % 250 mW", "row": 2, "count": 2}]
     assert "stands_in_for" not in entries["R10K-0"]
 
 

@@ -123,7 +123,7 @@ SPEC = st.fixed_dictionaries(
         "pairs": value, "units": value, "stock_file": value, "stock_checksum": value, "pick_list": value,
         "transistor": st.one_of(value, st.fixed_dictionaries({}, optional={
             k: st.one_of(st.sampled_from(["150", "300", "0.65 V", "40 V", "100 mA"]), value)
-            for k in ("label", "hfe", "hfe_min", "hfe_max", "vbe", "vceo", "ic_max", "pd", "vbe_tempco")})),
+            for k in ("label", "hfe", "hfe_min", "hfe_max", "vbe", "vceo", "ic_max", "pd", "vbe_tempco", "pins")})),
         "parts": st.one_of(value, st.dictionaries(st.sampled_from(["R1", "R2", "RE", "RC", "RE2", "C1", "C2",
                                                                    "CE"]), PART, max_size=8)),
         "targets": st.one_of(value, st.dictionaries(st.sampled_from(["ie", "ie_min", "ie_max", "f_low", "swing",
@@ -131,6 +131,11 @@ SPEC = st.fixed_dictionaries(
         "limits": st.one_of(value, st.dictionaries(st.sampled_from(["derating", "ambient", "ambient_min",
                                                                     "cap_voltage_margin"]), value, max_size=3)),
         "design": value,
+        # a saved design's exact numbers, under dotted paths that may or may not name a key
+        "exact": st.one_of(value, st.dictionaries(
+            st.sampled_from(["parts.R1.value", "parts.R1", "parts", "targets.ie_min", "x.y", "", "..",
+                             "design.roles.RE.parts.0.value", "transistor.hfe_min", "pick_list.0"]), value,
+            max_size=3)),
     })
 
 

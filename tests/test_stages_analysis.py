@@ -146,9 +146,10 @@ def test_netlist_tunes_is_to_the_tool_vbe():
     # Diode law: IC = IS·(exp(VBE/VT) − 1) at 25 °C with VT from scipy.constants.
     ic = i_sat * math.expm1(float(f.vbe) / thermal_voltage(25.0))
     assert ic == pytest.approx(float(f.ic), rel=1e-6)
-    # PNP: RE2 and CE return to the supply; CE's + end (first node) is the supply side.
-    assert "RE2 n vcc 1200" in deck and "RC 0 c 5600" in deck
-    assert "CE vcc n 0.00022  ; polarized: + end on the first node" in deck
+    # PNP: RE2 and CE return to the supply; CE's + end (first node) is the supply side.  Values in
+    # SPICE's own scale suffixes (k, u: SPICE's convention, m being milli)
+    assert "RE2 n vcc 1.2k" in deck and "RC 0 c 5.6k" in deck
+    assert "CE vcc n 220u  ; polarized: + end on the first node" in deck
     assert "C1 b in " in deck and "C2 c out " in deck
     assert deck.rstrip().endswith(".end")
     no_load = Stage("emitter-follower", "npn", 12.0, follower().parts, Q)

@@ -109,3 +109,43 @@ def test_transistor_label_from_stock(tmp_path):
     assert d["spread"]["worst_case"]["hfe"] == [120.0, 300.0]
     r = CliRunner().invoke(main, ["analyze", path])
     assert r.exit_code == 2 and "needs --stock" in r.output
+
+
+# --- analyze --must-pass: an exit status a script can test ---------------------------------------
+
+def test_must_pass_exits_4_when_a_target_is_missed_and_0_when_all_hold(tmp_path):
+    # this stage's corner is about 8.6 Hz (ngspice, tests/reference): a 5 Hz target is missed,
+    # a 20 Hz one met; 0.5 W PD against the stage's few mW holds either way
+    missed = CliRunner().invoke(main, ["analyze", _spec(tmp_path), "--must-pass"])
+    assert missed.exit_code == 4
+    assert "Operating point" in missed.stdout  # the analysis is printed first, as without the flag
+    assert "1 check not met: target f_low" in missed.stderr and "Traceback" not in missed.output
+    met = CliRunner().invoke(main, ["analyze", _spec(tmp_path, SPEC.replace('"5 Hz"', '"20 Hz"')), "--must-pass"])
+    assert met.exit_code == 0, met.output
+    # without the flag a missed target still exits 0, as before
+    assert CliRunner().invoke(main, ["analyze", _spec(tmp_path)]).exit_code == 0
+
+
+def test_must_pass_counts_ratings_and_leaves_advice_and_unknown_ratings_alone(tmp_path):
+    # R1 = R2 = 10k put VTH at 6 V, so IE ≈ (6 − 0.65) V / (1k + 5k/(β + 1)) ≈ 5.2 mA (hand
+    # calculation, VBE 0.65 V common practice) and the 1k RE dissipates about 27 mW: over 50 %
+    # (common-practice derating) of a 50 mW rating
+    spec = ('topology = "emitter-follower"\nsupply = "12 V"\nload = "10k"\n[transistor]\nhfe_min = 100\n'
+            'hfe_max = 300\n[parts]\nR1 = "10k"\nR2 = "10k"\nRE = { value = "1k", rating = "50 mW" }\n'
+            'C1 = "10u"\nC2 = "10u"\n')
+    r = CliRunner().invoke(main, ["analyze", _spec(tmp_path, spec), "--must-pass"])
+    assert r.exit_code == 4 and "RE power" in r.stderr
+    # the same stage with RE rated 1/4 W: nothing fails; the other ratings are not given (not
+    # checked, so not failed) and the divider advice is not a check
+    r = CliRunner().invoke(main, ["analyze", _spec(tmp_path, spec.replace('"50 mW"', '"1/4 W"')), "--must-pass"])
+    assert r.exit_code == 0, r.output
+    assert "not checked" in r.output or "no rating given" in r.output
+
+
+def test_must_pass_with_json_keeps_stdout_json_and_bad_input_stays_2(tmp_path):
+    r = CliRunner().invoke(main, ["analyze", _spec(tmp_path), "--must-pass", "--json"])
+    assert r.exit_code == 4
+    data = json.loads(r.stdout)
+    assert [c["name"] for c in data["checks"] if c["ok"] is False] == ["target f_low"]
+    bad = CliRunner().invoke(main, ["analyze", _spec(tmp_path, "topology = 3\n"), "--must-pass"])
+    assert bad.exit_code == 2

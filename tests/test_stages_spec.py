@@ -176,6 +176,21 @@ def test_label_resolved_from_stock(tmp_path):
         load_spec(path, stock=_stock_with("QN-SIG-A", "pnp"))
 
 
+def test_pin_order_from_the_spec_or_the_stock_line(tmp_path):
+    from dataclasses import replace
+
+    stock = _stock_with("QN-SIG-A")
+    stock = Stock(lines=(replace(stock.lines[0], pins="ECB"),))
+    path = _write(tmp_path, ISSUE_EXAMPLE.replace("hfe = 150", 'label = "QN-SIG-A"'))
+    assert load_spec(path, stock=stock).transistor.pins == "ECB"
+    given_here = _write(tmp_path, ISSUE_EXAMPLE.replace("hfe = 150", 'hfe = 150\npins = "c b e"'), "p.toml")
+    assert load_spec(given_here).transistor.pins == "CBE"
+    assert load_spec(_write(tmp_path, ISSUE_EXAMPLE, "n.toml")).transistor.pins == ""
+    bad = _write(tmp_path, ISSUE_EXAMPLE.replace("hfe = 150", 'hfe = 150\npins = "EBCE"'), "q.toml")
+    with pytest.raises(SpecError, match=r"transistor.pins = 'EBCE': not a pin order"):
+        load_spec(bad)
+
+
 @settings(max_examples=100, deadline=None)
 @given(mant=st.integers(10, 99), exp=st.integers(0, 5))
 def test_any_letter_code_value_reads_back(mant, exp):

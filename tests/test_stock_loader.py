@@ -103,6 +103,20 @@ def test_transistor_lacking_a_rating_is_reported_not_guessed(tmp_path):
     assert "hFE max" in warn.message and "VCEO" in warn.message and warn.severity == "warning"
 
 
+@pytest.mark.parametrize("header", ["Pins", "Pinout", "Pin order", "Lead order"])
+def test_pin_order_column_is_read_and_checked(tmp_path, header):
+    # the leads in pin order as people write them; anything but E, B and C once each is named by
+    # file, row and column, and the line still loads with its pin order unknown
+    text = (f"Kind,Label,hFE min,hFE max,VCEO,Ic max (mA),Pd (mW),Qty,{header}\n"
+            "NPN,QA,100,300,40,200,500,5,E-B-C\nPNP,QB,80,250,40,200,500,2,cbe\nNPN,QC,80,250,40,200,500,2,EBX\n"
+            "NPN,QD,80,250,40,200,500,2,\n")
+    stock = load_stock(str(write(tmp_path, "q.csv", text)))
+    assert {ln.label: ln.pins for ln in stock.transistors()} == {"QA": "EBC", "QB": "CBE", "QC": "", "QD": ""}
+    (bad,) = [p for p in stock.problems if p.row == 4]
+    assert bad.column == header and bad.text == "EBX" and bad.severity == "warning"
+    assert "q.csv" in str(bad) and "row 4" in str(bad) and "E, B and C" in bad.message
+
+
 def test_transistor_without_polarity_is_skipped(tmp_path):
     text = "Kind,Label,hFE min,hFE max,Qty\ntransistor,QZ,100,300,5\n"
     stock = load_stock(str(write(tmp_path, "q.csv", text)))

@@ -92,3 +92,53 @@ def test_round_trip_through_both_notations(mant, exp, unit):
 def test_engineering_text_reads_back_within_its_digits(value):
     back = parse_value(format_si(value, "ohm", digits=6), "ohm")
     assert math.isclose(back, value, rel_tol=1e-5)
+
+
+# --- the trade's notation, exactly (saved designs and the files written for people) -----------
+
+from drawerfit.eseries import SERIES  # noqa: E402
+from drawerfit.values import format_percent, trade_code, trade_si  # noqa: E402
+
+ALL_E_VALUES = sorted({m for values in SERIES.values() for m in values})
+
+
+@pytest.mark.parametrize("text, expected", [(t, v) for t, v in IEC_60062_EXAMPLES if t not in ("4u7", "p47")])
+def test_trade_code_writes_the_iec_60062_code(text, expected):
+    # '1k0' and '1R0': one significant digit is written with a trailing zero, as IEC 60062 shows it
+    unit = "F" if any(ch in text for ch in "pnµ") else "ohm"
+    assert trade_code(expected, unit) == text
+
+
+@given(st.sampled_from(ALL_E_VALUES), st.integers(-12, 7), st.sampled_from(["ohm", "F"]))
+def test_every_e_series_value_reads_back_to_the_same_float(mant, exp, unit):
+    # IEC 60063 values over twenty decades, both kinds: the code is exact, not approximately right
+    value = float(f"{mant}e{exp}")
+    assert parse_value(trade_code(value, unit), unit) == value
+    assert parse_value(trade_si(value, unit), unit) == value
+
+
+@given(st.floats(min_value=1e-13, max_value=1e9, allow_nan=False, allow_infinity=False),
+       st.sampled_from(["ohm", "F", "V", "A", "W", "Hz"]))
+def test_any_float_reads_back_exactly_and_its_rounded_text_within_its_digits(value, unit):
+    # property: the exact text is the float; three significant digits are within half a unit of
+    # the third digit (0.5 % of the value at most)
+    assert parse_value(trade_si(value, unit), unit) == value
+    assert parse_value(trade_code(value, "ohm")) == value
+    assert math.isclose(parse_value(trade_si(value, unit, 3), unit), value, rel_tol=5e-3)
+
+
+@given(st.sampled_from([0.005, 0.01, 0.02, 0.05, 0.1, 0.2]), st.integers(1, 30))
+def test_tolerances_and_their_arithmetic_tails_read_back(tol, k):
+    # 0.5 % to 20 % as stock lines carry them, and the tails the network arithmetic leaves
+    # (value·(1 + t)/value − 1, as the design search computes a part's tolerance)
+    noisy = (float(k) * 1000.0 * (1 + tol)) / (float(k) * 1000.0) - 1.0
+    for t in (tol, noisy):
+        assert parse_tolerance(trade_si(t, "%")) == t
+        assert parse_tolerance(trade_si(t, "%", 3)) == pytest.approx(tol, rel=1e-9)
+
+
+@pytest.mark.parametrize("fraction, text", [(0.005, "0.5 %"), (0.01, "1 %"), (0.05, "5 %"), (0.2, "20 %"),
+                                            (0.19999999999999996, "20 %"), (0.0327586, "3.28 %")])
+def test_percent_for_people(fraction, text):
+    # written by hand: a half-percent part is '0.5 %', never '0 %' or '1 %'
+    assert format_percent(fraction) == text

@@ -2,7 +2,8 @@
 
 Heavy libraries (pandas, scipy, ortools, matplotlib, openpyxl) are imported inside the commands,
 so `drawerfit --help` stays fast.  User mistakes become one line on stderr and an exit status
-(2 bad input, 3 no design in stock, 5 search stopped at its work budget), never a traceback.
+(2 bad input, 3 no design in stock, 4 `analyze --must-pass` found a check not met, 5 the design
+search stopped at its work budget), never a traceback.
 """
 
 from __future__ import annotations
@@ -18,6 +19,7 @@ from .values import ValueParseError, parse_quantity
 
 EXIT_BAD_INPUT = 2
 EXIT_NO_DESIGN = 3
+EXIT_NOT_MET = 4  # analyze --must-pass: a target or rating is not met
 
 
 class ValueType(click.ParamType):
@@ -132,12 +134,15 @@ def match(value, stock_file, within, max_parts, power, voltage, units, top, as_j
 @click.option("--monte-carlo", "monte_carlo", type=click.IntRange(0, 10_000_000), default=0,
               show_default=True, help="Random builds to simulate from the tolerances.")
 @click.option("--seed", type=int, default=0, show_default=True, help="Seed for --monte-carlo.")
+@click.option("--must-pass", "must_pass", is_flag=True,
+              help="Exit with status 4 when any target or rating is not met (to guard a script).")
 @user_errors
-def analyze(spec, stock_file, as_json, monte_carlo, seed) -> None:
+def analyze(spec, stock_file, as_json, monte_carlo, seed, must_pass) -> None:
     """Analyse the stage in SPEC (TOML with [parts]): bias, gain, corner, swing, ratings, spread."""
     from .commands.analyze_cmd import run_analyze
 
-    run_analyze(spec, stock_file=stock_file, as_json=as_json, monte_carlo=monte_carlo, seed=seed)
+    run_analyze(spec, stock_file=stock_file, as_json=as_json, monte_carlo=monte_carlo, seed=seed,
+                must_pass=must_pass)
 
 
 # --- design (optimizer) and demo -------------------------------------------------------------

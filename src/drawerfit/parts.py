@@ -64,6 +64,7 @@ class StockLine:
     pd: float | None = None
     vbe: float | None = None
     vce_sat: float | None = None
+    pins: str = ""  # transistors: the leads in pin order, e.g. "EBC" (see ``parse_pin_order``)
     note: str = ""
     assumed: tuple[str, ...] = ()
 
@@ -77,6 +78,25 @@ class StockLine:
         d["source"] = self.source.to_dict()
         d["assumed"] = list(self.assumed)
         return d
+
+
+PIN_SEPARATORS = " -/,.|;:_"
+
+
+def parse_pin_order(text: object) -> str:
+    """A transistor's leads in pin order as written in a stock file or spec: 'EBC', 'C-B-E',
+    'e b c' -> 'EBC', 'CBE', 'EBC'.  ValueError (a message fit to print) unless E, B and C each
+    appear once."""
+    raw = str(text)
+    letters = "".join(ch for ch in raw.upper() if ch not in PIN_SEPARATORS)
+    if len(letters) != 3 or sorted(letters) != ["B", "C", "E"]:
+        raise ValueError("not a pin order: expected E, B and C once each, in pin order, e.g. 'EBC' or 'C-B-E'")
+    return letters
+
+
+def pin_order_text(pins: str) -> str:
+    """'EBC' -> 'E-B-C' (pin 1 first)."""
+    return "-".join(pins)
 
 
 @dataclass(frozen=True)
@@ -143,6 +163,12 @@ class NoDesignError(DrawerfitError):
     """Nothing in the drawer meets the spec."""
 
     exit_status = 3
+
+
+class ChecksNotMetError(DrawerfitError):
+    """`analyze --must-pass`: the stage misses a target or a rating (the analysis was printed)."""
+
+    exit_status = 4
 
 
 class SearchLimitError(DrawerfitError):

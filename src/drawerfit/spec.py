@@ -33,7 +33,7 @@ _TOP_KEYS = {"topology", "polarity", "supply", "source_resistance", "load", "mai
              # written by `design --save` for take and report; analyze reads past them
              "units", "stock_checksum", "stock_file", "pick_list", "design"}
 _TRANSISTOR_KEYS = {"label", "hfe", "hfe_min", "hfe_max", "vbe", "vce_sat", "vceo", "ic_max",
-                    "pd", "i_sat", "vbe_tempco"}
+                    "pd", "i_sat", "vbe_tempco", "pins"}
 _TARGET_UNITS = {"ie": "A", "ie_min": "A", "ie_max": "A", "f_low": "Hz", "swing": "V",
                  "rin_min": "ohm", "rout_max": "ohm", "gain_min": None, "gain_max": None}
 _LIMIT_KEYS = {"derating", "resistor_derating", "transistor_derating", "cap_voltage_margin",
@@ -69,6 +69,7 @@ class Spec:
     bypass: bool = False  # design: common emitter with RE2 bypassed by CE
     title: str = ""
     assumptions: tuple[str, ...] = ()
+    notes: tuple[str, ...] = ()  # e.g. a saved value changed by hand, read as written
 
     @property
     def kind(self) -> str:
@@ -185,8 +186,11 @@ def parse_spec(data: Mapping[str, Any], path: str = "<spec>", stock=None) -> Spe
     from .analysis.targets import IE_WINDOW, Targets
     from .stages import Conditions
 
+    from .readable_toml import restore
+
     r = _Reader(path)
-    r.table("", data, _TOP_KEYS)
+    r.table("", data, _TOP_KEYS | {"exact"})
+    data, notes = restore(data, path)  # a saved design's exact numbers in place of their rounded text
     topology = data.get("topology")
     if not isinstance(topology, str) or topology not in TOPOLOGY_ROLES:
         raise r.fail("topology", topology, f"expected one of {', '.join(TOPOLOGY_ROLES)}")
@@ -224,7 +228,7 @@ def parse_spec(data: Mapping[str, Any], path: str = "<spec>", stock=None) -> Spe
     return Spec(path=path, topology=topology, polarity=polarity, supply=supply,
                 source_resistance=rs, load=load, mains=mains, transistor=transistor,
                 transistor_label=label, parts=parts, targets=targets, conditions=conditions,
-                pairs=pairs, bypass=bypass, title=title, assumptions=tuple(r.assumptions))
+                pairs=pairs, bypass=bypass, title=title, assumptions=tuple(r.assumptions), notes=tuple(notes))
 
 
 def _transistor(r: _Reader, data, polarity, stock, design: bool = False):
@@ -244,6 +248,17 @@ def _transistor(r: _Reader, data, polarity, stock, design: bool = False):
             v = getattr(line, name, None)
             if v is not None:
                 fields[name] = float(v)
+        if line.pins:
+            fields["pins"] = line.pins
+    if "pins" in t:
+        from .parts import parse_pin_order
+
+        if not isinstance(t["pins"], str):
+            raise r.fail("transistor.pins", t["pins"], "expected the leads in pin order, e.g. \"EBC\"")
+        try:
+            fields["pins"] = parse_pin_order(t["pins"])
+        except ValueError as exc:
+            raise r.fail("transistor.pins", t["pins"], str(exc)) from None
     units = {"vbe": "V", "vce_sat": "V", "vceo": "V", "ic_max": "A", "pd": "W", "i_sat": "A"}
     for name, unit in units.items():
         if name in t:

@@ -10,6 +10,7 @@ from __future__ import annotations
 import math
 import re
 from dataclasses import dataclass
+from decimal import ROUND_HALF_UP, Context, Decimal
 from fractions import Fraction
 
 from .constants import MAX_VALUE_CHARS
@@ -24,6 +25,11 @@ __all__ = [
     "parse_value_and_tolerance",
     "format_si",
     "format_code",
+    "format_percent",
+    "trade_code",
+    "trade_si",
+    "significant_digits",
+    "rounded",
     "implied_unit",
     "UNIT_SYMBOL",
 ]
@@ -326,3 +332,81 @@ def format_code(value: float, unit: str = "ohm", ascii_only: bool = False, digit
     if len(text) == 1:  # one significant digit: '1k0', '1M0', '1R0', '2n0'
         return f"{text}{letter}0"
     return f"{text}{letter}"
+
+
+# --- the trade's notation, exactly --------------------------------------------------------------
+#
+# The files drawerfit writes for people hold values as people write them ('4k7', '47µ', '1 %',
+# '250 mW').  ``trade_code`` and ``trade_si`` write a float either exactly (its shortest decimal
+# digits, so that ``parse_value`` gives back the very same float) or rounded to a number of
+# significant digits; the decimal arithmetic is exact, so no binary noise creeps in.
+
+_ENG_PREFIX = {-15: "f", -12: "p", -9: "n", -6: "µ", -3: "m", 0: "", 3: "k", 6: "M", 9: "G", 12: "T"}
+
+
+def rounded(value: float, digits: int | None = None) -> Decimal:
+    """The float as a decimal: its shortest round-trip digits, or rounded half up to ``digits``
+    significant digits (trailing zeros dropped)."""
+    d = Decimal(repr(float(value)))
+    if digits is not None:
+        d = Context(prec=digits, rounding=ROUND_HALF_UP).plus(d)
+    return d.normalize()
+
+
+def significant_digits(value: float) -> int:
+    """How many significant digits the shortest decimal that reads back as ``value`` has."""
+    return len(rounded(value).as_tuple().digits)
+
+
+def _plain(d: Decimal) -> str:
+    text = format(d.normalize(), "f")
+    return text.rstrip("0").rstrip(".") if "." in text else text
+
+
+def _exp3(d: Decimal) -> int:
+    return max(-15, min(12, (d.adjusted() // 3) * 3)) if d != 0 else 0
+
+
+def trade_code(value: float, unit: str = "ohm", digits: int | None = None) -> str:
+    """The IEC 60062 letter code, exact (``digits`` None) or rounded: 4700 -> '4k7', 4.7e-5 F ->
+    '47µ', 0.47 -> 'R47', 4753 -> '4k753'.  Reads back through ``parse_value`` to the float it
+    stands for (exactly, when ``digits`` is None)."""
+    if not (math.isfinite(value) and value > 0):
+        raise ValueError(f"cannot write {value!r} in the letter code")
+    d = rounded(value, digits)
+    exp3 = _exp3(d)
+    if unit == "ohm" and exp3 <= 0:
+        exp3, letter = 0, "R"
+    else:
+        letter = _ENG_PREFIX[exp3] or ("F" if unit == "F" else "R")
+    text = _plain(d.scaleb(-exp3))
+    if "." in text:
+        whole, frac = text.split(".")
+        code = f"{'' if whole == '0' else whole}{letter}{frac}"
+    else:
+        code = f"{text}{letter}0" if len(text) == 1 else f"{text}{letter}"
+    expect = unit if unit in ("ohm", "F") else None
+    try:
+        if parse_value(code, expect) == float(d):
+            return code
+    except ValueParseError:
+        pass
+    return trade_si(value, unit, digits)  # e.g. femtofarads, where 'f' alone would read as farad
+
+
+def trade_si(value: float, unit: str | None, digits: int | None = None) -> str:
+    """SI notation with the unit, exact (``digits`` None) or rounded: 0.0045 A -> '4.5 mA',
+    12 V -> '12 V', 0.01 '%' -> '1 %'; reads back through ``parse_value`` to the float."""
+    d = rounded(value, digits)
+    if unit == "%":
+        return f"{_plain(d.scaleb(2))} %"
+    sym = UNIT_SYMBOL.get(unit, unit or "")
+    exp3 = _exp3(d) if sym else 0
+    return f"{_plain(d.scaleb(-exp3))} {_ENG_PREFIX[exp3]}{sym}".rstrip()
+
+
+def format_percent(fraction: float | None, digits: int = 3) -> str:
+    """A tolerance or share for people: 0.01 -> '1 %', 0.005 -> '0.5 %', 0.0328 -> '3.28 %'."""
+    if fraction is None or not math.isfinite(fraction):
+        return "—"
+    return trade_si(fraction, "%", digits)

@@ -21,7 +21,7 @@ from drawerfit.analysis.core import evaluate
 from drawerfit.cli import main
 from drawerfit.report.design_file import load_design
 
-from ..report.helpers import CE_PNP, FOLLOWER, PLAIN, VARIANTS, write_spec
+from ..report.helpers import CE_PNP, FOLLOWER, PLAIN, VARIANTS, with_networks, write_spec
 from .spice_harness import _corner, require_ngspice
 
 pytestmark = pytest.mark.ngspice
@@ -37,18 +37,23 @@ wrdata ac.txt vm(out) vr(out)
 _PRINTED = re.compile(r"^\s*(?:\w+\.)?(\S+)\s*=\s*([-+0-9.eE]+)\s*$")
 
 
-def _simulate(deck_text: str, workdir) -> dict:
+def _run(deck_text: str, workdir, control: str):
+    """Run the deck as written, with ``control`` before its .end: (printed values, the output)."""
     exe = require_ngspice()
     deck = workdir / "run.cir"
-    # Run the exported deck as written, with a control block before its .end.
     assert deck_text.rstrip().endswith(".end")
-    deck.write_text(deck_text.rstrip()[: -len(".end")] + _CONTROL + ".end\n", encoding="utf-8")
+    deck.write_text(deck_text.rstrip()[: -len(".end")] + control + ".end\n", encoding="utf-8")
     run = subprocess.run([exe, "-b", deck.name], cwd=workdir, capture_output=True, text=True, timeout=60)
     values = {}
     for line in run.stdout.splitlines():
         m = _PRINTED.match(line)
         if m:
             values[m.group(1)] = float(m.group(2))
+    return values, run
+
+
+def _simulate(deck_text: str, workdir) -> dict:
+    values, run = _run(deck_text, workdir, _CONTROL)
     if not {"v(e)", "@q1[ic]", "@q1[ib]"} <= set(values):
         raise AssertionError(f"ngspice gave no operating point ({run.returncode}):\n{run.stdout}\n{run.stderr}")
     return values
@@ -113,3 +118,52 @@ def test_ngspice_is_quiet_when_the_ratings_hold(tmp_path):
     run = subprocess.run([exe, "-b", deck.name], cwd=tmp_path, capture_output=True, text=True, timeout=60)
     assert "exceeded" not in run.stdout + run.stderr
     assert "Error" not in run.stdout + run.stderr
+
+
+# Roles made of several parts, written into the follower design (invented values): RE 830R as
+# 680R + (300R ∥ 300R) or 1k66 ∥ (1k + 660R), C2 220µ as 110µ ∥ 110µ, C1 22µ as 44µ in series
+# with 44µ.  Each network's value is the role's, so the simulated stage must be the same.
+_NETWORKS = {
+    "RE series-parallel": ("RE", "series-parallel", (680.0, 300.0, 300.0)),
+    "RE parallel-series": ("RE", "parallel-series", (1660.0, 1000.0, 660.0)),
+    "C2 parallel": ("C2", "parallel", (110e-6, 110e-6)),
+    "C1 series": ("C1", "series", (44e-6, 44e-6)),
+}
+
+
+_OP_AND_AC = """.control
+option reltol=1e-9 abstol=1e-15 vntol=1e-12
+op
+print v(b) v(e) @q1[ic]
+ac lin 3 2 20
+print vm(out)
+.endc
+"""
+
+
+def _op_and_ac(deck_text: str, workdir) -> dict:
+    values, run = _run(deck_text, workdir, _OP_AND_AC)
+    ac = [float(x) for x in re.findall(r"^\d+\s+[-+0-9.eE]+\s+([-+0-9.eE]+)\s*$", run.stdout, re.M)]
+    if not {"v(e)", "v(b)", "@q1[ic]"} <= set(values) or len(ac) != 3:
+        raise AssertionError(f"ngspice gave no result ({run.returncode}):\n{run.stdout}\n{run.stderr}")
+    return {**values, "ac": ac}
+
+
+@pytest.mark.parametrize("case", list(_NETWORKS))
+def test_a_role_drawn_as_its_parts_simulates_as_the_single_equivalent(tmp_path, case):
+    # source: ngspice.  The exported deck wires R1a, R1b... as the arrangement says; the same stage
+    # with one element of the role's value must give the same operating point and response
+    from drawerfit.report.export import design_netlist
+    from drawerfit.report.netlist import stage_netlist
+
+    role, arrangement, values = _NETWORKS[case]
+    design = load_design(with_networks(tmp_path, FOLLOWER, {role: (arrangement, values)}))
+    parts = design_netlist(design, analyses=False)
+    names = [line.split()[0] for line in parts.splitlines() if line[:1] in "RC" and not line.startswith("*")]
+    assert [n for n in names if n.startswith(role)] == [role + x for x in "abc"[:len(values)]]
+    single = stage_netlist(design.stage, temp_c=design.conditions.nominal_temp)
+    assert not any(line.startswith(role + "a") for line in single.splitlines())
+    got, want = _op_and_ac(parts, tmp_path), _op_and_ac(single, tmp_path)
+    for key in ("v(b)", "v(e)", "@q1[ic]"):
+        assert got[key] == pytest.approx(want[key], rel=1e-6), key
+    assert got["ac"] == pytest.approx(want["ac"], rel=1e-6)  # 2, 11 and 20 Hz: around the corner

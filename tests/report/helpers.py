@@ -42,3 +42,23 @@ def write_spec(tmp_path: Path, name: str, *, targets: dict | None = None, hfe=(1
     path = tmp_path / f"{name}.toml"
     path.write_text("\n".join(lines) + "\n", encoding="utf-8")
     return path
+
+
+def with_networks(tmp_path: Path, base: Path, networks: dict, name: str = "network.toml") -> Path:
+    """A copy of a design file in which each role of ``networks`` (role -> (arrangement, values))
+    is made of those parts (bins X-0, X-1...; invented), its value unchanged: the values given
+    must make the role's value."""
+    import tomllib
+
+    import tomli_w
+
+    data = tomllib.loads(base.read_text(encoding="utf-8"))
+    for role, (arrangement, values) in networks.items():
+        t = data["design"]["roles"].setdefault(role, {})
+        t["arrangement"] = arrangement
+        t["parts"] = [{"value": v, "location": f"X-{i}", "source": {"file": "bench_drawer.csv", "row": 50 + i}}
+                      for i, v in enumerate(values)]
+    data.pop("pick_list", None)
+    path = tmp_path / name
+    path.write_text(tomli_w.dumps(data), encoding="utf-8")
+    return path

@@ -66,8 +66,13 @@ def test_counts_add_up_to_the_design(tmp_path, design, suffix):
         per_unit, n, total = int(r["Per unit"]), int(r["Units"]), int(r["For all units"])
         assert n == units
         assert total == per_unit * units
-        per_role[r["Designator"]] += per_unit
+        per_role[r["Role"]] += per_unit
+        assert per_unit == 1  # each physical part on a line of its own
     assert dict(per_role) == expected
+    # designators: the role's own for a single part, with a, b, c for the parts of a pair or triple
+    for role, n in expected.items():
+        names = [r["Designator"] for r in rows if r["Role"] == role]
+        assert names == ([role] if n == 1 else [role + x for x in "abc"[:n]])
     # the pick list the optimizer wrote is an independent record of the same parts: per bin,
     # the BOM's totals must equal the counts to take
     if pick_list:
@@ -83,12 +88,13 @@ def test_values_in_both_notations(tmp_path, suffix):
     out = _export_bom(tmp_path, FOLLOWER, suffix)
     rows = _read_csv(out) if suffix == ".csv" else _read_xlsx(out)
     by = {(r["Designator"], r["Part code"]): r for r in rows}
-    # IEC 60062 letter code and SI notation of the same value
+    # IEC 60062 letter code and SI notation of the same value; RE = 680R + 150R in series (the
+    # design file), so its parts are REa and REb in that order
     assert by[("R1", "4k7")]["Part value"] == "4.7 kΩ"
-    assert by[("RE", "680R")]["Part value"] == "680 Ω"
-    assert by[("RE", "150R")]["Role code"] == "830R"
+    assert by[("REa", "680R")]["Part value"] == "680 Ω"
+    assert by[("REb", "150R")]["Role code"] == "830R"
     assert by[("C2", "220µ")]["Role value"] == "220 µF"
-    assert by[("RE", "680R")]["Bin"] == "R-02"
+    assert by[("REa", "680R")]["Bin"] == "R-02" and by[("REb", "150R")]["Bin"] == "R-01"
     assert float(by[("C1", "22µ")]["Role value (SI number)"]) == pytest.approx(22e-6)
 
 

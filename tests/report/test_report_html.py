@@ -75,12 +75,14 @@ def _report(tmp_path, design, **kw):
     return out
 
 
-# Designator -> value text, from the design files (codes by hand, IEC 60062).
+# Designator -> value text, from the design files (codes by hand, IEC 60062).  A place filled by a
+# pair shows each part under its own designator: the follower's RE is 680R + 150R (REa, REb), the
+# PNP stage's RC is 11k2 ∥ 11k2 (RCa, RCb).
 EXPECTED = {
-    FOLLOWER: {"R1": "4k7", "R2": "5k6", "RE": "830R", "C1": "22µ", "C2": "220µ", "Q1": "QN-SIG-A",
-               "RS": "600R", "RL (load)": "10k"},
-    CE_PNP: {"R1": "18k", "R2": "82k", "RE": "270R", "RE2": "1k2", "RC": "5k6", "C1": "4µ7", "C2": "4µ7",
-             "CE": "220µ", "Q1": "QP-SIG-B", "RS": "1k0", "RL (load)": "22k"},
+    FOLLOWER: {"R1": "4k7", "R2": "5k6", "REa": "680R", "REb": "150R", "C1": "22µ", "C2": "220µ",
+               "Q1": "QN-SIG-A", "RS": "600R", "RL (load)": "10k"},
+    CE_PNP: {"R1": "18k", "R2": "82k", "RE": "270R", "RE2": "1k2", "RCa": "11k2", "RCb": "11k2", "C1": "4µ7",
+             "C2": "4µ7", "CE": "220µ", "Q1": "QP-SIG-B", "RS": "1k0", "RL (load)": "22k"},
     PLAIN: {"R1": "47k", "R2": "10k", "RE": "1k0", "RC": "4k7", "C1": "10µ", "C2": "10µ", "Q1": "QN-SIG-C",
             "RS": "600R", "RL (load)": "10k"},
 }
@@ -96,11 +98,12 @@ def test_schematic_holds_every_designator_and_value(tmp_path, design):
 
 
 def test_pairs_are_shown_with_their_parts(tmp_path):
-    # RE = 680 + 150 in series (the design file), RC = 11k2 ∥ 11k2
+    # RE = 680 + 150 in series (the design file), RC = 11k2 ∥ 11k2: each part drawn under its own
+    # designator, the place labelled with what they make together, and no one-symbol stand-in
     texts = _parse(_report(tmp_path, FOLLOWER, monte_carlo=0)).svgs["schematic of the stage"]
-    assert "830R = 680R + 150R" in texts
+    assert {"REa", "REb", "RE = 830R"} <= set(texts) and "RE" not in texts
     texts = _parse(_report(tmp_path, CE_PNP, monte_carlo=0)).svgs["schematic of the stage"]
-    assert "5k6 = 11k2 ∥ 11k2" in texts
+    assert {"RCa", "RCb", "RC = 5k6"} <= set(texts) and "RC" not in texts
 
 
 @pytest.mark.parametrize("name", list(VARIANTS))
@@ -121,8 +124,8 @@ def test_page_parses_and_holds_every_section(tmp_path):
     assert set(page.svgs) == {"schematic of the stage", "magnitude response", "DC and AC load lines",
                               "histogram of IE", "histogram of the corner"}
     text = (tmp_path / "report.html").read_text(encoding="utf-8")
-    for heading in ("Before you build", "Schematic", "Checks", "Parts", "Pick list", "Magnitude response",
-                    "Load lines", "Spread over 300 random builds"):
+    for heading in ("Before you build", "Schematic", "Fitting the parts", "Checks", "Parts", "Pick list",
+                    "Magnitude response", "Load lines", "Spread over 300 random builds"):
         assert f">{heading}<" in text, heading
     # the target corner (20 Hz in the design file) is marked on the response plot
     assert "target: corner at or below 20 Hz" in page.svgs["magnitude response"]

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import click
 
+from ..parts import pin_order_text
 from ..values import format_si
 
 __all__ = ["run_analyze", "summary_lines"]
@@ -16,7 +17,10 @@ def _load_stock(stock_file: str):
 
 
 def run_analyze(spec_file: str, *, stock_file: str | None = None, as_json: bool = False,
-                monte_carlo: int = 0, seed: int = 0) -> None:
+                monte_carlo: int = 0, seed: int = 0, must_pass: bool = False) -> None:
+    """Print the analysis; with ``must_pass``, then raise ``ChecksNotMetError`` (exit status 4) when
+    a check other than advice fails: the state, a target, a rating or a capacitor's polarity.
+    A rating that is not given is not checked and does not fail."""
     from ..analysis import analyse
     from ..cautions import cautions_for
     from ..cli import emit_json
@@ -32,9 +36,15 @@ def run_analyze(spec_file: str, *, stock_file: str | None = None, as_json: bool 
         # The cautions still reach a person: on stderr, so stdout stays plain JSON.
         for c in cautions:
             click.echo(f"caution: {c.text}", err=True)
-        return
-    for line in summary_lines(result, spec, cautions):
-        click.echo(line)
+    else:
+        for line in summary_lines(result, spec, cautions):
+            click.echo(line)
+    if must_pass and result.warnings:
+        from ..parts import ChecksNotMetError
+
+        missed = [c.name for c in result.warnings]
+        raise ChecksNotMetError(f"{spec_file}: {len(missed)} check{'s' if len(missed) != 1 else ''} not met: "
+                                + ", ".join(missed))
 
 
 def _v(x, unit, digits=4):
@@ -66,7 +76,8 @@ def summary_lines(result, spec=None, cautions=None) -> list[str]:
     head += f", load {_v(s.load, 'ohm')}" if s.load is not None else ", no load"
     out.append((spec.title + ": " if spec is not None and spec.title else "") + head)
     hfe = f"hFE {t.hfe_min:g}" if t.hfe_min == t.hfe_max else f"hFE {t.hfe_min:g}–{t.hfe_max:g} (nominal {t.hfe:.4g})"
-    out.append(f"Q1 {t.label or '(unnamed)'}: {hfe}, VBE {_v(t.vbe, 'V')} at 25 °C")
+    pins = f", pins {pin_order_text(t.pins)} (pin 1 first)" if t.pins else ""
+    out.append(f"Q1 {t.label or '(unnamed)'}: {hfe}, VBE {_v(t.vbe, 'V')} at 25 °C{pins}")
     warnings = result.warnings
     if warnings:
         out.append("")
@@ -122,6 +133,8 @@ def summary_lines(result, spec=None, cautions=None) -> list[str]:
         out.append(f"Note: {ch.name}: {ch.message}")
     if spec is not None and spec.assumptions:
         out.append("Assumed: " + "; ".join(spec.assumptions))
+    for note in (spec.notes if spec is not None else ()):
+        out.append(f"Note: {note}")
     out.append("")
     out.append("Cautions")
     for cau in cautions:

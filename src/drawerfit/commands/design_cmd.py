@@ -8,8 +8,8 @@ from pathlib import Path
 
 import click
 
-from ..parts import NoDesignError, SearchLimitError, SpecError
-from ..values import format_code, format_si
+from ..parts import NoDesignError, SearchLimitError, SpecError, pin_order_text
+from ..values import format_code, format_percent, format_si
 from .common import rating_text
 
 __all__ = ["run_design", "run_demo", "design_json", "saved_design", "pick_list"]
@@ -27,9 +27,10 @@ def _src(line) -> dict:
 
 def _part_name(line) -> str:
     if line.kind == "transistor":
-        return f"{line.label} {line.polarity.upper()}" if line.polarity else line.label
+        name = f"{line.label} {line.polarity.upper()}" if line.polarity else line.label
+        return f"{name}, pins {pin_order_text(line.pins)}" if line.pins else name
     rating = line.power if line.kind == "resistor" else line.voltage
-    extra = f" {line.tolerance:.0%}" if line.tolerance is not None else ""
+    extra = f" {format_percent(line.tolerance)}" if line.tolerance is not None else ""
     if rating is not None:
         extra += f" {rating_text(line.kind, rating)}"
     if line.kind == "capacitor" and line.polarized:
@@ -43,10 +44,14 @@ def pick_list(choice, units: int) -> list[dict]:
     A part drawn from another line than the one the design names (same value, tolerance no wider,
     rating no lower: docs/method.md, "Stock shared across roles and units") says which it stands in for.
     """
-    roles_of: dict[int, list[str]] = {}
+    from ..report.physical import designators
+
+    roles_of: dict[int, list[str]] = {}  # designators of the physical parts (R1, REa, REb) each line serves
     for role, c in choice.roles.items():
-        for line, _n in c.equivalent.uses:
-            roles_of.setdefault(line.index, []).append(role)
+        members = c.equivalent.members
+        for name, line in zip(designators(role, len(members)), members):
+            if name not in roles_of.setdefault(line.index, []):
+                roles_of[line.index].append(name)
     roles_of.setdefault(choice.transistor.index, []).append("Q1")
     picks = choice.picks or tuple((ln, ln, n * units) for ln, n in choice.uses().values())
     merged: dict[int, dict] = {}
@@ -176,14 +181,18 @@ def binding(choice, n: int = 3) -> list[dict]:
 
 
 def saved_design(result, spec, stock, stock_file: str) -> dict:
-    """The TOML tree of a saved design (docs/spec-format.md, "Saved designs")."""
+    """The TOML tree of a saved design (docs/spec-format.md, "Saved designs"); numbers are
+    ``readable_toml.Value``s, written in the trade's notation by ``readable_toml.dumps``."""
+    from ..readable_toml import Value as V
+    from ..report.physical import designators
+
     problem, best = result.problem, result.best
     m = best.model
     doc = {"title": spec.title or f"designed by drawerfit from {os.path.basename(stock_file)}",
-           "topology": problem.topology, "polarity": problem.polarity, "supply": problem.supply,
-           "source_resistance": problem.source_resistance}
+           "topology": problem.topology, "polarity": problem.polarity, "supply": V(problem.supply, "V"),
+           "source_resistance": V(problem.source_resistance, "ohm")}
     if problem.load is not None:
-        doc["load"] = problem.load
+        doc["load"] = V(problem.load, "ohm")
     if problem.topology == "common-emitter":
         doc["bypass"] = problem.bypass
     if spec.mains:
@@ -191,31 +200,47 @@ def saved_design(result, spec, stock, stock_file: str) -> dict:
     doc["units"] = problem.units
     doc["stock_file"] = str(stock_file)
     doc["stock_checksum"] = stock.checksum
-    tr = {"label": m.label, "hfe_min": m.hfe_min, "hfe_max": m.hfe_max, "vbe": m.vbe, "vce_sat": m.vce_sat,
-          "vbe_tempco": m.vbe_tempco}
-    for k in ("vceo", "ic_max", "pd"):
+    tr = {"label": m.label, "hfe_min": V(m.hfe_min), "hfe_max": V(m.hfe_max), "vbe": V(m.vbe, "V"),
+          "vce_sat": V(m.vce_sat, "V"), "vbe_tempco": V(m.vbe_tempco)}
+    for k, unit in (("vceo", "V"), ("ic_max", "A"), ("pd", "W")):
         if getattr(m, k) is not None:
-            tr[k] = getattr(m, k)
+            tr[k] = V(getattr(m, k), unit)
+    if best.transistor.pins:
+        tr["pins"] = pin_order_text(best.transistor.pins)
     doc["transistor"] = tr
     parts = {}
     for role, c in best.roles.items():
-        entry = {"value": c.equivalent.value, "tolerance": c.tolerance, "rating": c.rating}
+        unit = _UNIT[c.equivalent.kind]
+        entry = {"value": V(c.equivalent.value, unit, code=True), "tolerance": V(c.tolerance, "%"),
+                 "rating": V(c.rating, "W" if unit == "ohm" else "V")}
         if c.equivalent.kind == "capacitor":
             entry["polarized"] = bool(c.equivalent.polarized)
         parts[role] = entry
     doc["parts"] = parts
-    doc["targets"] = {k: v for k, v in problem.targets.to_dict().items() if v is not None}
+    units = {"ie_min": "A", "ie_max": "A", "f_low": "Hz", "swing": "V", "rin_min": "ohm", "rout_max": "ohm"}
+    doc["targets"] = {k: V(v, units.get(k)) for k, v in problem.targets.to_dict().items() if v is not None}
     c = problem.conditions
-    doc["limits"] = {"resistor_derating": c.resistor_derating, "transistor_derating": c.transistor_derating,
-                     "cap_voltage_margin": c.cap_voltage_margin, "ambient_min": c.ambient_min,
-                     "ambient_max": c.ambient_max}
+    doc["limits"] = {"resistor_derating": V(c.resistor_derating, "%"),
+                     "transistor_derating": V(c.transistor_derating, "%"),
+                     "cap_voltage_margin": V(c.cap_voltage_margin, "%"), "ambient_min": V(c.ambient_min),
+                     "ambient_max": V(c.ambient_max)}
     doc["pick_list"] = pick_list(best, problem.units)
     roles = {}
     for role, ch in best.roles.items():
         eq = ch.equivalent
-        roles[role] = {"value": eq.value, "arrangement": eq.arrangement, "describe": eq.describe(),
-                       "tolerance": ch.tolerance, "rating": ch.rating,
-                       "parts": [{"value": mm.value, "location": mm.location, "source": _src(mm)} for mm in eq.members]}
+        unit = _UNIT[eq.kind]
+        rating_unit = "W" if unit == "ohm" else "V"
+        members = []
+        for name, mm in zip(designators(role, len(eq.members)), eq.members):
+            member = {"designator": name, "value": V(mm.value, unit, code=True)}
+            if mm.tolerance is not None:
+                member["tolerance"] = V(mm.tolerance, "%")
+            if mm.rating is not None:
+                member["rating"] = V(mm.rating, rating_unit)
+            members.append({**member, "location": mm.location, "source": _src(mm)})
+        roles[role] = {"value": V(eq.value, unit, code=True), "arrangement": eq.arrangement,
+                       "describe": eq.describe(), "tolerance": V(ch.tolerance, "%"),
+                       "rating": V(ch.rating, rating_unit), "parts": members}
         if ch.orientation:
             roles[role]["orientation"] = ch.orientation
     t = best.transistor
@@ -224,12 +249,18 @@ def saved_design(result, spec, stock, stock_file: str) -> dict:
     return doc
 
 
+SAVED_HEADER = """A stage designed by drawerfit (docs/spec-format.md, "Saved designs"): `drawerfit analyze`,
+`report`, `export` and `take` read it.  Values are written as the parts carry them (4k7, 47µ,
+1 %, 250 mW).  Where a number had more digits than that, the text is rounded to three
+significant digits and [exact] at the end keeps the number the design was judged with; change
+the text and drawerfit reads your text instead."""
+
+
 def _write_toml(path: Path, doc: dict) -> None:
-    import tomli_w
-
     from ..filesafe import atomic_write
+    from ..readable_toml import dumps
 
-    atomic_write(path, tomli_w.dumps(doc))
+    atomic_write(path, dumps(doc, header=SAVED_HEADER))
 
 
 # --- text for people ----------------------------------------------------------------------------
@@ -319,7 +350,7 @@ def _print_infeasible(result) -> None:
         for b in result.buy:
             r = rating_text(b["kind"], b["rating"])
             pol = " electrolytic" if b["polarized"] else ""
-            click.echo(f"  {b['count']} x {b['kind']} {_code(b['value'], b['kind'])} {b['tolerance']:.0%} {r}{pol}"
+            click.echo(f"  {b['count']} x {b['kind']} {_code(b['value'], b['kind'])} {format_percent(b['tolerance'])} {r}{pol}"
                        f"  ({b['per_unit']} per unit, for {', '.join(b['roles'])})")
         ch = result.buy_design
         if ch is not None:

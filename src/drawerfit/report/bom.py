@@ -13,12 +13,12 @@ import csv
 from dataclasses import dataclass
 from pathlib import Path
 
-from ..parts import SpecError
+from ..parts import SpecError, pin_order_text
 from ..stages import RESISTOR_ROLES
-from ..values import format_code, format_si
+from ..values import format_code, format_percent, format_si
 from .design_file import DesignFile
 
-__all__ = ["BomRow", "COLUMNS", "bom_rows", "neutralise", "write_bom", "write_bom_csv", "write_bom_xlsx",
+__all__ = ["BomRow", "COLUMNS", "bom_rows", "roles_in_order", "neutralise", "write_bom", "write_bom_csv", "write_bom_xlsx",
            "bom_csv_bytes", "bom_xlsx_bytes", "FORMULA_STARTS"]
 
 # A spreadsheet reads a cell starting with one of these as a formula (or a formula's prefix), or may
@@ -33,11 +33,12 @@ COLUMNS = (
     ("Role value", "role_value"),
     ("Role code", "role_code"),
     ("Role value (SI number)", "role_number"),
+    ("Role", "role"),
     ("Made of", "arrangement"),
     ("Part value", "part_value"),
     ("Part code", "part_code"),
     ("Tolerance", "tolerance"),
-    ("Rating (of the role)", "rating"),
+    ("Rating", "rating"),
     ("Bin", "bin"),
     ("Stock file", "stock_file"),
     ("Stock sheet", "stock_sheet"),
@@ -50,9 +51,21 @@ COLUMNS = (
 ROLE_ORDER = ("R1", "R2", "RE", "RE2", "RC", "C1", "C2", "CE")
 
 
+def roles_in_order(stage):
+    """(role, part, unit, rating unit) of each part the stage has, in the order lists show them."""
+    for role in ROLE_ORDER:
+        part = stage.parts.get(role)
+        if part is not None:
+            unit = _unit(role)
+            yield role, part, unit, "W" if unit == "ohm" else "V"
+
+
 @dataclass(frozen=True)
 class BomRow:
+    """One physical part (R1, or REa, REb of a pair), or the transistor."""
+
     designator: str
+    role: str
     role_value: str
     role_code: str
     role_number: float | None
@@ -91,36 +104,37 @@ def _rating_text(role: str, rating: float | None) -> str:
 
 
 def bom_rows(design: DesignFile) -> list[BomRow]:
-    """One row per distinct stock part in each role (a pair of equal parts is one row of 2), then Q1."""
+    """One row per physical part, with its own designator (R1, or REa, REb, REc of a pair or
+    triple, in the arrangement's order), then Q1.  Tolerance and rating are the part's own when
+    the design file gives them, else the role's."""
+    from .export import role_members
+
     stage, units = design.stage, design.units
+    members = role_members(design)
     rows: list[BomRow] = []
-    for role in ROLE_ORDER:
-        part = stage.parts.get(role)
-        if part is None:
-            continue
-        unit = _unit(role)
+    for role, part, unit, _rating_unit in roles_in_order(stage):
         choice = design.roles.get(role)
         arrangement = choice.arrangement if choice else "single"
         if choice and choice.describe and arrangement != "single":
             arrangement = f"{arrangement}: {choice.describe}"
-        tol = f"{part.tolerance:.0%}".replace("%", " %") if part.tolerance else ""
-        common = dict(designator=role, role_value=format_si(part.value, unit), role_code=format_code(part.value, unit),
-                      role_number=part.value, arrangement=arrangement, tolerance=tol, units=units)
-        placed = choice.parts if choice and choice.parts else ()
-        if not placed:
-            rows.append(BomRow(part_value=format_si(part.value, unit), part_code=format_code(part.value, unit),
+        common = dict(role=role, role_value=format_si(part.value, unit), role_code=format_code(part.value, unit),
+                      role_number=part.value, arrangement=arrangement, units=units, per_unit=1)
+        role_rating = choice.rating if choice is not None and choice.rating is not None else part.rating
+        if role not in members:
+            rows.append(BomRow(designator=role, part_value=format_si(part.value, unit),
+                               part_code=format_code(part.value, unit), tolerance=_tol_text(part.tolerance),
                                rating=_rating_text(role, part.rating), bin="", stock_file="", stock_sheet="",
-                               stock_row=None, per_unit=1, **common))
+                               stock_row=None, **common))
             continue
-        groups: dict[tuple, list] = {}
-        for p in placed:
-            key = (p.value, p.location, p.source.get("file"), p.source.get("sheet"), p.source.get("row"))
-            groups.setdefault(key, []).append(p)
-        for (value, location, file, sheet, row), same in groups.items():
-            rows.append(BomRow(part_value=format_si(value, unit), part_code=format_code(value, unit),
-                               rating=_rating_text(role, choice.rating if choice.rating is not None else part.rating),
-                               bin=location, stock_file=str(file or ""), stock_sheet=str(sheet or ""),
-                               stock_row=int(row) if row is not None else None, per_unit=len(same), **common))
+        for m, placed in zip(members[role], choice.parts):
+            src = placed.source
+            tol = m.tolerance if m.tolerance is not None else part.tolerance
+            rating = m.rating if m.rating is not None else role_rating
+            rows.append(BomRow(designator=m.designator, part_value=format_si(m.value, unit),
+                               part_code=format_code(m.value, unit), tolerance=_tol_text(tol),
+                               rating=_rating_text(role, rating), bin=m.location,
+                               stock_file=str(src.get("file") or ""), stock_sheet=str(src.get("sheet") or ""),
+                               stock_row=int(m.row) if m.row is not None else None, **common))
     t = stage.transistor
     src = design.transistor_source
     rating = ", ".join(x for x in (
@@ -128,10 +142,15 @@ def bom_rows(design: DesignFile) -> list[BomRow]:
         f"IC max {format_si(t.ic_max, 'A', 3)}" if t.ic_max else "",
         f"Pd {format_si(t.pd, 'W', 3)}" if t.pd else "") if x)
     name = f"{t.label} ({t.polarity.upper()})" if t.label else t.polarity.upper()
-    rows.append(BomRow("Q1", name, t.label, None, f"hFE {t.hfe_min:g} to {t.hfe_max:g}", name, t.label, "", rating,
+    made = f"hFE {t.hfe_min:g} to {t.hfe_max:g}" + (f"; pins {pin_order_text(t.pins)}" if t.pins else "")
+    rows.append(BomRow("Q1", "Q1", name, t.label, None, made, name, t.label, "", rating,
                        design.transistor_location, str(src.get("file") or ""), str(src.get("sheet") or ""),
                        int(src["row"]) if src.get("row") is not None else None, 1, units))
     return rows
+
+
+def _tol_text(tolerance: float | None) -> str:
+    return format_percent(tolerance) if tolerance else ""
 
 
 def _cells(row: BomRow) -> list:

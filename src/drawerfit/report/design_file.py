@@ -25,11 +25,14 @@ __all__ = ["PlacedPart", "RoleChoice", "PickItem", "DesignFile", "load_design", 
 
 @dataclass(frozen=True)
 class PlacedPart:
-    """One physical part of a role: its value, the bin it comes from and its stock-file row."""
+    """One physical part of a role: its value, the bin it comes from and its stock-file row, and
+    (when the file gives them) its own tolerance and rating."""
 
     value: float
     location: str = ""
     source: Mapping[str, object] = field(default_factory=dict)
+    tolerance: float | None = None
+    rating: float | None = None
 
 
 @dataclass(frozen=True)
@@ -58,6 +61,7 @@ class PickItem:
     per_unit: float  # whole for a design; a kit may spread a part over bins
     count: int
     source: Mapping[str, object] = field(default_factory=dict)
+    roles: tuple[str, ...] = ()  # the designators it gives parts for (R1, REa, REb)
 
 
 @dataclass(frozen=True)
@@ -113,21 +117,33 @@ def _roles(path: str, table: Mapping) -> dict[str, RoleChoice]:
         if role not in RESISTOR_ROLES + CAPACITOR_ROLES + ("Q1",):
             raise SpecError(f"{_where(path, f'design.roles.{role}')}: no such role")
         unit = "ohm" if role in RESISTOR_ROLES else "F" if role in CAPACITOR_ROLES else None
+        rating_unit = "W" if unit == "ohm" else "V" if unit == "F" else None
+        raw_parts = t.get("parts", [])
+        if not isinstance(raw_parts, list) or len(raw_parts) > 3:
+            raise SpecError(f"{_where(path, f'design.roles.{role}.parts')}: must be a list of one to three parts")
         parts = []
-        for i, p in enumerate(t.get("parts", [])):
+        for i, p in enumerate(raw_parts):
             key = f"design.roles.{role}.parts[{i}]"
             if not isinstance(p, Mapping) or ("value" not in p and unit):
                 raise SpecError(f"{_where(path, key)}: needs a value")
-            value = _value(path, key, p["value"], unit) if unit else math.nan
-            parts.append(PlacedPart(value, str(p.get("location", "")), _source(p.get("source"))))
+            value = _value(path, f"{key}.value", p["value"], unit) if unit else math.nan
+            tol = _tol(path, f"{key}.tolerance", p["tolerance"]) if "tolerance" in p else None
+            rating = _value(path, f"{key}.rating", p["rating"], rating_unit) if "rating" in p and unit else None
+            parts.append(PlacedPart(value, str(p.get("location", "")), _source(p.get("source")), tol, rating))
         value = _value(path, f"design.roles.{role}.value", t["value"], unit) if "value" in t else math.nan
         tol = _tol(path, f"design.roles.{role}.tolerance", t["tolerance"]) if "tolerance" in t else None
         rating = None
         if "rating" in t:
-            rating = _value(path, f"design.roles.{role}.rating", t["rating"],
-                            "W" if unit == "ohm" else "V" if unit == "F" else None)
-        out[role] = RoleChoice(role, value, str(t.get("arrangement", "single")), str(t.get("describe", "")),
-                               tol, rating, tuple(parts))
+            rating = _value(path, f"design.roles.{role}.rating", t["rating"], rating_unit)
+        arrangement = str(t.get("arrangement", "single"))
+        if unit and len(parts) > 1:
+            from .physical import wiring
+
+            try:
+                wiring(arrangement, len(parts))
+            except ValueError as exc:
+                raise SpecError(f"{_where(path, f'design.roles.{role}.arrangement')}: {exc}") from None
+        out[role] = RoleChoice(role, value, arrangement, str(t.get("describe", "")), tol, rating, tuple(parts))
     return out
 
 
@@ -140,10 +156,12 @@ def _pick_list(path: str, items, units: int) -> tuple[PickItem, ...]:
     if not isinstance(items, list):
         raise SpecError(f"{_where(path, 'pick_list')}: must be a list of entries")
     out = []
-    for e in pick_entries(items, units, path):
+    for e, raw in zip(pick_entries(items, units, path), items):
         per_unit = int(e.per_unit) if float(e.per_unit).is_integer() else e.per_unit
+        names = raw.get("roles", ()) if isinstance(raw, Mapping) else ()
+        roles = tuple(str(n)[:20] for n in names) if isinstance(names, list) else ()
         out.append(PickItem(e.location, e.part, per_unit, e.count,
-                            {"file": e.file, "sheet": e.sheet, "row": e.row}))
+                            {"file": e.file, "sheet": e.sheet, "row": e.row}, roles))
     return tuple(out)
 
 
@@ -171,7 +189,13 @@ def load_design(path: str | Path, stock=None) -> DesignFile:
     for key in ("stock_file", "stock_checksum"):
         if key in data and not isinstance(data[key], str):
             raise SpecError(f"{path}: {key}: must be text")
+    from dataclasses import replace
+
+    from ..readable_toml import restore
+
+    data, notes = restore(data, path)  # the exact numbers in place of the rounded text they stand for
     spec = parse_spec({k: v for k, v in data.items() if k not in DESIGN_KEYS}, path, stock)
+    spec = replace(spec, notes=spec.notes + tuple(notes))
     stage = spec.stage()
     design = data.get("design", {})
     if not isinstance(design, Mapping):

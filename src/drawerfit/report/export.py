@@ -11,10 +11,25 @@ from __future__ import annotations
 
 import math
 
-from ..values import format_code, format_si
+from ..parts import pin_order_text
+from ..values import format_code, format_percent, format_si
 from .design_file import DesignFile
 
-__all__ = ["design_netlist"]
+__all__ = ["design_netlist", "role_members"]
+
+
+def role_members(design: DesignFile) -> dict:
+    """The physical parts of each role the design names (``physical.Member``), by role."""
+    from .physical import members_of
+
+    out = {}
+    for role, choice in design.roles.items():
+        if role in design.stage.parts:
+            kind = "resistor" if role.startswith("R") else "capacitor"
+            found = members_of(role, kind, choice)
+            if found:
+                out[role] = found
+    return out
 
 
 def _num(x: float) -> str:
@@ -24,7 +39,7 @@ def _num(x: float) -> str:
 def design_netlist(design: DesignFile, *, analyses: bool = True) -> str:
     """The deck as text.  ``analyses`` adds .op and an .ac sweep around the corner."""
     from ..analysis.core import evaluate
-    from .bom import ROLE_ORDER
+    from .bom import roles_in_order
     from .figures import gather, polarity_text
     from .netlist import stage_netlist
 
@@ -32,7 +47,9 @@ def design_netlist(design: DesignFile, *, analyses: bool = True) -> str:
     temp = design.conditions.nominal_temp
     fig = evaluate(temp_c=temp, **stage.core_arguments())
     figs = gather(design, monte_carlo=0)
-    deck = stage_netlist(stage, temp_c=temp, title=f"drawerfit export of {design.path}").splitlines()
+    members = role_members(design)
+    deck = stage_netlist(stage, temp_c=temp, title=f"drawerfit export of {design.path}",
+                         members=members).splitlines()
     title, body = deck[0], deck[1:]
     head = [
         "*",
@@ -41,43 +58,52 @@ def design_netlist(design: DesignFile, *, analyses: bool = True) -> str:
         "*        c collector, n between RE and RE2, out the load side of C2; 0 is ground.",
         f"* Units built from this design: {design.units}.",
         "*",
-        "* Parts (designator: value, tolerance, rating, where it comes from):",
+        "* Parts (designator: value, tolerance, rating; then each physical part and its bin):",
     ]
-    for role in ROLE_ORDER:
-        part = stage.parts.get(role)
-        if part is None:
-            continue
-        unit = "ohm" if role.startswith("R") else "F"
-        rating = ""
-        if part.rating:
-            rating = ", " + format_si(part.rating, "W" if unit == "ohm" else "V", 3)
-        tol = f", ±{part.tolerance * 100:g} %" if part.tolerance else ""
+    for role, part, unit, rating_unit in roles_in_order(stage):
+        rating = f", {format_si(part.rating, rating_unit, 3)} rating" if part.rating else ""
+        tol = f", +/-{format_percent(part.tolerance)}" if part.tolerance else ""
         choice = design.roles.get(role)
-        src = ""
-        if choice and choice.parts:
-            src = "; " + " + ".join(f"{format_code(p.value, unit, ascii_only=True)} from bin {p.location or '?'}"
-                                   for p in choice.parts)
-            if choice.arrangement != "single":
-                src += f" ({choice.arrangement})"
+        made = ""
+        if choice is not None and choice.arrangement != "single" and len(choice.parts) > 1:
+            made = f" ({choice.arrangement}: {' '.join(m.designator for m in members[role])})"
         pol = ""
         if role.startswith("C") and part.polarized:
             pol = "; polarized: " + polarity_text(figs, role)
-        head.append(f"*   {role}: {format_code(part.value, unit, ascii_only=True)}{tol}{rating}{src}{pol}")
+        parts = members.get(role, ())
+        where = ""
+        if len(parts) == 1:
+            m = parts[0]
+            where = f"; from bin {m.location or '?'}" + (f" (row {m.row})" if m.row is not None else "")
+        head.append(f"*   {role}: {format_code(part.value, unit, ascii_only=True)}{made}{tol}{rating}{where}{pol}")
+        for m in parts if len(parts) > 1 else ():
+            bits = [f"{m.designator} {format_code(m.value, unit, ascii_only=True)}"]
+            if m.tolerance is not None:
+                bits.append(f"+/-{format_percent(m.tolerance)}")
+            if m.rating is not None:
+                bits.append(f"{format_si(m.rating, rating_unit, 3)} rating")
+            share = "power" if unit == "ohm" else "DC voltage"
+            bits.append(f"takes {format_percent(m.share)} of the role's {share}")
+            where = f"from bin {m.location or '?'}" + (f" (row {m.row})" if m.row is not None else "")
+            head.append(f"*       {', '.join(bits)}; {where}")
     ratings = []
     soa = []
     if t.vceo:
-        ratings.append(f"VCEO {_num(t.vceo)} V")
+        ratings.append(f"VCEO {format_si(t.vceo, 'V')}")
         soa.append(f"VCE_MAX={_num(t.vceo)}")
     if t.ic_max:
-        ratings.append(f"IC max {_num(t.ic_max)} A")
+        ratings.append(f"IC max {format_si(t.ic_max, 'A')}")
         soa.append(f"IC_MAX={_num(t.ic_max)}")
     if t.pd:
-        ratings.append(f"Pd {_num(t.pd)} W")
+        ratings.append(f"Pd {format_si(t.pd, 'W')}")
         soa.append(f"PD_MAX={_num(t.pd)}")
     where = f" from bin {design.transistor_location}" if design.transistor_location else ""
+    pins = (f"pins {pin_order_text(t.pins)} (pin 1 first, from the stock file)" if t.pins
+            else "pin order not given: find E, B and C on the datasheet before fitting")
     head += [
         f"*   Q1: {t.label or 'unnamed'} {t.polarity.upper()}{where}; hFE {t.hfe_min:g} to {t.hfe_max:g}, "
         f"modelled at the geometric mean {t.hfe:.4g}",
+        f"*       {pins}",
         "*",
         "* Transistor model: generic Ebers-Moll (no Early effect, base resistance or junction",
         "* capacitance), so it holds for the operating point and the low-frequency response only.",
@@ -93,14 +119,15 @@ def design_netlist(design: DesignFile, *, analyses: bool = True) -> str:
     head += [
         "*",
         "* The tool's operating point at nominal values, to compare with the simulator's:",
-        f"*   VB {_num(float(fig.vb))} V, VE {_num(float(fig.ve))} V, VC {_num(float(fig.vc))} V, "
-        f"IE {_num(float(fig.ie))} A, IC {_num(float(fig.ic))} A",
+        "*   " + ", ".join(f"{name} {format_si(float(getattr(fig, key)), unit, 6)}" for name, key, unit in (
+            ("VB", "vb", "V"), ("VE", "ve", "V"), ("VC", "vc", "V"), ("IE", "ie", "A"), ("IC", "ic", "A"))),
     ]
     if math.isfinite(float(fig.f_low)):
-        head.append(f"*   mid-band gain {_num(float(fig.gain))}, -3 dB low corner {_num(float(fig.f_low))} Hz")
+        head.append(f"*   mid-band gain {_num(float(fig.gain))}, -3 dB low corner {format_si(float(fig.f_low), 'Hz', 6)}")
     head.append("*")
     # Plain ASCII in our comments: some simulators read decks as bytes of one code page.
-    head = [h.replace("±", "+/-").replace("−", "-").replace("µ", "u").replace("∥", "||") for h in head]
+    head = [h.replace("±", "+/-").replace("−", "-").replace("µ", "u").replace("∥", "||").replace("Ω", "ohm")
+            for h in head]
     out = [title] + head
     for line in body:
         if line.startswith(".model") and soa:

@@ -42,6 +42,12 @@ class Check:
     margin: float | None
     message: str
     nominal: float | None = None
+    figure: str = ""  # the quantity the numbers are of, when the name does not say (the state row: VCE)
+
+    @property
+    def instruction(self) -> bool:
+        """A polarity that holds is an instruction (which way to fit the part), not a check."""
+        return self.kind == "polarity" and self.ok is True
 
 
 @dataclass
@@ -125,12 +131,16 @@ def gather(design: DesignFile, *, monte_carlo: int = 2000, seed: int = 0,
             nom = abs(float(nominal.gain))
         name = TARGET_WORDS.get(key, c.name) if c.kind == "target" else c.name
         m = _margin(c, margins)
-        value, limit = c.value, c.limit
-        if c.kind in ("state", "polarity"):
-            # their numbers are the nominal VCE and the voltage across the capacitor, not a worst case
-            nom, value, limit = (c.value if c.kind == "state" else None), None, None
+        value, limit, figure = c.value, c.limit, ""
+        if c.kind == "state":
+            # VCE: nominal, its lowest over the box, and the saturation voltage it must stay above
+            figure = "VEC" if stage.polarity == "pnp" else "VCE"
+            nom, value, limit = c.value, float(analysis.worst.low["vce"]), stage.transistor.vce_sat
+        elif c.kind == "polarity":
+            nom, value, limit = None, None, None  # its number is the voltage across, in the message
         checks.append(Check(c.kind, name, c.ok, value, limit, c.unit or None,
-                            None if m is None or (isinstance(m, float) and math.isnan(m)) else m, c.message, nom))
+                            None if m is None or (isinstance(m, float) and math.isnan(m)) else m, c.message, nom,
+                            figure))
     cautions = [c.text for c in cautions_for(analysis, mains=bool(getattr(design.spec, "mains", False)))]
     frac = {}
     if analysis.monte_carlo:

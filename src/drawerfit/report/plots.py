@@ -108,6 +108,9 @@ def response_svg(design) -> str:
     if target:
         ax.axvline(target, color=PALETTE["accent"], lw=1.3, ls="--",
                    label=f"target: corner at or below {format_si(target, 'Hz', 3)}")
+    # the model has no junction or wiring capacitance: say so on the plot itself, where it stays flat
+    ax.text(0.99, 0.98, "upper corner not modelled: flat only in the model", transform=ax.transAxes, ha="right",
+            va="top", fontsize=7.5, color=PALETTE["accent"])
     ax.set_xlabel("frequency (Hz)")
     ax.set_ylabel("gain, source to load (dB)")
     _style(ax)
@@ -197,15 +200,19 @@ def load_lines_svg(design, nominal) -> str:
 @_with_rc
 def histogram_svg(samples, *, unit: str, scale: float, axis_label: str, lines=(), nominal=None,
                   shown_unit: str = "") -> str:
-    """A histogram of Monte Carlo samples (SI units; shown ×``scale``) with labelled target lines.
+    """A histogram of Monte Carlo samples (SI units; shown ×``scale``) with its target lines.
 
-    ``lines`` are (value, text) pairs drawn as dashed verticals.  The axis spans the samples; a
-    target far outside them is named at the edge with an arrow instead of squeezing the bars.
+    ``lines`` are (value, text) pairs drawn as dashed verticals and named, with their values, in
+    a legend above the plot (no text squeezed against a line or the frame).  The axis spans the
+    samples; a target far outside them is named in the legend with an arrow toward it instead of
+    squeezing the bars.
     """
+    from matplotlib.lines import Line2D
+
     x = np.asarray(samples, float)
     missing = int(np.count_nonzero(~np.isfinite(x)))
     x = x[np.isfinite(x)] * scale
-    fig = _figure(4.0, 2.8)
+    fig = _figure(4.0, 3.0)
     ax = fig.add_subplot()
     if missing:
         # builds outside the active region have no small-signal figures: say how many
@@ -214,27 +221,29 @@ def histogram_svg(samples, *, unit: str, scale: float, axis_label: str, lines=()
     lo, hi = (float(x.min()), float(x.max())) if x.size else (0.0, 1.0)
     span = max(hi - lo, abs(hi) * 1e-3, 1e-12)
     view_lo, view_hi = lo - 0.15 * span, hi + 0.15 * span
-    # Targets within two spans of the samples are drawn in place; farther ones at the edge.
+    # Targets within two spans of the samples are drawn in place; farther ones only named.
     near = [(v * scale, t) for v, t in lines if lo - 2 * span <= v * scale <= hi + 2 * span]
     for v, _ in near:
-        view_lo, view_hi = min(view_lo, v - 0.05 * span), max(view_hi, v + 0.05 * span)
+        view_lo, view_hi = min(view_lo, v - 0.08 * span), max(view_hi, v + 0.08 * span)
     if x.size:
         ax.hist(x, bins=40, range=(lo, hi) if hi > lo else None, color=PALETTE["soft"], edgecolor="white", lw=0.4)
     ax.set_xlim(view_lo, view_hi)
-    for v, text in near:
-        ax.axvline(v, color=PALETTE["accent"], lw=1.3, ls="--")
-        ax.annotate(text, (v, 1), xycoords=("data", "axes fraction"), xytext=(3, -10),
-                    textcoords="offset points", fontsize=7, color=PALETTE["accent"], rotation=90, va="top")
-    for v, text in lines:
-        v = v * scale
-        if (v, text) in near:
-            continue
-        right = v > hi
-        ax.annotate(f"{text} {v:.3g} {shown_unit} {'→' if right else '←'}".replace("  ", " "), (1.0 if right else 0.0, 0.92),
-                    xycoords="axes fraction", ha="right" if right else "left", fontsize=7.5,
-                    color=PALETTE["accent"])
+    handles = []
     if nominal is not None and math.isfinite(nominal):
         ax.axvline(nominal * scale, color=PALETTE["ink"], lw=1.2)
+        handles.append(Line2D([], [], color=PALETTE["ink"], lw=1.2,
+                              label=f"nominal {nominal * scale:.3g} {shown_unit}".rstrip()))
+    for v, text in lines:
+        v = v * scale
+        shown = f"{text} {v:.3g} {shown_unit}".rstrip()
+        if (v, text) in near:
+            ax.axvline(v, color=PALETTE["accent"], lw=1.3, ls="--")
+        else:
+            shown += " (off the scale " + ("→)" if v > hi else "←)")
+        handles.append(Line2D([], [], color=PALETTE["accent"], lw=1.3, ls="--", label=shown))
+    if handles:
+        ax.legend(handles=handles, loc="lower left", bbox_to_anchor=(0.0, 1.01), ncol=2 if len(handles) > 2 else 1,
+                  fontsize=7, frameon=False, borderaxespad=0.0, handlelength=1.8, columnspacing=1.0)
     ax.set_xlabel(axis_label, fontsize=8)
     ax.set_ylabel("builds", fontsize=8)
     _style(ax)

@@ -8,8 +8,9 @@ capacitors are drawn with their + end where the DC voltage puts it.
 from __future__ import annotations
 
 import re
-from typing import Mapping
+from typing import Mapping, Sequence
 
+from ..parts import pin_order_text
 from ..values import format_code, format_si
 
 __all__ = ["schematic_svg", "value_label"]
@@ -31,10 +32,55 @@ def value_label(role: str, value: float) -> str:
     return format_code(value, "ohm" if role.startswith("R") else "F")
 
 
-def schematic_svg(design, nominal, *, labels: Mapping[str, str] | None = None) -> str:
+# Geometry of a role made of several parts (schemdraw units): a part in a series chain, the
+# distance between parallel branches, and the wire before a parallel group splits.
+_PART = 2.0
+_BRANCH = 1.8
+_INSET = 0.6
+_LABEL_ROOM = 1.3  # beside the outermost branch, for its "R1a / 4k7" label
+_ROLE_ROOM = 1.9  # on the other side, for the "CE = 220µ" label of the whole role
+
+
+def _network(arrangement: str, members: list) -> list:
+    """The parts as parallel branches of series items (an item: a part, or a nested group):
+    a ∥ b is [[a], [b]]; a + b is [[a, b]]; a + (b ∥ c) is [[a, [[b], [c]]]]; a ∥ (b + c) is
+    [[a], [b, c]]."""
+    if arrangement == "series-parallel":
+        a, b, c = members
+        return [[a, [[b], [c]]]]
+    if arrangement == "parallel-series":
+        a, b, c = members
+        return [[a], [b, c]]
+    if arrangement == "parallel":
+        return [[m] for m in members]
+    return [list(members)]
+
+
+def _length(group: list) -> float:
+    """Length a group needs along its axis."""
+    need = max(sum(_PART if not isinstance(i, list) else _length(i) for i in branch) for branch in group)
+    return need + (2 * _INSET if len(group) > 1 else 0.0)
+
+
+def _width(group: list) -> float:
+    """How far a group reaches beside its axis (its branches, not their labels)."""
+    return max(j * _BRANCH + max([_width(i) for i in branch if isinstance(i, list)], default=0.0)
+               for j, branch in enumerate(group))
+
+
+def _footprint(members) -> tuple[float, float]:
+    """(length, width beside the axis, labels included) of a role's parts; (0, 0) for one part."""
+    if len(members) < 2:
+        return 0.0, 0.0
+    group = _network(members[0].arrangement, list(members))
+    return _length(group) + 0.4, _width(group) + _LABEL_ROOM
+
+
+def schematic_svg(design, nominal, *, members: Mapping[str, Sequence] | None = None) -> str:
     """SVG text of the stage.  ``nominal`` (core Figures) gives the capacitor polarities.
 
-    ``labels`` may override the value text per role (e.g. '830 = 680 + 150').
+    ``members`` (``physical.members_of`` per role) draws a role made of several parts as those
+    parts, each with its own designator and value, wired as the arrangement says.
     """
     import schemdraw
     import schemdraw.elements as elm
@@ -43,43 +89,112 @@ def schematic_svg(design, nominal, *, labels: Mapping[str, str] | None = None) -
     npn = stage.polarity == "npn"
     ce = stage.topology == "common-emitter"
     parts = stage.parts
-    labels = dict(labels or {})
+    members = {r: list(m) for r, m in (members or {}).items() if len(m) > 1 and r in parts}
+    length = {r: _footprint(members.get(r, ()))[0] for r in parts}
+    width = {r: _footprint(members.get(r, ()))[1] for r in parts}
 
     def text(role: str) -> str:
-        return f"{role}\n{_safe(labels.get(role) or value_label(role, parts[role].value))}"
-
-    e_dir = -1.0 if npn else 1.0  # the emitter side points at this rail
-    stack_e = (3.0 + (3.0 if "RE2" in parts else 0.0)) if ce else _LEAD + 3.0
-    stack_c = _LEAD + 3.0 if ce else 1.5
-    y_e = 0.7 + stack_e
-    y_c = 0.7 + stack_c
-    ytop, ybot = (y_c, -y_e) if npn else (y_e, -y_c)
-    ytop, ybot = max(ytop, 3.6), min(ybot, -3.6)
-    rail_e, rail_c = (ybot, ytop) if npn else (ytop, ybot)
+        return f"{role}\n{_safe(value_label(role, parts[role].value))}"
 
     d = schemdraw.Drawing(canvas="svg", show=False)
     d.config(fontsize=11, lw=1.4, font="sans-serif")  # this drawing only: no global settings
+
+    def label_at(xy, words: str, n, gap: float = 0.35) -> None:
+        """Text beside a point, on the side ``n`` points to, aligned away from the part."""
+        x, y = xy[0] + gap * n[0], xy[1] + gap * n[1]
+        halign = "left" if n[0] > 0.5 else "right" if n[0] < -0.5 else "center"
+        valign = "bottom" if n[1] > 0.5 else "top" if n[1] < -0.5 else "center"
+        d.add(elm.Label().at((x, y)).label(words, loc="center", halign=halign, valign=valign))
+
+    def place(role: str, start, end, n, *, single_loc: str, ofst: float = 0.25, plus_at_start: bool = True,
+              polar: bool = False):
+        """Draw a role between ``start`` and ``end``: one part with its label at ``single_loc``, or
+        its parts (branches toward ``n``), each labelled with its designator and value."""
+        unit = "ohm" if role.startswith("R") else "F"
+
+        def part(a, b, plus_first: bool):
+            e = elm.Resistor() if unit == "ohm" else elm.Capacitor(polar=polar)
+            return e.at(a).to(b) if plus_first else e.at(b).to(a)
+
+        if role not in members:
+            d.add(part(start, end, plus_at_start).label(text(role), loc=single_loc, ofst=ofst))
+            return
+        ux, uy = end[0] - start[0], end[1] - start[1]
+        span = (ux * ux + uy * uy) ** 0.5
+        u = (ux / span, uy / span)
+
+        def at(p, along=0.0, beside=0.0):
+            return (p[0] + along * u[0] + beside * n[0], p[1] + along * u[1] + beside * n[1])
+
+        def group(g, a, b):
+            if len(g) == 1:
+                branch(g[0], a, b)
+                return
+            a2, b2 = at(a, _INSET), at(b, -_INSET)
+            d.add(elm.Line().at(a).to(a2))
+            d.add(elm.Line().at(b2).to(b))
+            for j, br in enumerate(g):
+                if j:
+                    d.add(elm.Line().at(at(a2, 0, (j - 1) * _BRANCH)).to(at(a2, 0, j * _BRANCH)))
+                    d.add(elm.Line().at(at(b2, 0, (j - 1) * _BRANCH)).to(at(b2, 0, j * _BRANCH)))
+                if j < len(g) - 1:
+                    d.add(elm.Dot().at(at(a2, 0, j * _BRANCH)))
+                    d.add(elm.Dot().at(at(b2, 0, j * _BRANCH)))
+                branch(br, at(a2, 0, j * _BRANCH), at(b2, 0, j * _BRANCH))
+
+        def branch(items, a, b):
+            need = [(_PART if not isinstance(i, list) else _length(i)) for i in items]
+            room = ((b[0] - a[0]) ** 2 + (b[1] - a[1]) ** 2) ** 0.5
+            cursor = a
+            for item, k in zip(items, need):
+                nxt = at(cursor, k * room / sum(need))
+                if isinstance(item, list):
+                    group(item, cursor, nxt)
+                else:
+                    d.add(part(cursor, nxt, plus_at_start))
+                    mid = ((cursor[0] + nxt[0]) / 2, (cursor[1] + nxt[1]) / 2)
+                    label_at(at(mid, 0, 0.1), f"{item.designator}\n{_safe(value_label(role, item.value))}", n)
+                cursor = nxt
+
+        group(_network(members[role][0].arrangement, members[role]), start, end)
+        middle = ((start[0] + end[0]) / 2, (start[1] + end[1]) / 2)
+        label_at(middle, f"{role} = {_safe(value_label(role, parts[role].value))}", (-n[0], -n[1]), gap=0.55)
+
+    e_dir = -1.0 if npn else 1.0  # the emitter side points at this rail
+    right, left, up, down = (1.0, 0.0), (-1.0, 0.0), (0.0, 1.0), (0.0, -1.0)
+    toward_e = (0.0, e_dir)
+    len_re = max(3.0, length["RE"])
+    len_re2 = max(3.0, length.get("RE2", 0.0))
+    len_rc = max(3.0, length.get("RC", 0.0))
+    stack_e = (len_re + (len_re2 if "RE2" in parts else 0.0)) if ce else _LEAD + len_re
+    stack_c = _LEAD + len_rc if ce else 1.5
+    y_e = 0.7 + stack_e
+    y_c = 0.7 + stack_c
+    ytop, ybot = (y_c, -y_e) if npn else (y_e, -y_c)
+    ytop = max(ytop, 3.6, length["R1"] + 0.2)
+    ybot = min(ybot, -3.6, -length["R2"] - 0.2)
+    rail_e, rail_c = (ybot, ytop) if npn else (ytop, ybot)
+
     xq = 0.7516666666666666  # collector/emitter x of schemdraw's BJT with base at (0, 0)
     q = elm.BjtNpn(circle=True) if npn else elm.BjtPnp(circle=True)
-    d += q.at((0, 0)).anchor("base").label(f"Q1\n{_safe(stage.transistor.label) or stage.polarity.upper()}",
-                                            loc="right", ofst=(0.35, 0))
-    top_pin, bottom_pin = (q.collector, q.emitter) if npn else (q.emitter, q.collector)
+    t = stage.transistor
+    q_text = f"Q1\n{_safe(t.label) or stage.polarity.upper()}" + (f"\npins {pin_order_text(t.pins)}" if t.pins else "")
+    d += q.at((0, 0)).anchor("base").label(q_text, loc="right", ofst=(0.35, 0))
     e_pin, c_pin = (q.emitter, q.collector)
 
-    # Divider and input.
+    # Divider and input; the parts of a divider role branch to the left, away from Q1.
     xd = -2.5
     d += elm.Line().at((xd, 0)).to((0, 0))
     d += elm.Dot().at((xd, 0))
-    d += elm.Resistor().at((xd, 0)).to((xd, ytop)).label(text("R1"), loc="bottom", ofst=0.25)
-    d += elm.Resistor().at((xd, 0)).to((xd, ybot)).label(text("R2"), loc="top", ofst=0.25)
+    place("R1", (xd, 0), (xd, ytop), left, single_loc="bottom")
+    place("R2", (xd, 0), (xd, ybot), left, single_loc="top")
     c1_plus_at_base = float(nominal.v_c1) >= 0
-    x_in = -6.5
-    c1 = elm.Capacitor(polar=parts["C1"].polarized)
-    if c1_plus_at_base:
-        c1 = c1.at((xd, 0)).to((x_in, 0))
-    else:
-        c1 = c1.at((x_in, 0)).to((xd, 0))
-    d += c1.label(text("C1"), loc="bottom" if c1_plus_at_base else "top", ofst=0.3)
+    x_c1 = xd - (max(width["R1"], width["R2"]) + 0.4 if width["R1"] or width["R2"] else 0.0)
+    x_in = x_c1 - max(4.0, length["C1"])
+    if x_c1 != xd:
+        d += elm.Line().at((x_c1, 0)).to((xd, 0))
+    place("C1", (x_c1, 0), (x_in, 0), up, single_loc="bottom" if c1_plus_at_base else "top", ofst=0.3,
+          plus_at_start=c1_plus_at_base, polar=parts["C1"].polarized)
     d += elm.Dot(open=True).at((x_in, 0)).label("in", loc="bottom", ofst=0.2)
     x_src = x_in - 4.0
     if stage.source_resistance > 0:
@@ -89,47 +204,52 @@ def schematic_svg(design, nominal, *, labels: Mapping[str, str] | None = None) -
         d += elm.Line().at((x_src, 0)).to((x_in, 0))
     d += elm.SourceSin().at((x_src, ybot)).to((x_src, 0)).label("signal\nsource", loc="top", ofst=0.3)
 
-    # Emitter side.
+    # Emitter side; the parts of its roles branch to the right.
     e_start = (xq, e_pin[1])
+    reach = width["RE"]  # how far right of Q1 the emitter side reaches
     if ce:
-        n_y = e_pin[1] + e_dir * 3.0
+        n_y = e_pin[1] + e_dir * len_re
         end_re = (xq, n_y if "RE2" in parts else rail_e)
-        d += elm.Resistor().at(e_start).to(end_re).label(text("RE"), loc="bottom", ofst=0.25)
+        place("RE", e_start, end_re, right, single_loc="bottom")
         if "RE2" in parts:
             d += elm.Dot().at((xq, n_y))
-            d += elm.Resistor().at((xq, n_y)).to((xq, rail_e)).label(text("RE2"), loc="top", ofst=0.25)
+            place("RE2", (xq, n_y), (xq, rail_e), right, single_loc="top")
+            reach = max(reach, width["RE2"])
             if stage.bypassed:
-                xce = xq + 2.2
+                xce = xq + max(2.2, width["RE2"] + 0.6 + (_ROLE_ROOM if "CE" in members else 0.0))
                 d += elm.Line().at((xq, n_y)).to((xce, n_y))
                 ce_plus_at_n = float(nominal.v_ce) >= 0
-                cap = elm.Capacitor(polar=parts["CE"].polarized)
-                cap = cap.at((xce, n_y)).to((xce, rail_e)) if ce_plus_at_n else cap.at((xce, rail_e)).to((xce, n_y))
-                d += cap.label(text("CE"), loc="bottom" if (ce_plus_at_n == npn) else "top", ofst=0.25)
+                place("CE", (xce, n_y), (xce, rail_e), right,
+                      single_loc="bottom" if (ce_plus_at_n == npn) else "top", plus_at_start=ce_plus_at_n,
+                      polar=parts["CE"].polarized)
                 d += elm.Dot().at((xce, rail_e))
+                reach = max(reach, xce - xq + width["CE"] + 1.2)
         tap_y = c_pin[1] - e_dir * _LEAD
         d += elm.Line().at((xq, c_pin[1])).to((xq, tap_y))
-        d += elm.Resistor().at((xq, tap_y)).to((xq, rail_c)).label(text("RC"), loc="top" if npn else "bottom",
-                                                                   ofst=0.25)
+        place("RC", (xq, tap_y), (xq, rail_c), right, single_loc="top" if npn else "bottom")
+        x_c2 = xq + max(1.2, width["RC"] + 0.2)
+        c2_side = (0.0, -e_dir)  # toward the collector's rail, clear of Q1's label
     else:
         tap_y = e_pin[1] + e_dir * _LEAD
         d += elm.Line().at(e_start).to((xq, tap_y))
-        d += elm.Resistor().at((xq, tap_y)).to((xq, rail_e)).label(text("RE"), loc="bottom" if npn else "top",
-                                                                   ofst=0.25)
+        place("RE", (xq, tap_y), (xq, rail_e), right, single_loc="bottom" if npn else "top")
         d += elm.Line().at((xq, c_pin[1])).to((xq, rail_c))
+        x_c2 = xq + max(1.2, width["RE"] + 0.2)
+        c2_side = toward_e
 
     # Output.
-    x_c2 = xq + (4.6 if ce and stage.bypassed else 1.2)
-    x_out = x_c2 + 3.2
+    if ce and stage.bypassed:
+        x_c2 = max(x_c2, xq + 4.6)
+    x_out = x_c2 + max(3.2, length["C2"])
     d += elm.Dot().at((xq, tap_y))
     d += elm.Line().at((xq, tap_y)).to((x_c2, tap_y))
     c2_plus_at_stage = float(nominal.v_c2) >= 0
-    c2 = elm.Capacitor(polar=parts["C2"].polarized)
-    c2 = c2.at((x_out, tap_y)).to((x_c2, tap_y)) if not c2_plus_at_stage else c2.at((x_c2, tap_y)).to((x_out, tap_y))
-    d += c2.label(text("C2"), loc="top" if c2_plus_at_stage else "bottom", ofst=0.3)
+    place("C2", (x_c2, tap_y), (x_out, tap_y), c2_side, single_loc="top" if c2_plus_at_stage else "bottom",
+          ofst=0.3, plus_at_start=c2_plus_at_stage, polar=parts["C2"].polarized)
     d += elm.Dot(open=True).at((x_out, tap_y)).label("out", loc="top", ofst=0.2)
     x_right = x_out
     if stage.load is not None:
-        x_rl = x_out + 1.6
+        x_rl = max(x_out + 1.6, xq + reach + 1.0)
         d += elm.Line().at((x_out, tap_y)).to((x_rl, tap_y))
         d += elm.Resistor().at((x_rl, tap_y)).to((x_rl, ybot)).label(
             f"RL (load)\n{format_code(stage.load, 'ohm')}", loc="bottom", ofst=0.25)

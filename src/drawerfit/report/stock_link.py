@@ -32,4 +32,11 @@ def link_stock(design: DesignFile, stock) -> tuple[DesignFile, str]:
                                          transistor_source=line.source.to_dict())
             if line.location:
                 notes.append(f"{t.label} found in bin {line.location}")
+    if not t.pins and t.label:
+        # the pin order, when the design file lacks it and the stock line gives it
+        line = next((ln for ln in stock.transistors() if (ln.label or "").strip().lower() == t.label.lower()
+                     and ln.pins), None)
+        if line is not None:
+            stage = dataclasses.replace(design.stage, transistor=dataclasses.replace(t, pins=line.pins))
+            design = dataclasses.replace(design, stage=stage)
     return design, "; ".join(notes)

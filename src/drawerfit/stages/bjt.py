@@ -18,7 +18,8 @@ class TransistorModel:
     √(hfe_min·hfe_max), the centre of the range on the ratio scale that hFE spreads on (a 2:1
     or 3:1 spread within one type).  ``vbe`` is VBE at 25 °C; when ``i_sat`` (A) is given VBE
     comes from the diode law instead.  Ratings (``vceo`` V, ``ic_max`` A, ``pd`` W) may be None
-    when unknown; checks against them are then skipped and said to be skipped.
+    when unknown; checks against them are then skipped and said to be skipped.  ``pins`` is
+    shown to the builder only; no figure depends on it.
     """
 
     polarity: str
@@ -32,6 +33,7 @@ class TransistorModel:
     ic_max: float | None = None
     pd: float | None = None
     label: str = ""
+    pins: str = ""  # the leads in pin order ("EBC"), when the stock line or spec gives them
 
     def __post_init__(self) -> None:
         if self.polarity not in ("npn", "pnp"):

@@ -38,6 +38,8 @@ FIELD_WORDS: dict[str, tuple[str, ...]] = {
     "pd": ("pd", "ptot", "pdmax", "pmax", "dissipation", "powerdissipation", "ptotal"),
     "vbe": ("vbe", "vbeon", "vbetyp"),
     "vce_sat": ("vcesat", "vcesatmax", "vsat", "saturationvoltage"),
+    # a transistor's leads in pin order ('EBC', 'C-B-E'): shown to the builder, no figure uses it
+    "pins": ("pins", "pinout", "pinorder", "pinning", "leadorder", "leads", "pinconfig", "pinconfiguration"),
     "note": ("note", "notes", "comment", "comments", "description", "remarks", "remark", "desc", "info"),
 }
 

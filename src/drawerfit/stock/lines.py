@@ -10,7 +10,7 @@ from dataclasses import dataclass, field
 from typing import Iterable
 
 from .. import constants as K
-from ..parts import Problem, Source, StockLine
+from ..parts import Problem, Source, StockLine, parse_pin_order
 from ..values import UNIT_SYMBOL, ValueParseError, format_si, implied_unit, parse_quantity, parse_tolerance
 from .headers import Column, find_header, normalise
 from .readers import LongCell, excerpt
@@ -463,6 +463,7 @@ def _transistor(row: _Row, index, source, qty, location, label, note, polarity, 
     vce_sat = row.quantity("vce_sat", "V")
     if row.failed:
         return None
+    pins = _pins(row)
     if hfe_min is not None and hfe_max is not None and hfe_min > hfe_max:
         row.problem("hfe_max", hfe_max, f"hFE max is below hFE min ({hfe_min:g})")
         return None
@@ -479,7 +480,20 @@ def _transistor(row: _Row, index, source, qty, location, label, note, polarity, 
         assumed.append("vce_sat")
     return StockLine(index=index, kind="transistor", value=None, qty=qty, source=source, location=location,
                      label=label, polarity=polarity, hfe_min=hfe_min, hfe_max=hfe_max, vceo=vceo, ic_max=ic_max,
-                     pd=pd, vbe=vbe, vce_sat=vce_sat, note=note, assumed=tuple(assumed))
+                     pd=pd, vbe=vbe, vce_sat=vce_sat, pins=pins, note=note, assumed=tuple(assumed))
+
+
+def _pins(row: _Row) -> str:
+    """The pin order cell, normalised ('E-B-C' -> 'EBC'); a bad one is noted and left unknown,
+    so the builder is sent to the datasheet as when the column is absent."""
+    cell = row.raw("pins")
+    if cell is None:
+        return ""
+    try:
+        return parse_pin_order(_text(cell))
+    except ValueError as exc:
+        row.problem("pins", cell, f"{exc}; pin order left unknown (check the datasheet)", "warning")
+        return ""
 
 
 DEFAULT_TEXT = {

@@ -152,7 +152,7 @@ def kit_and_match(folder: Path, largest: str) -> None:
     bench_kit.make_list(rng, parts)
     print("\nkit: a 60-line list against a 500-line drawer, 10 units")
     for mp in ("2", "3"):
-        r = run(["kit", str(parts), "--stock", str(stock), "--units", "10", "--max-parts", mp, "--json", "--quiet"])
+        r = run(["kit", str(parts), "--stock", str(stock), "--units", "10", "--max-parts", mp, "--json"])
         secs = "timeout" if r["seconds"] is None else f"{r['seconds']:.2f} s"
         print(f"  max-parts {mp}: {secs}, peak {r['rss_mb'] or 0:.0f} MB, exit {r.get('code')}")
     path = folder / f"{largest}.csv"

@@ -348,6 +348,7 @@ class EquivalentIndex:
         self.units = units
         self.pool = _pool(lines, units)
         self._pairs: dict[bool, _Pairs] = {}
+        self._space = None  # triples.TripleSpace, made when first asked
 
     @property
     def kind(self) -> str:
@@ -376,6 +377,41 @@ class EquivalentIndex:
                         tables.append(_triples(pool, pr, recip, outer_recip, ta, tk, self.units))
         table = _dedupe(_concat(pool.kind, tables, pool.lines))
         return _filter(table, min_rating, allow_polarized_series, None)
+
+    def window_near(self, lo: float, hi: float, target: float, k: int, *, max_parts: int = 2,
+                    min_rating: float | None = None, allow_polarized_series: bool = True
+                    ) -> tuple[EquivalentTable, bool]:
+        """The equivalents in [lo, hi] that can rank among the k nearest ``target`` in their part
+        count: every single part in it, the pairs within k places of the target on each sorted pair
+        table, and the triples of the narrowest window around the target holding about 2k
+        (``triples.TripleSpace``); and whether [lo, hi] holds more pairs or triples than these.
+        Memory stays in proportion to k, whatever the window."""
+        pool = self.pool
+        tables, more = [], False
+        if not len(pool.v):
+            return _concat(pool.kind, [], pool.lines), False
+        tables.append(_singles(pool, (pool.v >= lo) & (pool.v <= hi)))
+        if max_parts >= 2:
+            for recip in (False, True):
+                pr = self.pairs(recip)
+                first, last = np.searchsorted(pr.v, lo, side="left"), np.searchsorted(pr.v, hi, side="right")
+                centre = int(np.searchsorted(pr.v, target))
+                a, b = max(first, centre - k), min(last, centre + k)
+                more |= a > first or b < last
+                tables.append(_pair_table(pool, pr, recip, slice(a, max(a, b))))
+        if max_parts >= 3:
+            from .triples import TripleSpace
+
+            if self._space is None:
+                self._space = TripleSpace(pool, self.units, {r: self.pairs(r) for r in (False, True)})
+            space = self._space
+            w_lo, w_hi = space.around(target, 2 * k, lo, hi)
+            more |= w_lo > lo or w_hi < hi
+            blk = space.build(w_lo, w_hi)
+            tables.append(_table(pool, np.asarray(blk.pos, np.int64), blk.v, blk.vlo, blk.vhi, blk.rating,
+                                 blk.form.astype(np.int64), blk.pol_series))
+        table = _dedupe(_concat(pool.kind, tables, pool.lines))
+        return _filter(table, min_rating, allow_polarized_series, None), more
 
     def nearest(self, target: float, k: int, *, max_parts: int = 2, min_rating: float | None = None,
                 allow_polarized_series: bool = True,

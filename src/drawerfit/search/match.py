@@ -19,7 +19,7 @@ from typing import Sequence
 
 import numpy as np
 
-from ..equivalents import Equivalent, EquivalentTable, equivalents_in_window, nearest
+from ..equivalents import Equivalent, EquivalentIndex, EquivalentTable
 from ..parts import StockLine
 from .pools import Pools, covers_key
 
@@ -148,23 +148,36 @@ def match(lines: Sequence[StockLine], target: float, *, within: float = DEFAULT_
 
     Chains with a polarized capacitor in series are left out unless ``allow_polarized_series``.
     """
-    opts = dict(units=units, min_rating=min_rating, allow_polarized_series=allow_polarized_series)
+    opts = dict(min_rating=min_rating, allow_polarized_series=allow_polarized_series)
     kind = lines[0].kind if lines else "resistor"
     drawer = _Drawer(lines)
     pool = drawer.lines
     lo, hi = target * (1 - within), target * (1 + within)
-    found = equivalents_in_window(pool, lo, hi, max_parts=min(max_parts, 2), **opts)
-    if len(found) < top and max_parts >= 3:
-        found = equivalents_in_window(pool, lo, hi, max_parts=3, **opts)
+    index = EquivalentIndex(pool, units) if pool else None
     rows: list[Candidate] = []
-    for i in _rank_within(found, target):
-        c = _candidate(drawer, found.equivalent(int(i)), target, True, units)
-        if c is not None:
-            rows.append(c)
-            if len(rows) == top:
+    # fewest parts first: singles, then pairs, then triples, each the nearest first; a count is
+    # looked at only when the ones before cannot fill the list, and only as deep as it must
+    # (``window_near``: memory in proportion to the list, whatever the window)
+    for count in range(1, max_parts + 1):
+        if index is None or len(rows) >= top:
+            break
+        k = 2 * top + 8
+        while True:
+            found, more = index.window_near(lo, hi, target, k, max_parts=count, **opts)
+            found = found.take(np.flatnonzero(found.part_count == count))
+            got: list[Candidate] = []
+            for i in _rank_within(found, target):
+                c = _candidate(drawer, found.equivalent(int(i)), target, True, units)
+                if c is not None:
+                    got.append(c)
+                    if len(rows) + len(got) == top:
+                        break
+            if len(rows) + len(got) >= top or not more:
+                rows += got
                 break
-    if len(rows) < top:
-        rest = nearest(pool, target, NEAREST_OUTSIDE + 4, max_parts=max_parts, exclude_window=(lo, hi), **opts)
+            k *= 4  # stock kept some of them out: look deeper
+    if len(rows) < top and index is not None:
+        rest = index.nearest(target, NEAREST_OUTSIDE + 4, max_parts=max_parts, exclude_window=(lo, hi), **opts)
         outside = [c for c in (_candidate(drawer, e, target, False, units) for e in rest) if c is not None]
         rows += outside[:NEAREST_OUTSIDE]
     return MatchResult(kind, target, within, min_rating, units, max_parts, tuple(rows))

@@ -287,7 +287,7 @@ class Search:
             for si, shape in enumerate(shapes):
                 pr = sum(shape.values())
                 pc = pcs[0] if ctx.problem.prefer != "closest" else None
-                self._push(self._bkey(ti, 0, pr + pcs[0], 0.0), (ti, si, 0.0, BANDS[1], pc))
+                self._push(self._bkey(ti, 0, pr + pcs[0], 0.0), (ti, si, 0.0, BANDS[1], pc, True))
         while heap:
             beat = self._beat()
             if beat is not None and heap[0][0] >= beat:
@@ -307,35 +307,37 @@ class Search:
         return st["truncated"]
 
     def _entry(self, key: tuple, entry: tuple) -> None:
-        ti, si, d0, d1, pc = entry
+        ti, si, d0, d1, pc, chain = entry
         tr, ctx, caps, shapes = self.trs[ti]
         shape = shapes[si]
         pr = sum(shape.values())
         if d0 == 0.0 and d1 == BANDS[1] and self._is_small(ti, si):
             d1 = np.inf  # bands only pay where the space is large
-        before = self.stats["sets"]
-        kept, cut = self._enumerate(ti, shape, d0, d1)
+        judged = self.stats["sets"]
+        kept, cut, seen = self._enumerate(ti, shape, d0, d1)
+        judged = self.stats["sets"] - judged
         if self.stats["truncated"]:
             self._complete(ti, kept, pc)  # the best found so far, not proven
             return
         pcs = sorted({sum(s.values()) for s in caps.shapes})
-        # what this entry leaves: the rest of its band, the next band, and (at D = 0) the next count
-        p_next = pr + (pc if pc is not None else pcs[0])
+        # what this entry leaves: the rest of its band; on the chain of the fewest capacitors, the
+        # next band; and the same band again at the next capacitor count its sets need
+        p_here = pr + (pc if pc is not None else pcs[0])
         if cut < d1:
-            self._push(self._bkey(ti, 0, p_next, cut), (ti, si, cut, d1, pc))
-        elif np.isfinite(d1):
+            self._push(self._bkey(ti, 0, p_here, cut), (ti, si, cut, d1, pc, chain))
+        elif chain and np.isfinite(d1):
             # when the band's windows no longer narrow anything (as many sets as the band before),
             # the rest of the space goes in one entry
-            seen = self.stats["sets"] - before
+            # (or, when the band held sets but none that any capacitors could complete, there is
+            # nothing to order by D and nothing to hold in memory)
             last = self._counts.get((ti, si, pc))
             self._counts[(ti, si, pc)] = seen
-            nxt = np.inf if d1 >= 1.0 and last is not None and seen == last else _next_band(d1)
-            self._push(self._bkey(ti, 0, p_next, d1), (ti, si, d1, nxt, pc))
-        if pc is not None and d0 == 0.0:
-            later = [c for c in pcs if c > pc]
-            if later:
-                self._push(self._bkey(ti, 0, pr + later[0], 0.0), (ti, si, 0.0, BANDS[1], later[0]))
-        self._complete(ti, kept, pc)
+            saturated = d1 >= 1.0 and last is not None and seen == last
+            nxt = np.inf if saturated or (seen and not judged) else _next_band(d1)
+            self._push(self._bkey(ti, 0, p_here, d1), (ti, si, d1, nxt, pc, chain))
+        need = self._complete(ti, kept, pc)
+        if need is not None:
+            self._push(self._bkey(ti, 0, pr + need, d0), (ti, si, d0, min(cut, d1), need, False))
 
     def _is_small(self, ti: int, si: int) -> bool:
         """Whether the shape's space (the product of its tables' sizes) is at most SMALL_SPACE."""
@@ -358,17 +360,18 @@ class Search:
         kept: list[RBatch] = []
         n_kept = 0
         cut = d1
+        seen = 0  # sets the band's windows let through (all bands below it included)
         tally = [0]
         for T in _sub_shapes(tabs, shape, role_ranges(ctx), self.stats):
             if self._spent():
-                return kept, cut
+                return kept, cut, seen
             for idx in candidate_sets(ctx, T, tally, band, self._cache):
                 n = len(idx[ctx.res_roles[0]])
-                self.stats["sets"] += n
-                self.stats["work"] += tally[0]
+                seen += n
+                self.stats["work"] += tally[0] + n
                 tally[0] = 0
                 if self._spent():
-                    return kept, cut
+                    return kept, cut, seen
                 if not n:
                     continue
                 d = nominal_distance(ctx, {r: T[r].v[idx[r]] for r in ctx.res_roles})
@@ -378,6 +381,8 @@ class Search:
                     part = {r: a[caps.may_complete(T, part)] for r, a in part.items()}
                     if not len(part[ctx.res_roles[0]]):
                         continue
+                    # a set counts once, in its band, when it is worth judging
+                    self.stats["sets"] += len(part[ctx.res_roles[0]])
                     self.stats["judged"] += len(part[ctx.res_roles[0]])
                     b = _judge_sets(ctx, T, part, self.pools, pr, self.virtual)
                     if b is None:
@@ -391,7 +396,7 @@ class Search:
                     self.on_step(note=self._note())
         if n_kept > KEEP and not self.buying:
             kept, cut = _trim(kept, KEEP)
-        return kept, cut
+        return kept, cut, seen
 
     def _note(self) -> str:
         st = self.stats
@@ -402,11 +407,12 @@ class Search:
             text += f", best so far {f.batch.pr + f.completion.pc} parts, D {float(f.batch.ev.distance[f.pos]):.3g}"
         return text
 
-    def _complete(self, ti: int, kept: list[RBatch], pc: int | None) -> None:
-        """Capacitors for the kept sets in order of (B, D), while their bound can beat the answer."""
+    def _complete(self, ti: int, kept: list[RBatch], pc: int | None) -> int | None:
+        """Capacitors for the kept sets in order of (B, D), while their bound can beat the answer;
+        with a count ``pc``, the next count some of them need (None: none)."""
         tr, ctx, caps, _ = self.trs[ti]
         if not kept:
-            return
+            return None
         b_all = np.concatenate([b.bought for b in kept])
         d_all = np.concatenate([b.ev.distance for b in kept])
         which = np.concatenate([np.full(len(b), i) for i, b in enumerate(kept)])
@@ -415,6 +421,14 @@ class Search:
         pcs = sorted({sum(s.values()) for s in caps.shapes})
         max_pc = pcs[-1]
         prefer = ctx.problem.prefer
+        need = None
+
+        def later(c):
+            nonlocal need
+            nxt = [x for x in pcs if x >= c]
+            if nxt and (need is None or nxt[0] < need):
+                need = nxt[0]
+
         for c0 in range(0, len(order), LB_CHUNK):
             chunk = order[c0:c0 + LB_CHUNK]
             first = chunk[0]
@@ -422,7 +436,7 @@ class Search:
             p_lo = bt0.pr + (pc if pc is not None else pcs[0])
             beat = self._beat()
             if beat is not None and self._bkey(ti, int(b_all[first]), p_lo, float(d_all[first])) >= beat:
-                return
+                return need
             lbs = np.empty(len(chunk))
             for i in np.unique(which[chunk]):
                 m = which[chunk] == i
@@ -430,18 +444,22 @@ class Search:
             for q, lb in zip(chunk, lbs):
                 bt, pos = kept[which[q]], int(where[q])
                 b, d = int(b_all[q]), float(d_all[q])
-                if not np.isfinite(lb) or (pc is not None and lb > pc):
+                if not np.isfinite(lb):
+                    continue
+                if pc is not None and lb > pc:
+                    later(int(lb))
                     continue
                 first_pc = pc if pc is not None else int(lb)
                 beat = self._beat()
                 if beat is not None and self._bkey(ti, b, bt.pr + first_pc, d) >= beat:
                     if pc is not None or prefer != "closest":
-                        return
+                        return need
                     continue
                 at = (ti, _res_canon(bt, pos, ctx))
                 have = self.found.get(at)
                 if have is not None and not (self.buying and have.completion.bought > 0):
                     continue
+                done = False
                 for c in ([pc] if pc is not None else range(first_pc, max_pc + 1)):
                     comp = caps.complete(bt, pos, c)
                     if comp is None:
@@ -450,9 +468,13 @@ class Search:
                     if have is None or f.key < have.key:
                         self.found[at] = have = f
                     if not (self.buying and comp.bought > 0):
+                        done = True
                         break
+                if pc is not None and not done:
+                    later(pc + 1)
             if self.on_step is not None:
                 self.on_step(note=self._note())
+        return need
 
 
 def _trim(kept: list[RBatch], n: int) -> tuple[list[RBatch], float]:

@@ -244,7 +244,7 @@ def design(problem: DesignProblem, stock: Stock, *, top: int = 1, exhaustive: bo
     from .shopping import explain_infeasible
 
     explain_infeasible(result, lines, trs, why, suggest=suggest, catalogue=catalogue,
-                       drawer_proven=not stats.get("truncated"))
+                       drawer_proven=not stats.get("truncated"), scale=1.0 if budget is None else budget)
     return result
 
 

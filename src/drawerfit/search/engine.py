@@ -314,7 +314,7 @@ class Search:
         if d0 == 0.0 and d1 == BANDS[1] and self._is_small(ti, si):
             d1 = np.inf  # bands only pay where the space is large
         judged = self.stats["sets"]
-        kept, cut, seen = self._enumerate(ti, shape, d0, d1)
+        kept, cut, seen, in_band = self._enumerate(ti, shape, d0, d1)
         judged = self.stats["sets"] - judged
         if self.stats["truncated"]:
             self._complete(ti, kept, pc)  # the best found so far, not proven
@@ -333,7 +333,7 @@ class Search:
             last = self._counts.get((ti, si, pc))
             self._counts[(ti, si, pc)] = seen
             saturated = d1 >= 1.0 and last is not None and seen == last
-            nxt = np.inf if saturated or (seen and not judged) else _next_band(d1)
+            nxt = np.inf if saturated or (in_band and not judged) else _next_band(d1)
             self._push(self._bkey(ti, 0, p_here, d1), (ti, si, d1, nxt, pc, chain))
         need = self._complete(ti, kept, pc)
         if need is not None:
@@ -361,21 +361,23 @@ class Search:
         n_kept = 0
         cut = d1
         seen = 0  # sets the band's windows let through (all bands below it included)
+        in_band = 0  # sets whose D lies in the band
         tally = [0]
         for T in _sub_shapes(tabs, shape, role_ranges(ctx), self.stats):
             if self._spent():
-                return kept, cut, seen
+                return kept, cut, seen, in_band
             for idx in candidate_sets(ctx, T, tally, band, self._cache):
                 n = len(idx[ctx.res_roles[0]])
                 seen += n
                 self.stats["work"] += tally[0] + n
                 tally[0] = 0
                 if self._spent():
-                    return kept, cut, seen
+                    return kept, cut, seen, in_band
                 if not n:
                     continue
                 d = nominal_distance(ctx, {r: T[r].v[idx[r]] for r in ctx.res_roles})
                 sel = np.flatnonzero((d >= d0) & (d < cut))
+                in_band += len(sel)
                 for s0 in range(0, len(sel), JUDGE_CHUNK):
                     part = {r: a[sel[s0:s0 + JUDGE_CHUNK]] for r, a in idx.items()}
                     part = {r: a[caps.may_complete(T, part)] for r, a in part.items()}
@@ -394,9 +396,11 @@ class Search:
                     n_kept = sum(len(b) for b in kept)
                 if self.on_step is not None:
                     self.on_step(note=self._note())
+            self.stats["work"] += tally[0]  # what the joins did after their last chunk
+            tally[0] = 0
         if n_kept > KEEP and not self.buying:
             kept, cut = _trim(kept, KEEP)
-        return kept, cut, seen
+        return kept, cut, seen, in_band
 
     def _note(self) -> str:
         st = self.stats

@@ -384,6 +384,8 @@ def _sets_emitter_first(ctx, box, em, T, band: Band | None, re_ok, ret_range, tm
                 hi_v = np.minimum(hi_v, _rb_at(vcc, band.vbe, band.b1, xs, ret, band.i2))
         live = np.flatnonzero(lo_v * (1 - SLACK) <= hi_v * (1 + SLACK))
         if not len(live):
+            if tally is not None:  # let the caller weigh the work done so far
+                yield {ctx.ra: np.zeros(0, np.int64), ctx.rb: np.zeros(0, np.int64), "RE": np.zeros(0, np.int64)}
             continue
         ks, kr = ks[live], kr[live]
         start, stop = _span(big.v, lo_v[live] * (1 - SLACK), hi_v[live] * (1 + SLACK))

@@ -114,7 +114,20 @@ def _ideal_caps(problem, lines, index: int):
     return ideal, build_tables([ideal], "capacitor", 1, problem.units)
 
 
-def cheapest_purchases(problem, lines, catalogue=None, *, drawer_proven: bool, budget: int | None = None) -> Purchases:
+def _steps(sets: int) -> int:
+    """The steps that go with a budget of ``sets`` resistor sets, in the engine's own proportion."""
+    from .engine import SET_BUDGET, WORK_BUDGET
+
+    return max(0, sets) * (WORK_BUDGET // SET_BUDGET)
+
+
+def _limits(sets: int, steps: int | None = None) -> tuple[int, int]:
+    """(sets, steps) for a search allowed ``sets`` resistor sets (and ``steps``, default in proportion)."""
+    return max(0, sets), max(0, _steps(sets) if steps is None else steps)
+
+
+def cheapest_purchases(problem, lines, catalogue=None, *, drawer_proven: bool, budget: int | None = None,
+                       scale: float = 1.0) -> Purchases:
     """The design with the fewest bought parts (then the usual objective); a bought part fills a
     role alone (it is never combined with other parts into a series or parallel equivalent).
 
@@ -135,7 +148,7 @@ def cheapest_purchases(problem, lines, catalogue=None, *, drawer_proven: bool, b
     from .pools import Pools
     from .tables import build_tables
 
-    total = BUY_BUDGET_FACTOR * SET_BUDGET if budget is None else budget
+    total = int(BUY_BUDGET_FACTOR * SET_BUDGET * scale) if budget is None else budget
     lines = list(lines)
     start = max((ln.index for ln in lines), default=-1) + 1
     extra = purchase_lines(start, problem.units, catalogue)
@@ -149,23 +162,28 @@ def cheapest_purchases(problem, lines, catalogue=None, *, drawer_proven: bool, b
     res_roles, cap_roles = problem.roles
     out = Purchases(None, None, drawer_proven)
     spent = 0
+    steps_spent = 0
 
     tie_left = None  # the budget left for ties, once a list of the fewest parts is known
 
     def search(chosen: frozenset, captabs):
         """(best design or None, whether the search stopped at its budget)."""
-        nonlocal spent, tie_left
+        nonlocal spent, steps_spent, tie_left
         rt = {r: (bought["resistor"] if r in chosen else drawer["resistor"]) for r in res_roles}
-        cap = SET_BUDGET if chosen or drawer_proven else SET_BUDGET // UNPROVEN_FRACTION
+        cap = int(SET_BUDGET * scale) if chosen or drawer_proven else int(SET_BUDGET * scale) // UNPROVEN_FRACTION
         if tie_left is not None:
             cap = min(cap, tie_left)
         cap = min(cap, total - spent)
+        if steps_spent >= _steps(total):
+            return None, True
         if cap <= 0:
             return None, True
         st: dict = {}
-        found, _, _ = _run(problem, every, 1, False, stats_out=st, budget=cap, tables=(rt, captabs))
+        found, _, _ = _run(problem, every, 1, False, stats_out=st,
+                           budget=_limits(cap, min(_steps(cap), _steps(total) - steps_spent)), tables=(rt, captabs))
         out.searches += 1
         spent += st.get("sets", 0)
+        steps_spent += st.get("work", 0)
         if tie_left is not None:
             tie_left = max(0, tie_left - st.get("sets", 0))
         return (found[0] if found else None), bool(st.get("truncated"))
@@ -195,7 +213,7 @@ def cheapest_purchases(problem, lines, catalogue=None, *, drawer_proven: bool, b
                     if got is not None and (best is None or got.key < best.key):
                         best = got
                         if tie_left is None:
-                            tie_left = SET_BUDGET // TIE_FRACTION
+                            tie_left = int(SET_BUDGET * scale) // TIE_FRACTION
         if best is not None:
             out.design, out.bought = best, k
             out.ties_complete = not cut_here
@@ -219,9 +237,9 @@ def _buy_list(choice, units: int) -> list[dict]:
             for line, n, roles in per_line.values()]
 
 
-def _suggest(result, lines, catalogue, drawer_proven: bool) -> None:
+def _suggest(result, lines, catalogue, drawer_proven: bool, scale: float = 1.0) -> None:
     problem = result.problem
-    got = cheapest_purchases(problem, lines, catalogue, drawer_proven=drawer_proven)
+    got = cheapest_purchases(problem, lines, catalogue, drawer_proven=drawer_proven, scale=scale)
     result.stats["buy"] = {"searches": got.searches, "sets": got.sets, "ties_complete": got.ties_complete}
     result.buy_proven = got.proven
     if got.design is None:
@@ -231,10 +249,10 @@ def _suggest(result, lines, catalogue, drawer_proven: bool) -> None:
     result.buy_design = got.design
     added = [replace(b.pop("line"), qty=b["count"], location="new") for b in buy]
     result.buy = buy
-    result.buy_checked = check_purchases(problem, lines, got.design, added)
+    result.buy_checked = check_purchases(problem, lines, got.design, added, scale=scale)
 
 
-def check_purchases(problem, lines, choice, added) -> bool:
+def check_purchases(problem, lines, choice, added, scale: float = 1.0) -> bool:
     """Whether the ordinary search finds a design in the drawer lines ``choice`` uses (with their
     full stock) plus exactly the bought lines ``added``.  Adding lines never removes a design, so
     then the whole drawer with those parts added has one too.  (The sub-drawer keeps the check
@@ -244,7 +262,9 @@ def check_purchases(problem, lines, choice, added) -> bool:
 
     used = {ln.index for ln, _ in choice.uses().values() if ln.source.file != BUY_FILE}
     sub = [ln for ln in lines if ln.index in used] + list(added)
-    found, _, _ = _run(problem, sub, 1, False)
+    from .engine import SET_BUDGET
+
+    found, _, _ = _run(problem, sub, 1, False, budget=_limits(int(SET_BUDGET * scale)))
     return bool(found)
 
 
@@ -322,7 +342,7 @@ class Nearest:
     sets: int = 0
 
 
-def nearest_design(problem, lines, *, budget: int | None = None) -> Nearest:
+def nearest_design(problem, lines, *, budget: int | None = None, scale: float = 1.0) -> Nearest:
     """The best single-part design at the smallest level t of SHORTFALL_GRID at which the eased
     problem (``_relaxed``) has one.
 
@@ -333,7 +353,8 @@ def nearest_design(problem, lines, *, budget: int | None = None) -> Nearest:
     from .design import _run
     from .engine import SET_BUDGET
 
-    total = SET_BUDGET if budget is None else budget
+    total = int(SET_BUDGET * scale) if budget is None else budget
+    steps = [0]  # steps of all probes together
     single = problem.with_(max_parts=1)
     out = Nearest(None, None, 0.0, True)
     found_at: dict[int, object] = {}
@@ -341,7 +362,9 @@ def nearest_design(problem, lines, *, budget: int | None = None) -> Nearest:
     def probe(i: int) -> bool:
         p, eased = _relaxed(single, lines, SHORTFALL_GRID[i])
         st: dict = {}
-        got, _, _ = _run(p, eased, 1, False, stats_out=st, budget=max(0, total - out.sets))
+        got, _, _ = _run(p, eased, 1, False, stats_out=st,
+                         budget=_limits(total - out.sets, _steps(total) - steps[0]))
+        steps[0] += st.get("work", 0)
         out.searches += 1
         out.sets += st.get("sets", 0)
         if st.get("truncated"):
@@ -410,7 +433,7 @@ _NICE = {"ie_min": "IE at least ie_min", "ie_max": "IE at most ie_max", "f_low":
 
 
 def explain_infeasible(result, lines, trs, why, *, suggest: bool = True, catalogue=None,
-                       drawer_proven: bool = True) -> None:
+                       drawer_proven: bool = True, scale: float = 1.0) -> None:
     """Fill ``result.reason``, ``result.nearest`` and (``suggest``) ``result.buy``."""
     problem = result.problem
     if not trs:
@@ -418,7 +441,7 @@ def explain_infeasible(result, lines, trs, why, *, suggest: bool = True, catalog
                          + (": " + "; ".join(why) if why else f" (no {problem.polarity.upper()} lines"
                             + (f" labelled {problem.label!r}" if problem.label else "") + ")"))
         return
-    near = nearest_design(problem, lines)
+    near = nearest_design(problem, lines, scale=scale)
     result.stats["nearest"] = {"searches": near.searches, "sets": near.sets}
     nearest = near.design
     if nearest is None:
@@ -441,4 +464,4 @@ def explain_infeasible(result, lines, trs, why, *, suggest: bool = True, catalog
             result.reason = ("the search stopped at its budget; a single-part design that meets every constraint "
                              "exists (the nearest design below)")
     if suggest:
-        _suggest(result, lines, catalogue, drawer_proven)
+        _suggest(result, lines, catalogue, drawer_proven, scale)

@@ -138,6 +138,7 @@ def main() -> None:
                 print(f"  {topo:>15} max-parts {mp}: exponent {slope:.2f}")
         if not a.quick:
             kit_and_match(folder, sizes[-1])
+            exhaustive_small(folder)
 
 
 def kit_and_match(folder: Path, largest: str) -> None:
@@ -162,6 +163,36 @@ def kit_and_match(folder: Path, largest: str) -> None:
         r = run(["match", *args, "--stock", str(path), "--json"])
         secs = "timeout" if r["seconds"] is None else f"{r['seconds']:.2f} s"
         print(f"  match {' '.join(args)}: {secs}, peak {r['rss_mb'] or 0:.0f} MB, exit {r.get('code')}")
+
+
+def exhaustive_small(folder: Path) -> None:
+    """--exhaustive with pairs on a 15-line drawer (10 resistors, 4 capacitors, one transistor), against the
+    search, for the follower (the naive enumeration of the common emitter's five roles with pairs runs
+    to 10¹⁰ sets and is not the cross-check: the tests use three-line drawers for it)."""
+    rng = random.Random(15)
+    from drawerfit.eseries import decade_values
+    from drawerfit.values import format_code
+
+    rows = [["Kind", "Value", "Tolerance", "Power (W)", "Voltage (V)", "Dielectric", "Qty", "Bin", "Label",
+             "hFE min", "hFE max", "VCEO (V)", "IC max (A)", "Pd (W)", "VBE (V)", "VCE(sat) (V)"]]
+    values = rng.sample(decade_values("E24", 100.0, 100e3), 10)
+    for v in sorted(values):
+        rows.append(["resistor", format_code(v, "ohm"), "1%", "0.25", "", "", "10", "R", "", *[""] * 7])
+    for v in (1e-6, 10e-6, 47e-6, 220e-6):
+        rows.append(["capacitor", format_code(v, "F"), "20%", "", "35", "electrolytic", "10", "C", "", *[""] * 7])
+    rows.append(["NPN", "", "", "", "", "", "10", "T", "Kit-N110", "110", "260", "40", "0.2", "0.5", "0.65", "0.2"])
+    path = folder / "fifteen.csv"
+    generate.write_csv(path, rows)
+    spec = folder / "loose.toml"
+    spec.write_text('topology = "emitter-follower"\npolarity = "npn"\nsupply = "12 V"\nsource_resistance = "600"\n'
+                    'load = "10k"\n[targets]\nie_min = "0.5 mA"\nie_max = "2 mA"\nf_low = "20 Hz"\n', encoding="utf-8")
+    print("\n15-line drawer, follower, pairs:")
+    for extra in ([], ["--exhaustive"]):
+        r = run(["design", str(spec), "--stock", str(path), "--json", "--quiet", *extra], timeout=300)
+        d = r["out"] or {}
+        secs = "timeout" if r["seconds"] is None else f"{r['seconds']:.2f} s"
+        print(f"  {'exhaustive' if extra else 'search    '}: {secs}, peak {r['rss_mb'] or 0:.0f} MB, "
+              f"{d.get('status', 'infeasible')}, parts {d.get('part_count')}, D {d.get('objective', {}).get('distance')}")
 
 
 if __name__ == "__main__":

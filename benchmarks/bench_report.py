@@ -25,7 +25,7 @@ def main() -> None:
     print(f"command: {' '.join(sys.argv)}")
     t0 = time.perf_counter()
     from drawerfit.report.bom import write_bom
-    from drawerfit.report.design_file import load_design
+    from drawerfit.io.saved_design import load_design
     from drawerfit.report.export import design_netlist
     from drawerfit.report.html import write_report
 

@@ -58,7 +58,7 @@ def parts(spec: Path, stock_path: Path, max_parts: int) -> str:
     from drawerfit.search.design import _run
     from drawerfit.search.problem import problem_from_spec
     from drawerfit.search.tables import with_default_ratings
-    from drawerfit.spec import load_spec
+    from drawerfit.io.spec import load_spec
     from drawerfit.stock import load_stock
 
     stock = load_stock(str(stock_path))

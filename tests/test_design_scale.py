@@ -218,7 +218,7 @@ def test_a_search_stopped_at_its_budget_says_what_it_proved(tmp_path):
 def test_progress_names_the_sets_examined_and_the_best_so_far():
     # the library's progress hook, as the command's progress line shows it
     from drawerfit.stock import load_stock
-    from drawerfit.spec import load_spec
+    from drawerfit.io.spec import load_spec
     from drawerfit.search.problem import problem_from_spec
 
     notes = []

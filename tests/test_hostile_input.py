@@ -17,10 +17,10 @@ from hypothesis import HealthCheck, given, settings, strategies as st
 
 from drawerfit.kitlist import read_kit_list
 from drawerfit.parts import DrawerfitError
-from drawerfit.report.design_file import load_design
-from drawerfit.spec import load_spec, parse_spec
+from drawerfit.io.saved_design import load_design
+from drawerfit.io.spec import load_spec, parse_spec
 from drawerfit.stock import load_stock
-from drawerfit.take import read_pick_list
+from drawerfit.io.take import read_pick_list
 
 SETTINGS = dict(deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture, HealthCheck.too_slow])
 

@@ -14,7 +14,7 @@ import pytest
 from hypothesis import given, settings, strategies as st
 
 from drawerfit.eseries import SERIES
-from drawerfit.readable_toml import Value, dumps, restore
+from drawerfit.io.readable_toml import Value, dumps, restore
 
 E_VALUES = sorted({m for values in SERIES.values() for m in values})
 TOLERANCES = [0.005, 0.01, 0.02, 0.05, 0.1, 0.2]

@@ -10,7 +10,7 @@ import pytest
 from hypothesis import given, settings, strategies as st
 
 from drawerfit.parts import Source, SpecError, Stock, StockLine
-from drawerfit.spec import load_spec, parse_spec
+from drawerfit.io.spec import load_spec, parse_spec
 from drawerfit.values import format_code
 
 ISSUE_EXAMPLE = '''

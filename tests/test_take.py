@@ -21,9 +21,9 @@ from pathlib import Path
 import pytest
 from click.testing import CliRunner
 
-from drawerfit import take as take_mod
+from drawerfit.io import take as take_mod
 from drawerfit.cli import main
-from drawerfit.take import TakeError, log_path, lock_path, take, undo
+from drawerfit.io.take import TakeError, log_path, lock_path, take, undo
 
 SRC = str(Path(__file__).resolve().parents[1] / "src")
 
@@ -205,7 +205,7 @@ def test_a_killed_take_leaves_the_original_and_undo_skips_it(tmp_path):
     stock = tmp_path / name
     stock.write_bytes(data)
     kit = _kit(tmp_path, stock, [(None, 2, 2)])
-    script = ("import os, sys\nos.replace = lambda a, b: os._exit(9)\nfrom drawerfit.take import take\n"
+    script = ("import os, sys\nos.replace = lambda a, b: os._exit(9)\nfrom drawerfit.io.take import take\n"
               f"take({str(kit)!r}, {str(stock)!r})\n")
     proc = subprocess.run([sys.executable, "-c", script], env={**os.environ, "PYTHONPATH": SRC},
                           capture_output=True, timeout=120)

@@ -9,7 +9,7 @@ import pytest
 from hypothesis import given, settings, strategies as st
 
 from drawerfit.parts import StockError
-from drawerfit.stock.writeback import (QtyEdit, csv_records, detect_delimiter, edit_csv_bytes, field_text,
+from drawerfit.io.stock_edits import (QtyEdit, csv_records, detect_delimiter, edit_csv_bytes, field_text,
                                        new_qty_text)
 
 # No lone carriage return inside a cell: the csv module's writer leaves one unquoted when the line

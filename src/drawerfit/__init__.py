@@ -23,7 +23,7 @@ _LAZY = {
     "equivalents": "drawerfit.equivalents",
     "match": "drawerfit.search.match",
     "analyse": "drawerfit.analysis",
-    "load_spec": "drawerfit.spec",
+    "load_spec": "drawerfit.io.spec",
     "design": "drawerfit.search.design",
 }
 

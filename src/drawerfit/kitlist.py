@@ -18,7 +18,7 @@ from pathlib import Path
 from .constants import MAX_CELL_CHARS, TOL_CERAMIC, TOL_RESISTOR
 from .parts import Problem, SpecError, UNIT_OF_KIND, KIND_OF_UNIT
 from .stock.headers import normalise
-from .stock.readers import LongCell, excerpt
+from .io.tables import LongCell, excerpt
 from .values import (ValueParseError, format_si, implied_unit, parse_quantity, parse_tolerance,
                      parse_value_and_tolerance)
 
@@ -109,7 +109,7 @@ class KitList:
 def _records(path: Path):
     """(sheet, row number, cells) for every record of a CSV or every row of every XLSX sheet, read by
     the stock loader's reader (same size, row and cell limits; a too long cell is a ``LongCell``)."""
-    from .stock.readers import open_table_file
+    from .io.tables import open_table_file
 
     raw = open_table_file(str(path), SpecError, "parts list")
     if raw.notes:

@@ -19,7 +19,7 @@ from click.testing import CliRunner
 
 from drawerfit.analysis.core import evaluate
 from drawerfit.cli import main
-from drawerfit.report.design_file import load_design
+from drawerfit.io.saved_design import load_design
 
 from ..report.helpers import CE_PNP, FOLLOWER, PLAIN, VARIANTS, with_networks, write_spec
 from .spice_harness import _corner, require_ngspice

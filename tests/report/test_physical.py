@@ -15,7 +15,7 @@ import pytest
 from hypothesis import assume, given, strategies as st
 
 from drawerfit.eseries import series_values
-from drawerfit.report.physical import designators, shares, wiring
+from drawerfit.stages.physical import designators, shares, wiring
 
 E24 = series_values("E24")
 

@@ -15,7 +15,7 @@ import numpy as np
 import pytest
 
 from drawerfit.analysis.core import LIMIT_CUTOFF, LIMIT_SATURATION, evaluate
-from drawerfit.report.design_file import load_design
+from drawerfit.io.saved_design import load_design
 from drawerfit.report.plots import load_line_data, response_data
 
 from .helpers import CE_PNP, FOLLOWER, PLAIN, VARIANTS, write_spec

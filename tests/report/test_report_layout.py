@@ -16,7 +16,7 @@ from html.parser import HTMLParser
 import pytest
 
 from drawerfit.report.html import write_report
-from drawerfit.report.physical import designators
+from drawerfit.stages.physical import designators
 
 from .helpers import CE_PNP, FOLLOWER, PLAIN, with_networks, write_spec
 from .test_report_html import _parse

@@ -88,10 +88,10 @@ def test_saved_design_reads_back_to_the_floats_it_was_judged_with(tmp_path, samp
     # property: the stage that `analyze`, `report` and `export` read from the saved file is the
     # stage the search judged, bit for bit, though the file writes 4k7, 1 %, 250 mW
     from drawerfit.commands.design_cmd import _write_toml, saved_design
-    from drawerfit.report.design_file import load_design
+    from drawerfit.io.saved_design import load_design
     from drawerfit.search.design import design
     from drawerfit.search.problem import problem_from_spec
-    from drawerfit.spec import load_spec
+    from drawerfit.io.spec import load_spec
     from drawerfit.stock import load_stock
 
     if drawer == "sparse":

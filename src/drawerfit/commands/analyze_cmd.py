@@ -24,7 +24,7 @@ def run_analyze(spec_file: str, *, stock_file: str | None = None, as_json: bool 
     from ..analysis import analyse
     from ..cautions import cautions_for
     from ..cli import emit_json
-    from ..spec import load_spec
+    from ..io.spec import load_spec
 
     stock = _load_stock(stock_file) if stock_file else None
     spec = load_spec(spec_file, stock=stock)

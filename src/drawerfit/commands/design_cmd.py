@@ -44,7 +44,7 @@ def pick_list(choice, units: int) -> list[dict]:
     A part drawn from another line than the one the design names (same value, tolerance no wider,
     rating no lower: docs/method.md, "Stock shared across roles and units") says which it stands in for.
     """
-    from ..report.physical import designators
+    from ..stages.physical import designators
 
     roles_of: dict[int, list[str]] = {}  # designators of the physical parts (R1, REa, REb) each line serves
     for role, c in choice.roles.items():
@@ -183,8 +183,8 @@ def binding(choice, n: int = 3) -> list[dict]:
 def saved_design(result, spec, stock, stock_file: str) -> dict:
     """The TOML tree of a saved design (docs/spec-format.md, "Saved designs"); numbers are
     ``readable_toml.Value``s, written in the trade's notation by ``readable_toml.dumps``."""
-    from ..readable_toml import Value as V
-    from ..report.physical import designators
+    from ..io.readable_toml import Value as V
+    from ..stages.physical import designators
 
     problem, best = result.problem, result.best
     m = best.model
@@ -257,8 +257,8 @@ the text and drawerfit reads your text instead."""
 
 
 def _write_toml(path: Path, doc: dict) -> None:
-    from ..filesafe import atomic_write
-    from ..readable_toml import dumps
+    from ..io.files import atomic_write
+    from ..io.readable_toml import dumps
 
     atomic_write(path, dumps(doc, header=SAVED_HEADER))
 
@@ -374,7 +374,7 @@ def run_design(spec_file: str, stock_file: str, *, units: int = 1, max_parts: in
     from ..cli import emit_json
     from ..search.design import design
     from ..search.problem import problem_from_spec
-    from ..spec import load_spec
+    from ..io.spec import load_spec
     from .common import report_problems
 
     from ..stock import load_stock
@@ -445,7 +445,7 @@ def _print_stock_summary(stock, quiet: bool) -> None:
 
 def _check_outputs(spec_file: str, stock_file: str, save: str | None, report: str | None) -> None:
     """Before any work: neither --save nor --report may land on an input, or on each other."""
-    from ..filesafe import check_output
+    from ..io.files import check_output
 
     inputs = [spec_file, stock_file]
     if save is not None and report is not None and Path(save).resolve() == Path(report).resolve():

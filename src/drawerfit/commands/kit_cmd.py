@@ -13,7 +13,7 @@ def run_kit_cmd(parts_list: str, stock_file: str, *, units: int, max_parts: int,
     from .common import load_stock_reporting, report_problem_list, stock_summary
 
     if save is not None:  # before any work: the saved kit may replace neither input
-        from ..filesafe import check_output
+        from ..io.files import check_output
 
         check_output(save, [(parts_list, "the parts list"), (stock_file, "the stock file")], "kit")
     kit_list = read_kit_list(parts_list)
@@ -31,7 +31,7 @@ def run_kit_cmd(parts_list: str, stock_file: str, *, units: int, max_parts: int,
     if save is not None:
         import json
 
-        from ..filesafe import atomic_write
+        from ..io.files import atomic_write
 
         atomic_write(save, json.dumps(doc, indent=2, ensure_ascii=False, allow_nan=False) + "\n")
         if not as_json:

@@ -26,7 +26,7 @@ def run_report(design_file: str, output: str, *, stock_file: str | None, monte_c
 
 def run_export(design_file: str, *, netlist: str | None, bom: str | None, quiet: bool,
                stock_file: str | None = None) -> None:
-    from ..filesafe import atomic_write, check_output
+    from ..io.files import atomic_write, check_output
     from ..report.bom import write_bom
     from ..report.export import design_netlist
     from ..report.html import design_inputs, read_design

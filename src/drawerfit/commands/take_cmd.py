@@ -10,10 +10,10 @@ from ..parts import DrawerfitError
 def run_take_cmd(pick_file: str | None, stock_file: str, *, units: int | None, dry_run: bool,
                  undo_to: str | None, show_history: bool, as_json: bool) -> None:
     from ..cli import emit_json
-    from ..take import format_result, take
+    from ..io.take import format_result, take
 
     if show_history:
-        from ..history import format_history, history
+        from ..io.take_history import format_history, history
 
         if pick_file is not None or undo_to is not None:
             raise DrawerfitError("--history lists the takes; give it no design or kit file and no --undo")
@@ -24,7 +24,7 @@ def run_take_cmd(pick_file: str | None, stock_file: str, *, units: int | None, d
             click.echo(format_history(stock_file, records))
         return
     if undo_to is not None:
-        from ..history import undo_takes
+        from ..io.take_history import undo_takes
 
         if pick_file is not None:
             raise DrawerfitError(f"--undo takes no design or kit file ({pick_file}): it puts back takes logged"

@@ -16,7 +16,7 @@ from pathlib import Path
 from ..parts import SpecError, pin_order_text
 from ..stages import RESISTOR_ROLES
 from ..values import format_code, format_percent, format_si
-from .design_file import DesignFile
+from ..io.saved_design import DesignFile
 
 __all__ = ["BomRow", "COLUMNS", "bom_rows", "roles_in_order", "neutralise", "write_bom", "write_bom_csv", "write_bom_xlsx",
            "bom_csv_bytes", "bom_xlsx_bytes", "FORMULA_STARTS"]
@@ -225,14 +225,14 @@ def _text_only(ws) -> None:
 
 
 def write_bom_csv(design: DesignFile, out: str | Path) -> int:
-    from ..filesafe import atomic_write
+    from ..io.files import atomic_write
 
     atomic_write(out, bom_csv_bytes(design))
     return len(bom_rows(design))
 
 
 def write_bom_xlsx(design: DesignFile, out: str | Path) -> int:
-    from ..filesafe import atomic_write
+    from ..io.files import atomic_write
 
     atomic_write(out, bom_xlsx_bytes(design))
     return len(bom_rows(design))

@@ -13,14 +13,14 @@ import math
 
 from ..parts import pin_order_text
 from ..values import format_code, format_percent, format_si
-from .design_file import DesignFile
+from ..io.saved_design import DesignFile
 
 __all__ = ["design_netlist", "role_members"]
 
 
 def role_members(design: DesignFile) -> dict:
     """The physical parts of each role the design names (``physical.Member``), by role."""
-    from .physical import members_of
+    from ..stages.physical import members_of
 
     out = {}
     for role, choice in design.roles.items():

@@ -11,7 +11,7 @@ from dataclasses import dataclass, field
 from typing import Callable, Mapping
 
 from ..progress import NO_PROGRESS
-from .design_file import DesignFile
+from ..io.saved_design import DesignFile
 
 __all__ = ["Check", "ReportFigures", "gather", "polarity_text"]
 

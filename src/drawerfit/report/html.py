@@ -14,7 +14,7 @@ from typing import Callable
 
 from ..progress import NO_PROGRESS
 from ..values import format_si
-from .design_file import DesignFile, load_design
+from ..io.saved_design import DesignFile, load_design
 
 __all__ = ["write_report", "render_report", "inline_svg"]
 
@@ -221,7 +221,7 @@ def write_report(design_toml_path, out_path, *, stock_file=None, monte_carlo=200
     ``stock_file`` (read only) supplies a transistor given by label, the transistor's bin when
     the design lacks it, and a check that the stock still matches the design's checksum.
     """
-    from ..filesafe import atomic_write, check_output
+    from ..io.files import atomic_write, check_output
 
     out = check_output(out_path, design_inputs(design_toml_path, stock_file), "report")
     on_step(note="reading the design")

@@ -12,7 +12,7 @@ import math
 
 from ..parts import pin_order_text
 from ..values import format_code, format_percent, format_si
-from .design_file import DesignFile
+from ..io.saved_design import DesignFile
 
 __all__ = ["checks_table", "advice_list", "fitting_list", "parts_table", "pick_table", "summary_rows",
            "share_name", "e", "si"]

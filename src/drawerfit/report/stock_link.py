@@ -8,7 +8,7 @@ from __future__ import annotations
 
 import dataclasses
 
-from .design_file import DesignFile
+from ..io.saved_design import DesignFile
 
 __all__ = ["link_stock"]
 

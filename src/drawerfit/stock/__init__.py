@@ -10,7 +10,7 @@ from collections import Counter
 from ..parts import Problem, Stock, StockError
 from .headers import match_header
 from .lines import describe_assumptions, read_sheet
-from .readers import file_checksum, open_table_file
+from ..io.tables import file_checksum, open_table_file
 
 __all__ = ["load_stock", "match_header", "file_checksum"]
 

@@ -13,7 +13,7 @@ from .. import constants as K
 from ..parts import Problem, Source, StockLine, parse_pin_order
 from ..values import UNIT_SYMBOL, ValueParseError, format_si, implied_unit, parse_quantity, parse_tolerance
 from .headers import Column, find_header, normalise
-from .readers import LongCell, excerpt
+from ..io.tables import LongCell, excerpt
 
 KIND_WORDS = {
     "resistor": ("r", "res", "resistor", "resistors", "resistance", "ohm", "ohms"),

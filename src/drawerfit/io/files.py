@@ -19,7 +19,7 @@ import tempfile
 from pathlib import Path
 from typing import Iterable
 
-from .parts import DrawerfitError
+from ..parts import DrawerfitError
 
 __all__ = ["FileRefused", "read_limited", "write_all", "real_target", "check_replaceable", "atomic_write", "create_new",
            "append_line", "fsync_dir", "FileLock", "check_output", "stamp", "io_message",

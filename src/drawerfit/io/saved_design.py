@@ -137,7 +137,7 @@ def _roles(path: str, table: Mapping) -> dict[str, RoleChoice]:
             rating = _value(path, f"design.roles.{role}.rating", t["rating"], rating_unit)
         arrangement = str(t.get("arrangement", "single"))
         if unit and len(parts) > 1:
-            from .physical import wiring
+            from ..stages.physical import wiring
 
             try:
                 wiring(arrangement, len(parts))
@@ -149,7 +149,7 @@ def _roles(path: str, table: Mapping) -> dict[str, RoleChoice]:
 
 def _pick_list(path: str, items, units: int) -> tuple[PickItem, ...]:
     """The saved pick list, checked by the same rules as ``take`` reads it."""
-    from ..take import pick_entries
+    from .take import pick_entries
 
     if not items:
         return ()
@@ -174,10 +174,10 @@ def load_design(path: str | Path, stock=None) -> DesignFile:
     The stage part goes through ``spec.parse_spec`` (the same reader as ``analyze``);
     ``stock`` (a ``parts.Stock``) resolves a transistor given only by its label.
     """
-    from ..spec import parse_spec
+    from .spec import parse_spec
 
     from ..constants import MAX_TEXT_INPUT_BYTES
-    from ..filesafe import read_limited
+    from .files import read_limited
 
     path = str(path)
     try:
@@ -191,7 +191,7 @@ def load_design(path: str | Path, stock=None) -> DesignFile:
             raise SpecError(f"{path}: {key}: must be text")
     from dataclasses import replace
 
-    from ..readable_toml import restore
+    from .readable_toml import restore
 
     data, notes = restore(data, path)  # the exact numbers in place of the rounded text they stand for
     spec = parse_spec({k: v for k, v in data.items() if k not in DESIGN_KEYS}, path, stock)

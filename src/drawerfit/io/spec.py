@@ -13,9 +13,9 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any, Mapping
 
-from .constants import TOL_CERAMIC, TOL_ELECTROLYTIC, TOL_RESISTOR
-from .parts import SpecError
-from .values import ValueParseError, parse_tolerance, parse_value, parse_value_and_tolerance
+from ..constants import TOL_CERAMIC, TOL_ELECTROLYTIC, TOL_RESISTOR
+from ..parts import SpecError
+from ..values import ValueParseError, parse_tolerance, parse_value, parse_value_and_tolerance
 
 __all__ = ["Spec", "load_spec", "parse_spec", "POLARIZED_FROM"]
 
@@ -82,7 +82,7 @@ class Spec:
 
     def stage(self):
         """The ``stages.Stage`` this spec describes (needs [parts] and a transistor)."""
-        from .stages import Stage, StageError
+        from ..stages import Stage, StageError
 
         if not self.parts:
             raise SpecError(f"{self.path}: no [parts] table: this is a design spec; use `drawerfit design`")
@@ -126,7 +126,7 @@ class _Reader:
         """A current gain: a plain number (no unit), between 1 and HFE_MAX."""
         if isinstance(raw, str):
             try:
-                from .values import parse_quantity
+                from ..values import parse_quantity
 
                 if parse_quantity(raw).unit is not None:
                     raise self.fail(key, raw, "hFE is a plain number, without a unit")
@@ -168,8 +168,8 @@ def load_spec(path: str | Path, stock=None) -> Spec:
     """Read a spec file; ``stock`` (a ``parts.Stock``) resolves ``[transistor] label``."""
     import tomllib
 
-    from .constants import MAX_TEXT_INPUT_BYTES
-    from .filesafe import read_limited
+    from ..constants import MAX_TEXT_INPUT_BYTES
+    from .files import read_limited
 
     p = Path(path)
     try:
@@ -183,8 +183,8 @@ def load_spec(path: str | Path, stock=None) -> Spec:
 
 def parse_spec(data: Mapping[str, Any], path: str = "<spec>", stock=None) -> Spec:
     """Build a ``Spec`` from an already-parsed TOML tree (see ``load_spec``)."""
-    from .analysis.targets import IE_WINDOW, Targets
-    from .stages import Conditions
+    from ..analysis.targets import IE_WINDOW, Targets
+    from ..stages import Conditions
 
     from .readable_toml import restore
 
@@ -232,8 +232,8 @@ def parse_spec(data: Mapping[str, Any], path: str = "<spec>", stock=None) -> Spe
 
 
 def _transistor(r: _Reader, data, polarity, stock, design: bool = False):
-    from .constants import VBE_DEFAULT, VCE_SAT_DEFAULT
-    from .stages import TransistorModel
+    from ..constants import VBE_DEFAULT, VCE_SAT_DEFAULT
+    from ..stages import TransistorModel
 
     if "transistor" not in data:
         return None, None
@@ -251,7 +251,7 @@ def _transistor(r: _Reader, data, polarity, stock, design: bool = False):
         if line.pins:
             fields["pins"] = line.pins
     if "pins" in t:
-        from .parts import parse_pin_order
+        from ..parts import parse_pin_order
 
         if not isinstance(t["pins"], str):
             raise r.fail("transistor.pins", t["pins"], "expected the leads in pin order, e.g. \"EBC\"")
@@ -313,7 +313,7 @@ def _stock_transistor(r: _Reader, stock, label: str, polarity: str):
 
 
 def _parts(r: _Reader, data, topology) -> dict:
-    from .stages import Part
+    from ..stages import Part
 
     if "parts" not in data:
         return {}

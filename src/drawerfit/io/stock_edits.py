@@ -4,7 +4,7 @@ A CSV is edited as bytes: the file is split into records and fields with their b
 only the digits of the quantity field in the affected records are replaced, so the delimiter,
 quoting, line endings, encoding and BOM stay untouched.  An XLSX is loaded and saved with
 openpyxl, which keeps the other sheets, styles and number formats; only the quantity cells get
-new values.  Writing is the caller's business (see drawerfit.take): these functions return the
+new values.  Writing is the caller's business (see drawerfit.io.take): these functions return the
 new bytes.
 """
 

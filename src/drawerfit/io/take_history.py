@@ -19,7 +19,7 @@ import json
 from dataclasses import dataclass
 from pathlib import Path
 
-from .filesafe import stamp
+from .files import stamp
 from .take import (Change, TakeError, TakePlan, TakeResult, _new_bytes, _read, commit, file_checksum, locked,
                    log_path, target_of)
 
@@ -137,7 +137,7 @@ def history(stock_file) -> list[TakeRecord]:
 
 
 def format_history(stock_file, records: list[TakeRecord]) -> str:
-    from .texttable import text_table
+    from ..texttable import text_table
 
     if not records:
         return f"no takes logged for {stock_file}"

@@ -19,8 +19,8 @@ import math
 from dataclasses import dataclass
 from typing import Any, Mapping
 
-from .parts import SpecError
-from .values import ValueParseError, parse_quantity, rounded, significant_digits, trade_code, trade_si
+from ..parts import SpecError
+from ..values import ValueParseError, parse_quantity, rounded, significant_digits, trade_code, trade_si
 
 __all__ = ["Value", "dumps", "restore", "EXACT_TABLE", "EXACT_SHOWN", "ROUNDED_DIGITS"]
 

@@ -4,7 +4,7 @@ The stock file is the user's own record, so a take changes nothing but the quant
 lines it uses, and only after every check has passed:
 
 1. the stock file must be a plain, writable file (through a symbolic link, the file it points to);
-2. a lock file beside it keeps two takes apart (``filesafe.FileLock``; a lock left by a process
+2. a lock file beside it keeps two takes apart (``files.FileLock``; a lock left by a process
    that is gone from this machine is taken over, with a note);
 3. the file's checksum must equal the one recorded in the design or kit;
 4. every line must hold what the pick list asks of it;
@@ -15,7 +15,7 @@ lines it uses, and only after every check has passed:
    place with os.replace, which is atomic on one file system.
 
 Any failure on the way (a full disk, say) leaves the stock file as it was, and no lock, backup or
-half-written file behind.  The log, the history and undo are in ``drawerfit.history``.
+half-written file behind.  The log, the history and undo are in ``drawerfit.io.take_history``.
 """
 
 from __future__ import annotations
@@ -26,11 +26,11 @@ import os
 from dataclasses import dataclass, field
 from pathlib import Path
 
-from .constants import MAX_TEXT_INPUT_BYTES
-from .filesafe import (BACKUP_TAG, LOCK_SUFFIX, LOG_SUFFIX, FileLock, FileRefused, append_line, atomic_write,
+from ..constants import MAX_TEXT_INPUT_BYTES
+from .files import (BACKUP_TAG, LOCK_SUFFIX, LOG_SUFFIX, FileLock, FileRefused, append_line, atomic_write,
                        check_replaceable, create_new, io_message, read_limited, real_target, stamp)
-from .parts import StockError
-from .stock.readers import file_checksum  # the same checksum the loader records in Stock.checksum
+from ..parts import StockError
+from .tables import file_checksum  # the same checksum the loader records in Stock.checksum
 
 __all__ = ["PickEntry", "TakePlan", "Change", "TakeResult", "read_pick_list", "plan_take", "take",
            "undo", "log_path", "lock_path", "file_checksum", "pick_entries", "TakeError", "format_result",
@@ -205,7 +205,7 @@ def _counts_for_units(pick: PickList, units: int | None) -> dict[tuple[str | Non
 def plan_take(pick: PickList, stock_file: str | os.PathLike, units: int | None = None,
               data: bytes | None = None) -> TakePlan:
     """Check a pick list against the stock file and list the cell changes; changes nothing."""
-    from .stock import load_stock
+    from ..stock import load_stock
 
     path = Path(stock_file)
     if data is None:
@@ -243,8 +243,8 @@ def plan_take(pick: PickList, stock_file: str | os.PathLike, units: int | None =
 
 
 def _describe(line) -> str:
-    from .values import format_si
-    from .parts import UNIT_OF_KIND
+    from ..values import format_si
+    from ..parts import UNIT_OF_KIND
 
     if line.value is None:
         return line.label or line.kind
@@ -265,7 +265,7 @@ def _read(path: Path) -> bytes:
 
 def _new_bytes(path: Path, data: bytes, changes: tuple[Change, ...] | list[Change], use_old: bool = False) -> bytes:
     """The stock file's bytes with the changes made, checking each cell still holds what was planned."""
-    from .stock.writeback import QtyEdit, edit_csv_bytes, edit_xlsx_bytes, is_xlsx, read_csv_qty
+    from .stock_edits import QtyEdit, edit_csv_bytes, edit_xlsx_bytes, is_xlsx, read_csv_qty
 
     edits = []
     for c in changes:
@@ -274,7 +274,7 @@ def _new_bytes(path: Path, data: bytes, changes: tuple[Change, ...] | list[Chang
     if is_xlsx(str(path)):
         return edit_xlsx_bytes(str(path), [e for _c, _b, e in edits], str(path), before=[b for _c, b, _e in edits],
                                data=data)
-    from .stock.readers import sniff_delimiter
+    from .tables import sniff_delimiter
 
     # the loader's own guess first, then whichever delimiter puts the planned quantities in place
     delim = sniff_delimiter(data.decode("utf-8-sig", errors="replace")).encode()
@@ -288,7 +288,7 @@ def _new_bytes(path: Path, data: bytes, changes: tuple[Change, ...] | list[Chang
 
 def _delimiter_for(data: bytes, changes, guess: bytes) -> bytes:
     """The delimiter under which every changed cell reads as the quantity the loader saw."""
-    from .stock.writeback import read_csv_qty
+    from .stock_edits import read_csv_qty
 
     for delim in (guess, b",", b";", b"\t"):
         try:
@@ -404,26 +404,26 @@ def take(pick_file: str | os.PathLike, stock_file: str | os.PathLike, *, units: 
 
 def undo(stock_file: str | os.PathLike, *, dry_run: bool = False) -> TakeResult:
     """Reverse the last take that reached the stock file (see ``history.undo_takes``)."""
-    from .history import undo_takes
+    from .take_history import undo_takes
 
     return undo_takes(stock_file, dry_run=dry_run)[-1]
 
 
 def read_log(stock_file: str | os.PathLike) -> list[dict]:
-    from .history import read_log as _read_log
+    from .take_history import read_log as _read_log
 
     return _read_log(stock_file)
 
 
 def history(stock_file: str | os.PathLike):
-    from .history import history as _history
+    from .take_history import history as _history
 
     return _history(stock_file)
 
 
 def format_result(result: TakeResult) -> str:
     """What a take or undo did (or would do), for people: one aligned row per quantity cell."""
-    from .texttable import text_table
+    from ..texttable import text_table
 
     plan = result.plan
     name = Path(plan.stock_file).name

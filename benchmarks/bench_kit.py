@@ -70,8 +70,8 @@ def main() -> None:
     ap.add_argument("--seed", type=int, default=20261202)
     ap.add_argument("--time-limit", type=float, default=60.0)
     args = ap.parse_args()
-    from drawerfit import kit as kit_mod
-    from drawerfit.kitlist import read_kit_list
+    from drawerfit.kit import fill as kit_mod
+    from drawerfit.kit.parts_list import read_kit_list
     from drawerfit.stock import load_stock
 
     rng = np.random.default_rng(args.seed)

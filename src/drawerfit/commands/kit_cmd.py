@@ -8,8 +8,8 @@ import click
 def run_kit_cmd(parts_list: str, stock_file: str, *, units: int, max_parts: int, time_limit: float,
                 as_json: bool, save: str | None = None, strict: bool = False) -> None:
     from ..cli import emit_json
-    from ..kit import format_kit, kit_to_json, run_kit
-    from ..kitlist import read_kit_list
+    from ..kit.fill import format_kit, kit_to_json, run_kit
+    from ..kit.parts_list import read_kit_list
     from .common import load_stock_reporting, report_problem_list, stock_summary
 
     if save is not None:  # before any work: the saved kit may replace neither input

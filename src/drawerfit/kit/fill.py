@@ -28,10 +28,10 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from .kit_output import RATING_UNIT, format_kit, kit_cautions, kit_to_json, pick_list
-from .kitlist import KitLine, KitList, read_kit_list
-from .parts import SpecError, Stock, StockLine, UNIT_OF_KIND
-from .values import format_si
+from .result import RATING_UNIT, format_kit, kit_cautions, kit_to_json, pick_list
+from .parts_list import KitLine, KitList, read_kit_list
+from ..parts import SpecError, Stock, StockLine, UNIT_OF_KIND
+from ..values import format_si
 
 __all__ = ["Candidates", "KitResult", "Filled", "Unfilled", "Buy", "candidates_for", "allocate", "run_kit",
            "kit_to_json", "format_kit"]
@@ -97,7 +97,7 @@ def candidates_for(line: KitLine, stock: Stock, max_parts: int = 2,
         eqs = [_Transistor(None, None, None, 1, "single", ((s, 1),)) for s in rows]
         return Candidates(np.ones(n, dtype=np.int64), np.zeros(n, dtype=np.int64), members, counts,
                           eqs.__getitem__, n)
-    from .equivalents import EquivalentIndex
+    from ..equivalents import EquivalentIndex
 
     indexes = {} if indexes is None else indexes
     if line.kind not in indexes:
@@ -114,7 +114,7 @@ def candidates_for(line: KitLine, stock: Stock, max_parts: int = 2,
         # Triples are built by value window (triples.py), never all: every triple in the line's
         # window when it holds at most TRIPLES_PER_LINE, else the window of that many around the
         # target (then the result is marked as not proven optimal).
-        from .triples import TripleSpace
+        from ..triples import TripleSpace
 
         key = ("triples", line.kind)
         if key not in indexes:
@@ -171,7 +171,7 @@ class _TripleTable:
         if min_rating is not None:
             keep &= blk.rating >= min_rating * (1 - 1e-12)
         blk = blk.take(np.flatnonzero(keep))
-        from .equivalents import _counts
+        from ..equivalents import _counts
 
         self.space, self.blk = space, blk
         self.value = blk.v
@@ -182,7 +182,7 @@ class _TripleTable:
         return len(self.blk)
 
     def equivalent(self, i: int):
-        from .equivalents import _table
+        from ..equivalents import _table
 
         b, j = self.blk, slice(int(i), int(i) + 1)
         return _table(self.space.pool, np.asarray(b.pos[j], np.int64), b.v[j], b.vlo[j], b.vhi[j], b.rating[j],
@@ -461,7 +461,7 @@ def _buy_value(line: KitLine) -> tuple[float | None, str | None]:
     """The standard value to buy for a line: E12 if one lies in the window, else E24, then finer."""
     if line.kind == "transistor":
         return None, None
-    from . import eseries
+    from .. import eseries
 
     for name in ("E12", "E24", "E48", "E96", "E192"):
         v = float(eseries.nearest(line.value, name))
@@ -483,7 +483,7 @@ def run_kit(list_file: str, stock_file: str, *, units: int = 1, max_parts: int =
                         + "\n  ".join(str(p) for p in errors))
     warnings = [str(p) for p in kit_list.problems]
     if stock is None:
-        from .stock import load_stock
+        from ..stock import load_stock
 
         stock = load_stock(stock_file)
     bad_stock = [p for p in stock.problems if p.severity == "error"]

@@ -10,12 +10,12 @@ from __future__ import annotations
 
 from typing import TYPE_CHECKING
 
-from .parts import UNIT_OF_KIND, StockLine
-from .values import format_si
+from ..parts import UNIT_OF_KIND, StockLine
+from ..values import format_si
 
 if TYPE_CHECKING:  # the result types live in kit.py, which imports this module
-    from .kit import Build, Filled, KitResult, Unfilled
-    from .kitlist import KitLine
+    from .fill import Build, Filled, KitResult, Unfilled
+    from .parts_list import KitLine
 
 __all__ = ["RATING_UNIT", "part_text", "pick_list", "kit_cautions", "kit_to_json", "format_kit"]
 
@@ -88,7 +88,7 @@ def serves_text(entry: dict, units: int) -> str:
 
 
 def kit_cautions(lines, filled: list["Filled"], unfilled: list["Unfilled"] = ()) -> list[str]:
-    from .constants import CAP_VOLTAGE_MARGIN, HIGH_VOLTAGE_CAUTION
+    from ..constants import CAP_VOLTAGE_MARGIN, HIGH_VOLTAGE_CAUTION
 
     out = []
     hv = [ln for ln in lines if ln.kind == "capacitor" and ln.min_rating and ln.min_rating > HIGH_VOLTAGE_CAUTION]
@@ -176,7 +176,7 @@ def kit_to_json(r: "KitResult") -> dict:
 def format_kit(r: "KitResult") -> str:
     """The result for people: what is filled from where, what is missing and why, what to buy, and the
     pick list with the designators each line is for."""
-    from .texttable import text_table
+    from ..texttable import text_table
 
     total = len(r.filled) + len(r.unfilled)
     out = [f"{len(r.filled)} of {total} designators filled from the drawer for {r.units} unit(s)"

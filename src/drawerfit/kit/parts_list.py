@@ -15,11 +15,11 @@ import re
 from dataclasses import dataclass
 from pathlib import Path
 
-from .constants import MAX_CELL_CHARS, TOL_CERAMIC, TOL_RESISTOR
-from .parts import Problem, SpecError, UNIT_OF_KIND, KIND_OF_UNIT
-from .stock.headers import normalise
-from .io.tables import LongCell, excerpt
-from .values import (ValueParseError, format_si, implied_unit, parse_quantity, parse_tolerance,
+from ..constants import MAX_CELL_CHARS, TOL_CERAMIC, TOL_RESISTOR
+from ..parts import Problem, SpecError, UNIT_OF_KIND, KIND_OF_UNIT
+from ..stock.headers import normalise
+from ..io.tables import LongCell, excerpt
+from ..values import (ValueParseError, format_si, implied_unit, parse_quantity, parse_tolerance,
                      parse_value_and_tolerance)
 
 __all__ = ["KitLine", "KitList", "read_kit_list", "DEFAULT_WINDOW", "KIT_HEADERS", "match_kit_header"]
@@ -60,7 +60,7 @@ def match_kit_header(text: object) -> str | None:
     """The field a parts-list header names, or None; a unit in the header ('Min power (W)') is ignored."""
     if text is None:
         return None
-    from .stock.headers import split_unit
+    from ..stock.headers import split_unit
 
     words, _unit = split_unit(str(text))
     return _HEADER_OF.get(normalise(words)) or _HEADER_OF.get(normalise(str(text)))
@@ -109,7 +109,7 @@ class KitList:
 def _records(path: Path):
     """(sheet, row number, cells) for every record of a CSV or every row of every XLSX sheet, read by
     the stock loader's reader (same size, row and cell limits; a too long cell is a ``LongCell``)."""
-    from .io.tables import open_table_file
+    from ..io.tables import open_table_file
 
     raw = open_table_file(str(path), SpecError, "parts list")
     if raw.notes:
@@ -198,7 +198,7 @@ def _read_line(file, sheet, r, row, names, problems) -> KitLine | None:
     kind = None
     kind_text = str(row.get("kind", "")).strip()
     if kind_text:
-        from .stock.lines import kind_from_word  # the stock loader's own kind words
+        from ..stock.lines import kind_from_word  # the stock loader's own kind words
 
         kind = _KIND_WORDS.get(normalise(kind_text)) or kind_from_word(kind_text)[0]
         if kind is None:

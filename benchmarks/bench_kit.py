@@ -70,7 +70,8 @@ def main() -> None:
     ap.add_argument("--seed", type=int, default=20261202)
     ap.add_argument("--time-limit", type=float, default=60.0)
     args = ap.parse_args()
-    from drawerfit.kit import fill as kit_mod
+    from drawerfit.kit.candidates import candidates_for
+    from drawerfit.kit.fill import run_kit
     from drawerfit.kit.parts_list import read_kit_list
     from drawerfit.stock import load_stock
 
@@ -83,10 +84,10 @@ def main() -> None:
         stock = load_stock(str(drawer))
         kl = read_kit_list(str(lst))
         t1 = time.perf_counter()
-        cands = [kit_mod.candidates_for(ln, stock, args.max_parts) for ln in kl.lines]
+        cands = [candidates_for(ln, stock, args.max_parts) for ln in kl.lines]
         t2 = time.perf_counter()
-        r = kit_mod.run_kit(str(lst), str(drawer), units=args.units, max_parts=args.max_parts,
-                            time_limit=args.time_limit, stock=stock, kit_list=kl)
+        r = run_kit(str(lst), str(drawer), units=args.units, max_parts=args.max_parts,
+                    time_limit=args.time_limit, stock=stock, kit_list=kl)
         t3 = time.perf_counter()
     n_in = sum(c.in_window for c in cands)
     n_kept = sum(len(c) for c in cands)

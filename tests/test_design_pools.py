@@ -186,7 +186,7 @@ def test_a_better_part_is_taken_only_when_the_named_ones_run_out():
     stock = _stage_drawer([(6, 0.05, 0.25), (2, 0.01, 0.25)], re_qty=4)
     r = design(_problem(4), stock, suggest=False)
     assert r.feasible
-    from drawerfit.commands.design_cmd import pick_list
+    from drawerfit.results import pick_list
 
     entries = {e["location"]: e for e in pick_list(r.best, 4)}
     assert any(ln.index == 0 for c in r.best.roles.values() for ln, _ in c.equivalent.uses)

@@ -19,7 +19,8 @@ from click.testing import CliRunner
 from hypothesis import HealthCheck, assume, given, settings, strategies as st
 
 from drawerfit.cli import main
-from drawerfit.kit.fill import kit_to_json, run_kit
+from drawerfit.kit.fill import run_kit
+from drawerfit.kit.result import kit_to_json
 from drawerfit.kit.parts_list import DEFAULT_WINDOW, read_kit_list
 
 
@@ -384,7 +385,7 @@ def test_triples_limited_per_line_are_reported_as_not_proven(tmp_path):
     # more than the TRIPLES_PER_LINE closest equivalents, so the answer cannot claim a proof
     import eseries
 
-    from drawerfit.kit.fill import TRIPLES_PER_LINE, candidates_for
+    from drawerfit.kit.candidates import TRIPLES_PER_LINE, candidates_for
     from drawerfit.stock import load_stock
 
     values = [v for v in eseries.erange(eseries.E24, 1000, 9999)]

@@ -9,7 +9,6 @@ search stopped at its work budget), never a traceback.
 from __future__ import annotations
 
 import functools
-import json
 import sys
 
 import click
@@ -72,10 +71,6 @@ def user_errors(fn):
             sys.exit(exc.exit_status)
 
     return wrapper
-
-
-def emit_json(data) -> None:
-    click.echo(json.dumps(data, indent=2, ensure_ascii=False, allow_nan=False))
 
 
 @click.group(context_settings={"help_option_names": ["-h", "--help"]})

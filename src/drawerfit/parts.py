@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import math
 from dataclasses import asdict, dataclass
 from typing import Literal
 
@@ -127,7 +128,7 @@ class Problem:
         return asdict(self)
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, repr=False)
 class Stock:
     """A loaded drawer: its lines, the problems met while reading, and the defaults applied."""
 
@@ -140,6 +141,62 @@ class Stock:
 
     def of_kind(self, kind: str) -> tuple[StockLine, ...]:
         return tuple(line for line in self.lines if line.kind == kind)
+
+    def __repr__(self) -> str:
+        counts = ", ".join(f"{len(self.of_kind(k))} {k}s" for k in KINDS if self.of_kind(k))
+        skipped = sum(1 for p in self.problems if p.severity == "error")
+        where = f" from {self.files[0]}" if self.files else ""
+        return (f"<Stock{where}: {len(self.lines)} lines ({counts or 'none'}), {skipped} skipped, "
+                f"{len(self.warnings)} warning(s)>")
+
+    def summary(self) -> dict:
+        """Counts, value ranges and decades per kind (the `stock` command's summary)."""
+        out: dict = {}
+        for kind in KINDS:
+            lines = self.of_kind(kind)
+            if not lines:
+                continue
+            entry = {"lines": len(lines), "parts": sum(ln.qty for ln in lines),
+                     "empty_lines": sum(1 for ln in lines if ln.qty == 0)}
+            if kind != "transistor":
+                values = [ln.value for ln in lines if ln.qty > 0]
+                if values:
+                    entry["min"], entry["max"] = min(values), max(values)
+                    per_decade: dict[int, int] = {}
+                    for v in values:
+                        d = math.floor(math.log10(v) + 1e-9)
+                        per_decade[d] = per_decade.get(d, 0) + 1
+                    entry["decades"] = {str(d): n for d, n in sorted(per_decade.items())}
+            else:
+                entry["types"] = sorted({f"{ln.label} ({ln.polarity.upper()})" for ln in lines})
+            out[kind] = entry
+        return out
+
+    def to_dict(self) -> dict:
+        """The `stock --json` shape: every line in SI units, the problems, warnings, defaults and summary."""
+        parts = []
+        for ln in self.lines:
+            d = {"kind": ln.kind, "value": ln.value, "label": ln.label or None, "tolerance": ln.tolerance,
+                 "power": ln.power, "voltage": ln.voltage, "qty": ln.qty, "location": ln.location,
+                 "source": ln.source.to_dict(), "assumed": list(ln.assumed)}
+            if ln.kind == "capacitor":
+                d.update(dielectric=ln.dielectric, polarized=ln.polarized)
+            if ln.kind == "transistor":
+                d.update(polarity=ln.polarity, hfe_min=ln.hfe_min, hfe_max=ln.hfe_max, vceo=ln.vceo,
+                         ic_max=ln.ic_max, pd=ln.pd, vbe=ln.vbe, vce_sat=ln.vce_sat)
+            parts.append(d)
+        return {"parts": parts, "problems": [p.to_dict() for p in self.problems], "warnings": list(self.warnings),
+                "assumptions": list(self.assumptions), "summary": self.summary(), "checksum": self.checksum}
+
+    def to_pandas(self):
+        """One row per stock line (SI units), with its sheet and row in the file."""
+        import pandas as pd
+
+        cols = ["kind", "value", "tolerance", "power", "voltage", "qty", "location", "label", "polarized",
+                "dielectric", "polarity", "hfe_min", "hfe_max", "vceo", "ic_max", "pd", "sheet", "row"]
+        rows = [{**{c: getattr(ln, c) for c in cols[:-2]}, "sheet": ln.source.sheet, "row": ln.source.row}
+                for ln in self.lines]
+        return pd.DataFrame(rows, columns=cols)
 
     def transistors(self) -> tuple[StockLine, ...]:
         return self.of_kind("transistor")

@@ -488,7 +488,7 @@ def check_design_in_ngspice(rows: list[Row], problem: DesignProblem, best, workd
 
 def check_stock(rows: list[Row], problem: DesignProblem, best) -> None:
     """The pick list takes no more from any line than the CSV file holds, and covers every part."""
-    from drawerfit.commands.design_cmd import pick_list
+    from drawerfit.results import pick_list
 
     picks = pick_list(best, problem.units)
     taken: dict[tuple, int] = {}

@@ -87,8 +87,7 @@ transistor,,,,,20,T-1,QX-GEN,NPN,200,450,45,0.1,0.5,E-B-C
 def test_saved_design_reads_back_to_the_floats_it_was_judged_with(tmp_path, samples, drawer, spec_name, max_parts):
     # property: the stage that `analyze`, `report` and `export` read from the saved file is the
     # stage the search judged, bit for bit, though the file writes 4k7, 1 %, 250 mW
-    from drawerfit.commands.design_cmd import _write_toml, saved_design
-    from drawerfit.io.saved_design import load_design
+    from drawerfit.io.saved_design import load_design, write_design
     from drawerfit.search.design import design
     from drawerfit.search.problem import problem_from_spec
     from drawerfit.io.spec import load_spec
@@ -103,9 +102,10 @@ def test_saved_design_reads_back_to_the_floats_it_was_judged_with(tmp_path, samp
     spec = load_spec(samples / "specs" / f"{spec_name}.toml", stock=stock)
     problem = problem_from_spec(spec, units=2, max_parts=max_parts)
     result = design(problem, stock)
+    result.spec, result.stock = spec, stock
     best = result.best
     path = tmp_path / "design.toml"
-    _write_toml(path, saved_design(result, spec, stock, str(stock_file)))
+    write_design(path, result, str(stock_file))
     text = path.read_text(encoding="utf-8")
     loaded = load_design(path)
 

@@ -6,14 +6,9 @@ import click
 
 from ..parts import pin_order_text
 from ..values import format_si
+from .common import emit_json
 
 __all__ = ["run_analyze", "summary_lines"]
-
-
-def _load_stock(stock_file: str):
-    from ..stock import load_stock
-
-    return load_stock(stock_file)
 
 
 def run_analyze(spec_file: str, *, stock_file: str | None = None, as_json: bool = False,
@@ -21,15 +16,11 @@ def run_analyze(spec_file: str, *, stock_file: str | None = None, as_json: bool 
     """Print the analysis; with ``must_pass``, then raise ``ChecksNotMetError`` (exit status 4) when
     a check other than advice fails: the state, a target, a rating or a capacitor's polarity.
     A rating that is not given is not checked and does not fail."""
-    from ..analysis import analyse
+    from .. import api
     from ..cautions import cautions_for
-    from ..cli import emit_json
-    from ..io.spec import load_spec
 
-    stock = _load_stock(stock_file) if stock_file else None
-    spec = load_spec(spec_file, stock=stock)
-    stage = spec.stage()
-    result = analyse(stage, spec.conditions, monte_carlo=monte_carlo, seed=seed, targets=spec.targets)
+    spec = api.load_spec(spec_file, stock=stock_file)
+    result = api.analyse(spec, monte_carlo=monte_carlo, seed=seed)
     cautions = cautions_for(result, mains=spec.mains)
     if as_json:
         emit_json(result.to_dict())

@@ -1,18 +1,25 @@
-"""Pieces the commands share: loading stock with its messages, and JSON for parts."""
+"""Pieces the commands share: JSON on stdout, loading stock with its messages, and the words for ratings."""
 
 from __future__ import annotations
 
+import json
+
 import click
 
-from ..parts import Stock, StockLine
-from ..values import format_code, format_si
+from ..parts import Stock
+from ..results import rating_text  # noqa: F401  (the one wording of a rating; the commands take it from here)
+
+
+def emit_json(data) -> None:
+    """``data`` (a result's ``to_dict()``) as JSON on stdout: SI floats, no NaN."""
+    click.echo(json.dumps(data, indent=2, ensure_ascii=False, allow_nan=False))
 
 
 def load_stock_reporting(path: str, strict: bool) -> Stock:
     """Load a stock file and print its problems on stderr (StockError under --strict)."""
-    from ..stock import load_stock
+    from .. import api
 
-    stock = load_stock(path, strict=strict)
+    stock = api.load_stock(path, strict=strict)
     report_problems(stock)
     return stock
 
@@ -35,20 +42,3 @@ def stock_summary(stock: Stock, kind: str | None = None, assumptions: bool = Tru
     if assumptions:
         out += [f"assumed: {a}" for a in stock.assumptions if kind is None or f" {kind} line" in a]
     return out
-
-
-def part_json(line: StockLine) -> dict:
-    unit = "ohm" if line.kind == "resistor" else "F" if line.kind == "capacitor" else None
-    return {"kind": line.kind, "value": line.value, "label": line.label or None,
-            "code": format_code(line.value, unit) if unit and line.value else None,
-            "location": line.location, "source": line.source.to_dict()}
-
-
-def part_text(line: StockLine) -> str:
-    unit = "ohm" if line.kind == "resistor" else "F"
-    where = f" @{line.location}" if line.location else ""
-    return f"{format_code(line.value, unit)}{where} (row {line.source.row})"
-
-
-def rating_text(kind: str, rating: float) -> str:
-    return format_si(rating, "W" if kind == "resistor" else "V", 3)

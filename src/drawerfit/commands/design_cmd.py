@@ -2,265 +2,19 @@
 
 from __future__ import annotations
 
-import math
-import os
 from pathlib import Path
 
 import click
 
-from ..parts import NoDesignError, SearchLimitError, SpecError, pin_order_text
-from ..values import format_code, format_percent, format_si
-from .common import rating_text
+from ..analysis.checks import POWER_FIGURE
+from ..parts import NoDesignError, SearchLimitError, SpecError
+from ..results import binding, code as _code, pick_list
+from ..values import format_percent, format_si
+from .common import emit_json, rating_text
 
-__all__ = ["run_design", "run_demo", "design_json", "saved_design", "pick_list"]
+__all__ = ["run_design", "run_demo"]
 
 _UNIT = {"resistor": "ohm", "capacitor": "F"}
-
-
-def _code(value: float, kind: str) -> str:
-    return format_code(value, _UNIT[kind], ascii_only=False)
-
-
-def _src(line) -> dict:
-    return {"file": line.source.file, "sheet": line.source.sheet or "", "row": line.source.row}
-
-
-def _part_name(line) -> str:
-    if line.kind == "transistor":
-        name = f"{line.label} {line.polarity.upper()}" if line.polarity else line.label
-        return f"{name}, pins {pin_order_text(line.pins)}" if line.pins else name
-    rating = line.power if line.kind == "resistor" else line.voltage
-    extra = f" {format_percent(line.tolerance)}" if line.tolerance is not None else ""
-    if rating is not None:
-        extra += f" {rating_text(line.kind, rating)}"
-    if line.kind == "capacitor" and line.polarized:
-        extra += " electrolytic"
-    return f"{line.kind} {_code(line.value, line.kind)}{extra}"
-
-
-def pick_list(choice, units: int) -> list[dict]:
-    """Bin, part and count for ``units`` builds, one entry per stock line given from, in bin order.
-
-    A part drawn from another line than the one the design names (same value, tolerance no wider,
-    rating no lower: docs/method.md, "Stock shared across roles and units") says which it stands in for.
-    """
-    from ..stages.physical import designators
-
-    roles_of: dict[int, list[str]] = {}  # designators of the physical parts (R1, REa, REb) each line serves
-    for role, c in choice.roles.items():
-        members = c.equivalent.members
-        for name, line in zip(designators(role, len(members)), members):
-            if name not in roles_of.setdefault(line.index, []):
-                roles_of[line.index].append(name)
-    roles_of.setdefault(choice.transistor.index, []).append("Q1")
-    picks = choice.picks or tuple((ln, ln, n * units) for ln, n in choice.uses().values())
-    merged: dict[int, dict] = {}
-    for giver, needed, count in picks:
-        e = merged.setdefault(giver.index, {"location": giver.location, "part": _part_name(giver), "per_unit": 0,
-                                            "count": 0, "source": _src(giver), "roles": [], "stands_in_for": []})
-        e["count"] += count
-        for r in roles_of.get(needed.index, []):
-            if r not in e["roles"]:
-                e["roles"].append(r)
-        if giver.index != needed.index:
-            e["stands_in_for"].append({"part": _part_name(needed), "row": needed.source.row, "count": count})
-    out = []
-    for e in merged.values():
-        per = e["count"] / units
-        e["per_unit"] = int(per) if per == int(per) else per
-        if not e["stands_in_for"]:
-            del e["stands_in_for"]
-        out.append(e)
-    out.sort(key=lambda e: (e["location"], e["source"]["row"]))
-    return out
-
-
-def _analysis(problem, spec, choice):
-    from ..analysis import analyse
-
-    return analyse(choice.stage(problem), spec.conditions, targets=spec.targets)
-
-
-def _role_json(choice) -> dict:
-    out = {}
-    for role, c in choice.roles.items():
-        eq = c.equivalent
-        out[role] = {
-            "value": eq.value, "code": _code(eq.value, eq.kind), "arrangement": eq.arrangement,
-            "describe": eq.describe(), "part_count": eq.part_count, "tolerance": c.tolerance,
-            ("power" if eq.kind == "resistor" else "voltage"): c.rating,
-            "polarized": bool(eq.polarized), "orientation": c.orientation,
-            "parts": [{"value": m.value, "location": m.location, "source": _src(m)} for m in eq.members],
-        }
-    return out
-
-
-def _finite(x):
-    return None if x is None or not math.isfinite(x) else x
-
-
-def design_json(result, spec, analysis=None, cautions=()) -> dict:
-    problem = result.problem
-    if not result.feasible:
-        near = result.nearest
-        out = {"feasible": False, "units": problem.units, "reason": result.reason,
-               "nearest": None, "buy": [_buy_json(b) for b in result.buy], "buy_checked": result.buy_checked,
-               "buy_proven": result.buy_proven, "buy_design": None, "notes": list(result.notes),
-               "search": search_json(result)}
-        if result.buy_design is not None:
-            out["buy_design"] = {"transistor": result.buy_design.transistor.label,
-                                 "parts": _role_json(result.buy_design)}
-        if near:
-            ch = near["choice"]
-            out["nearest"] = {
-                "transistor": ch.transistor.label, "parts": _role_json(ch),
-                "margins": {k: _finite(v) for k, v in near["margins"].items()}, "missed": near["missed"],
-                "f_low_worst": _finite(near["f_low_worst"]), "space": "single parts",
-                "shortfall": _finite(near["shortfall"]), "shortfall_level": near["level"],
-                "none_within": near["below"], "proven": near["proven"]}
-        return out
-    best = result.best
-    tr = best.transistor
-    wc = analysis.worst if analysis is not None else None
-    out = {
-        "feasible": True, "status": result.status, "units": problem.units, "part_count": best.part_count,
-        "guarantee": problem.guarantee, "prefer": problem.prefer,
-        "objective": {"part_count": best.part_count, "distance": best.distance, "margin": _finite(best.margin),
-                      "fewest_left": _finite(best.stock_left), "capacitance": best.csum},
-        "transistor": {"label": tr.label, "location": tr.location, "source": _src(tr), "polarity": tr.polarity,
-                       "hfe_min": tr.hfe_min, "hfe_max": tr.hfe_max, "vceo": tr.vceo, "ic_max": tr.ic_max,
-                       "pd": tr.pd, "vbe": best.model.vbe, "vce_sat": best.model.vce_sat},
-        "parts": _role_json(best),
-        "performance": analysis.to_dict() if analysis is not None else None,
-        "worst_case": {
-            "target_margins": {k: _finite(v) for k, v in best.target_margins.items()},
-            "rating_margins": {k: _finite(v) for k, v in best.rating_margins.items()},
-            "binding": binding(best),
-            "low": {k: _finite(float(wc.low[k])) for k in ("ie", "ve", "vce", "rin", "rout", "swing_peak", "f_low")}
-            if wc is not None else None,
-            "high": {k: _finite(float(wc.high[k])) for k in ("ie", "ve", "vce", "rin", "rout", "swing_peak", "f_low")}
-            if wc is not None else None,
-        },
-        "pick_list": pick_list(best, problem.units),
-        "cautions": [c.to_dict() for c in cautions],
-        "alternatives": [{"part_count": d.part_count, "distance": d.distance, "transistor": d.transistor.label,
-                          "parts": {r: c.equivalent.describe() for r, c in d.roles.items()}}
-                         for d in result.designs[1:]],
-        "notes": list(result.notes),
-        "search": search_json(result),
-        "stock_checksum": None,
-    }
-    return out
-
-
-def search_json(result) -> dict:
-    """How far the search went: sets and steps, whether it finished, and the bound still open."""
-    st = result.stats or {}
-    open_ = st.get("open")
-    return {"proven": not st.get("truncated", False), "resistor_sets": st.get("sets", 0),
-            "judged": st.get("judged", 0), "steps": st.get("work", 0),
-            "open_bound": None if open_ is None else {
-                "part_count": int(open_[2] if result.problem.prefer == "closest" else open_[1]),
-                "distance": float(open_[1] if result.problem.prefer == "closest" else open_[2])}}
-
-
-def _buy_json(b: dict) -> dict:
-    return {"kind": b["kind"], "value": b["value"], "code": _code(b["value"], b["kind"]),
-            "tolerance": b["tolerance"], ("power" if b["kind"] == "resistor" else "voltage"): b["rating"],
-            "polarized": b["polarized"], "per_unit": b["per_unit"], "count": b["count"], "roles": b["roles"]}
-
-
-def binding(choice, n: int = 3) -> list[dict]:
-    """The constraints with the smallest worst-case margins (those that decide the design)."""
-    allm = [(m, k) for k, m in {**choice.target_margins, **choice.rating_margins}.items() if math.isfinite(m)]
-    allm.sort()
-    return [{"name": k, "margin": m} for m, k in allm[:n]]
-
-
-# --- saving -------------------------------------------------------------------------------
-
-
-def saved_design(result, spec, stock, stock_file: str) -> dict:
-    """The TOML tree of a saved design (docs/spec-format.md, "Saved designs"); numbers are
-    ``readable_toml.Value``s, written in the trade's notation by ``readable_toml.dumps``."""
-    from ..io.readable_toml import Value as V
-    from ..stages.physical import designators
-
-    problem, best = result.problem, result.best
-    m = best.model
-    doc = {"title": spec.title or f"designed by drawerfit from {os.path.basename(stock_file)}",
-           "topology": problem.topology, "polarity": problem.polarity, "supply": V(problem.supply, "V"),
-           "source_resistance": V(problem.source_resistance, "ohm")}
-    if problem.load is not None:
-        doc["load"] = V(problem.load, "ohm")
-    if problem.topology == "common-emitter":
-        doc["bypass"] = problem.bypass
-    if spec.mains:
-        doc["mains"] = True
-    doc["units"] = problem.units
-    doc["stock_file"] = str(stock_file)
-    doc["stock_checksum"] = stock.checksum
-    tr = {"label": m.label, "hfe_min": V(m.hfe_min), "hfe_max": V(m.hfe_max), "vbe": V(m.vbe, "V"),
-          "vce_sat": V(m.vce_sat, "V"), "vbe_tempco": V(m.vbe_tempco)}
-    for k, unit in (("vceo", "V"), ("ic_max", "A"), ("pd", "W")):
-        if getattr(m, k) is not None:
-            tr[k] = V(getattr(m, k), unit)
-    if best.transistor.pins:
-        tr["pins"] = pin_order_text(best.transistor.pins)
-    doc["transistor"] = tr
-    parts = {}
-    for role, c in best.roles.items():
-        unit = _UNIT[c.equivalent.kind]
-        entry = {"value": V(c.equivalent.value, unit, code=True), "tolerance": V(c.tolerance, "%"),
-                 "rating": V(c.rating, "W" if unit == "ohm" else "V")}
-        if c.equivalent.kind == "capacitor":
-            entry["polarized"] = bool(c.equivalent.polarized)
-        parts[role] = entry
-    doc["parts"] = parts
-    units = {"ie_min": "A", "ie_max": "A", "f_low": "Hz", "swing": "V", "rin_min": "ohm", "rout_max": "ohm"}
-    doc["targets"] = {k: V(v, units.get(k)) for k, v in problem.targets.to_dict().items() if v is not None}
-    c = problem.conditions
-    doc["limits"] = {"resistor_derating": V(c.resistor_derating, "%"),
-                     "transistor_derating": V(c.transistor_derating, "%"),
-                     "cap_voltage_margin": V(c.cap_voltage_margin, "%"), "ambient_min": V(c.ambient_min),
-                     "ambient_max": V(c.ambient_max)}
-    doc["pick_list"] = pick_list(best, problem.units)
-    roles = {}
-    for role, ch in best.roles.items():
-        eq = ch.equivalent
-        unit = _UNIT[eq.kind]
-        rating_unit = "W" if unit == "ohm" else "V"
-        members = []
-        for name, mm in zip(designators(role, len(eq.members)), eq.members):
-            member = {"designator": name, "value": V(mm.value, unit, code=True)}
-            if mm.tolerance is not None:
-                member["tolerance"] = V(mm.tolerance, "%")
-            if mm.rating is not None:
-                member["rating"] = V(mm.rating, rating_unit)
-            members.append({**member, "location": mm.location, "source": _src(mm)})
-        roles[role] = {"value": V(eq.value, unit, code=True), "arrangement": eq.arrangement,
-                       "describe": eq.describe(), "tolerance": V(ch.tolerance, "%"),
-                       "rating": V(ch.rating, rating_unit), "parts": members}
-        if ch.orientation:
-            roles[role]["orientation"] = ch.orientation
-    t = best.transistor
-    roles["Q1"] = {"describe": t.label, "parts": [{"location": t.location, "source": _src(t)}]}
-    doc["design"] = {"roles": roles}
-    return doc
-
-
-SAVED_HEADER = """A stage designed by drawerfit (docs/spec-format.md, "Saved designs"): `drawerfit analyze`,
-`report`, `export` and `take` read it.  Values are written as the parts carry them (4k7, 47µ,
-1 %, 250 mW).  Where a number had more digits than that, the text is rounded to three
-significant digits and [exact] at the end keeps the number the design was judged with; change
-the text and drawerfit reads your text instead."""
-
-
-def _write_toml(path: Path, doc: dict) -> None:
-    from ..io.files import atomic_write
-    from ..io.readable_toml import dumps
-
-    atomic_write(path, dumps(doc, header=SAVED_HEADER))
 
 
 # --- text for people ----------------------------------------------------------------------------
@@ -284,8 +38,7 @@ def _print_choice(result, spec, analysis, cautions, quiet: bool) -> None:
         eq = c.equivalent
         kind = eq.kind
         if kind == "resistor":
-            key = {"R1": "p_r1", "R2": "p_r2", "RE": "p_re", "RC": "p_rc", "RE2": "p_re2"}[role]
-            dis = format_si(float(wc.high[key]), "W", 3) if wc is not None else ""
+            dis = format_si(float(wc.high[POWER_FIGURE[role]]), "W", 3) if wc is not None else ""
         else:
             dis = ""
         parts = ", ".join(f"{_code(m.value, kind)} [{m.location or '-'}; row {m.source.row}]" for m in eq.members)
@@ -370,29 +123,24 @@ def run_design(spec_file: str, stock_file: str, *, units: int = 1, max_parts: in
                guarantee: str = "worst-case", prefer: str = "fewest-parts", top: int = 1, as_json: bool = False,
                save: str | None = None, exhaustive: bool = False, report: str | None = None,
                quiet: bool = False, strict: bool = False, budget: float = 1.0) -> None:
+    from .. import api
     from ..cautions import cautions_for
-    from ..cli import emit_json
-    from ..search.design import design
-    from ..search.problem import problem_from_spec
-    from ..io.spec import load_spec
+    from ..progress import progress
+    from ..results import design_analysis, design_dict
     from .common import report_problems
 
-    from ..stock import load_stock
-
     _check_outputs(spec_file, stock_file, save, report)
-    stock = load_stock(stock_file, strict=strict)
+    stock = api.load_stock(stock_file, strict=strict)
     if not quiet:
         report_problems(stock)
-    spec = load_spec(spec_file, stock=stock)
-    problem = problem_from_spec(spec, units=units, max_parts=max_parts, guarantee=guarantee, prefer=prefer)
-    from ..progress import progress
-
+    spec = api.load_spec(spec_file, stock)
     with progress("design", quiet=quiet) as tick:
-        result = design(problem, stock, top=top, exhaustive=exhaustive, on_step=tick, budget=budget)
+        result = api.design(spec, stock, units=units, max_parts=max_parts, guarantee=guarantee, prefer=prefer,
+                            top=top, exhaustive=exhaustive, on_step=tick, budget=budget)
     limited = bool(result.stats.get("truncated"))
     if not result.feasible:
         if as_json:
-            emit_json({**design_json(result, spec), "warnings": list(stock.warnings)})
+            emit_json(result.to_dict())
         else:
             _print_infeasible(result)
             _print_stock_summary(stock, quiet)
@@ -400,13 +148,10 @@ def run_design(spec_file: str, stock_file: str, *, units: int = 1, max_parts: in
             raise SearchLimitError("no design was found before the search's work budget ran out; "
                                    "that none exists is not proven (exit status 5)")
         raise NoDesignError(result.reason)
-    analysis = _analysis(problem, spec, result.best)
+    analysis = design_analysis(result)
     cautions = cautions_for(analysis, mains=spec.mains)
     if as_json:
-        data = design_json(result, spec, analysis, cautions)
-        data["stock_checksum"] = stock.checksum
-        data["warnings"] = list(stock.warnings)
-        emit_json(data)
+        emit_json(design_dict(result, analysis, cautions))
         for c in cautions:
             click.echo(f"caution: {c.text}", err=True)
     else:
@@ -419,7 +164,7 @@ def run_design(spec_file: str, stock_file: str, *, units: int = 1, max_parts: in
 
             tmpdir = tempfile.mkdtemp(prefix="drawerfit-")
             target = Path(tmpdir) / "design.toml"
-        _write_toml(target, saved_design(result, spec, stock, stock_file))
+        api.save_design(result, target, stock_file)
         if save is not None and not as_json:
             click.echo(f"saved: {target}")
         if report is not None:

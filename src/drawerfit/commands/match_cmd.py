@@ -4,71 +4,22 @@ from __future__ import annotations
 
 import click
 
-from ..parts import StockError
 from ..values import Quantity, format_code, format_si
-from .common import load_stock_reporting, part_json, rating_text, stock_summary
+from .common import emit_json, rating_text, report_problems, stock_summary
 
 
 def run_match(value: Quantity, stock_file: str, *, within, max_parts, power, voltage, units, top, as_json, strict,
               allow_polarized_series=False):
-    from ..search.match import DEFAULT_WINDOW, match
+    from .. import api
 
-    unit = value.unit or "ohm"
-    if unit not in ("ohm", "F"):
-        raise StockError(f"match: {format_si(value.value, unit)} is not a resistance or a capacitance")
-    kind = "resistor" if unit == "ohm" else "capacitor"
-    if value.value <= 0:
-        raise StockError("match: the value must be positive")
-    rating = power.value if power is not None else None
-    if kind == "capacitor":
-        if power is not None:
-            raise StockError("match: --power applies to resistors; use --voltage for capacitors")
-        rating = voltage.value if voltage is not None else None
-    elif voltage is not None:
-        raise StockError("match: --voltage applies to capacitors; use --power for resistors")
-    if not (_SMALLEST <= value.value <= _LARGEST):
-        raise StockError(f"match: {value.value:g} {'Ω' if unit == 'ohm' else 'F'} is outside the range of real parts;"
-                         " check the prefix")
-    stock = load_stock_reporting(stock_file, strict)
-    lines = stock.of_kind(kind)
-    window = DEFAULT_WINDOW if within is None else within
-    result = match(lines, value.value, within=window, max_parts=max_parts, min_rating=rating, units=units, top=top,
-                   allow_polarized_series=allow_polarized_series)
-    rating_key = "power" if kind == "resistor" else "voltage"
+    result = api.match(value, stock_file, within=within, max_parts=max_parts, power=power, voltage=voltage,
+                       units=units, top=top, allow_polarized_series=allow_polarized_series, strict=strict)
+    report_problems(result.stock)
     if as_json:
-        from ..cli import emit_json
-
-        emit_json({
-            "target": {"value": value.value, "kind": kind, "within": window, rating_key: rating, "units": units,
-                       "max_parts": max_parts},
-            "results": [{
-                "value": c.equivalent.value, "error": c.error, "arrangement": c.equivalent.arrangement,
-                "part_count": c.equivalent.part_count, "within": c.within, "tolerance": c.equivalent.tolerance,
-                rating_key: c.equivalent.rating, "describe": c.equivalent.describe(),
-                "parts": [part_json(m) for m in c.equivalent.members],
-                "on_hand": [{"part": part_json(h.line), "count": h.on_hand,
-                             "bins": [{**part_json(b), "qty": b.qty} for b in h.bins]} for h in c.holdings],
-                "take": [{**part_json(b), "count": n} for b, n in c.draws],
-                "warnings": _warnings(c.equivalent),
-            } for c in result.candidates],
-            "warnings": list(stock.warnings),
-            "assumptions": list(stock.assumptions),
-            "problems": [p.to_dict() for p in stock.problems],
-        })
+        emit_json(result.to_dict())
         return
-    _print_table(result, kind, unit, rating, stock)
-
-
-# Values outside these are no part anybody stocks (a prefix typed wrong): refused rather than searched.
-_SMALLEST, _LARGEST = 1e-15, 1e15
-
-
-def _warnings(eq) -> list[str]:
-    out = []
-    if eq.polarized_series:
-        out.append("a polarized capacitor in a series chain: its DC share follows leakage, not capacitance; "
-                   "fit a balancing resistor across each part and check each one's voltage")
-    return out
+    unit = "ohm" if result.kind == "resistor" else "F"
+    _print_table(result, result.kind, unit, result.min_rating, result.stock)
 
 
 def _error_text(err: float) -> str:
@@ -117,7 +68,7 @@ def _print_table(result, kind, unit, rating, stock) -> None:
             click.echo(line)
             if result.units > 1:
                 click.echo(f"       take for {result.units} units: {', '.join(_bin(b, n) for b, n in c.draws)}")
-            for w in _warnings(c.equivalent):
+            for w in c.warnings:
                 click.echo(f"       caution: {w}")
     else:
         what = f"nothing in the drawer makes it within {window}{need}{per}"

@@ -1,11 +1,12 @@
-"""Read a saved design (DESIGN.toml): the analyze-ready stage plus what the optimizer chose.
+"""The saved design (DESIGN.toml): its one writer (``write_design``) and its one reader (``load_design``).
 
 A saved design is an analyze spec (topology, polarity, supply, source_resistance, load,
 [transistor], [parts]) with, when ``drawerfit design --save`` wrote it, these keys as well:
 ``units``, ``stock_file``, ``stock_checksum``, ``[[pick_list]]``, ``[targets]``, ``[limits]`` and
 ``[design.roles.<role>]`` (``design.roles.Q1`` may name the transistor's bin, with parts
 holding only location and source).  A plain analyze spec works too; it simply has no bins or
-pick list.
+pick list.  docs/spec-format.md, "Saved designs", documents the file; ``readable_toml`` writes its
+numbers in the trade's notation and reads them back bit for bit.
 """
 
 from __future__ import annotations
@@ -20,7 +21,8 @@ from ..parts import SpecError
 from ..stages import CAPACITOR_ROLES, RESISTOR_ROLES, Conditions, Stage
 from ..values import ValueParseError, parse_tolerance, parse_value
 
-__all__ = ["PlacedPart", "RoleChoice", "PickItem", "DesignFile", "load_design", "DESIGN_KEYS"]
+__all__ = ["PlacedPart", "RoleChoice", "PickItem", "DesignFile", "load_design", "read_design_tree", "DESIGN_KEYS",
+           "design_tree", "write_design", "SAVED_HEADER"]
 
 
 @dataclass(frozen=True)
@@ -168,6 +170,20 @@ def _pick_list(path: str, items, units: int) -> tuple[PickItem, ...]:
 DESIGN_KEYS = ("units", "stock_file", "stock_checksum", "pick_list", "design")
 
 
+def read_design_tree(path: str | Path, error: type[Exception] = SpecError, what: str = "design") -> dict:
+    """The TOML tree of a saved design as written (size-limited; ``error`` names the file)."""
+    from ..constants import MAX_TEXT_INPUT_BYTES
+    from .files import read_limited
+
+    try:
+        data = tomllib.loads(read_limited(path, MAX_TEXT_INPUT_BYTES, error, what).decode("utf-8-sig"))
+    except UnicodeDecodeError:
+        raise error(f"{path}: not a text file (UTF-8 expected)") from None
+    except tomllib.TOMLDecodeError as exc:
+        raise error(f"{path}: not valid TOML ({exc})") from None
+    return data
+
+
 def load_design(path: str | Path, stock=None) -> DesignFile:
     """Read DESIGN.toml (or a plain analyze spec); SpecError names the file and the key.
 
@@ -176,16 +192,8 @@ def load_design(path: str | Path, stock=None) -> DesignFile:
     """
     from .spec import parse_spec
 
-    from ..constants import MAX_TEXT_INPUT_BYTES
-    from .files import read_limited
-
     path = str(path)
-    try:
-        data = tomllib.loads(read_limited(path, MAX_TEXT_INPUT_BYTES, SpecError, "design").decode("utf-8-sig"))
-    except UnicodeDecodeError:
-        raise SpecError(f"{path}: not a text file (UTF-8 expected)") from None
-    except tomllib.TOMLDecodeError as exc:
-        raise SpecError(f"{path}: not valid TOML ({exc})") from None
+    data = read_design_tree(path)
     for key in ("stock_file", "stock_checksum"):
         if key in data and not isinstance(data[key], str):
             raise SpecError(f"{path}: {key}: must be text")
@@ -219,3 +227,101 @@ def load_design(path: str | Path, stock=None) -> DesignFile:
         roles=roles, pick_list=pick_list, transistor_location=t_loc, transistor_source=t_src,
         spec=spec,
     )
+
+
+# --- writing ----------------------------------------------------------------------------------------
+
+SAVED_HEADER = """A stage designed by drawerfit (docs/spec-format.md, "Saved designs"): `drawerfit analyze`,
+`report`, `export` and `take` read it.  Values are written as the parts carry them (4k7, 47µ,
+1 %, 250 mW).  Where a number had more digits than that, the text is rounded to three
+significant digits and [exact] at the end keeps the number the design was judged with; change
+the text and drawerfit reads your text instead."""
+
+_UNIT = {"resistor": "ohm", "capacitor": "F"}
+_TARGET_UNITS = {"ie_min": "A", "ie_max": "A", "f_low": "Hz", "swing": "V", "rin_min": "ohm", "rout_max": "ohm"}
+
+
+def design_tree(result, stock_file: str | None = None) -> dict:
+    """The TOML tree of a saved design from a feasible ``DesignResult`` (with its spec and stock
+    attached, as ``drawerfit.design`` returns it); numbers are ``readable_toml.Value``s."""
+    import os
+
+    from ..parts import pin_order_text
+    from ..results import pick_list, source_dict
+    from ..stages.physical import designators
+    from .readable_toml import Value as V
+
+    if not result.feasible:
+        raise SpecError("no design to save: " + (result.reason or "the search found none"))
+    spec, stock = result.spec, result.stock
+    if stock_file is None:
+        stock_file = stock.files[0] if stock is not None and stock.files else ""
+    problem, best = result.problem, result.best
+    m = best.model
+    title = spec.title if spec is not None else ""
+    doc = {"title": title or f"designed by drawerfit from {os.path.basename(stock_file)}",
+           "topology": problem.topology, "polarity": problem.polarity, "supply": V(problem.supply, "V"),
+           "source_resistance": V(problem.source_resistance, "ohm")}
+    if problem.load is not None:
+        doc["load"] = V(problem.load, "ohm")
+    if problem.topology == "common-emitter":
+        doc["bypass"] = problem.bypass
+    if spec is not None and spec.mains:
+        doc["mains"] = True
+    doc["units"] = problem.units
+    doc["stock_file"] = str(stock_file)
+    doc["stock_checksum"] = stock.checksum if stock is not None else ""
+    tr = {"label": m.label, "hfe_min": V(m.hfe_min), "hfe_max": V(m.hfe_max), "vbe": V(m.vbe, "V"),
+          "vce_sat": V(m.vce_sat, "V"), "vbe_tempco": V(m.vbe_tempco)}
+    for k, unit in (("vceo", "V"), ("ic_max", "A"), ("pd", "W")):
+        if getattr(m, k) is not None:
+            tr[k] = V(getattr(m, k), unit)
+    if best.transistor.pins:
+        tr["pins"] = pin_order_text(best.transistor.pins)
+    doc["transistor"] = tr
+    parts = {}
+    for role, c in best.roles.items():
+        unit = _UNIT[c.equivalent.kind]
+        entry = {"value": V(c.equivalent.value, unit, code=True), "tolerance": V(c.tolerance, "%"),
+                 "rating": V(c.rating, "W" if unit == "ohm" else "V")}
+        if c.equivalent.kind == "capacitor":
+            entry["polarized"] = bool(c.equivalent.polarized)
+        parts[role] = entry
+    doc["parts"] = parts
+    doc["targets"] = {k: V(v, _TARGET_UNITS.get(k)) for k, v in problem.targets.to_dict().items() if v is not None}
+    c = problem.conditions
+    doc["limits"] = {"resistor_derating": V(c.resistor_derating, "%"),
+                     "transistor_derating": V(c.transistor_derating, "%"),
+                     "cap_voltage_margin": V(c.cap_voltage_margin, "%"), "ambient_min": V(c.ambient_min),
+                     "ambient_max": V(c.ambient_max)}
+    doc["pick_list"] = pick_list(best, problem.units)
+    roles = {}
+    for role, ch in best.roles.items():
+        eq = ch.equivalent
+        unit = _UNIT[eq.kind]
+        rating_unit = "W" if unit == "ohm" else "V"
+        members = []
+        for name, mm in zip(designators(role, len(eq.members)), eq.members):
+            member = {"designator": name, "value": V(mm.value, unit, code=True)}
+            if mm.tolerance is not None:
+                member["tolerance"] = V(mm.tolerance, "%")
+            if mm.rating is not None:
+                member["rating"] = V(mm.rating, rating_unit)
+            members.append({**member, "location": mm.location, "source": source_dict(mm)})
+        roles[role] = {"value": V(eq.value, unit, code=True), "arrangement": eq.arrangement,
+                       "describe": eq.describe(), "tolerance": V(ch.tolerance, "%"),
+                       "rating": V(ch.rating, rating_unit), "parts": members}
+        if ch.orientation:
+            roles[role]["orientation"] = ch.orientation
+    t = best.transistor
+    roles["Q1"] = {"describe": t.label, "parts": [{"location": t.location, "source": source_dict(t)}]}
+    doc["design"] = {"roles": roles}
+    return doc
+
+
+def write_design(path: str | Path, result, stock_file: str | None = None) -> Path:
+    """Write the saved design of ``result`` to ``path`` at once (``files.atomic_write``); the path."""
+    from .files import atomic_write
+    from .readable_toml import dumps
+
+    return atomic_write(path, dumps(design_tree(result, stock_file), header=SAVED_HEADER))

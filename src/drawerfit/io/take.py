@@ -26,15 +26,14 @@ import os
 from dataclasses import dataclass, field
 from pathlib import Path
 
-from ..constants import MAX_TEXT_INPUT_BYTES
 from .files import (BACKUP_TAG, LOCK_SUFFIX, LOG_SUFFIX, FileLock, FileRefused, append_line, atomic_write,
-                       check_replaceable, create_new, io_message, read_limited, real_target, stamp)
+                    check_replaceable, create_new, io_message, real_target, stamp)
 from ..parts import StockError
 from .tables import file_checksum  # the same checksum the loader records in Stock.checksum
 
 __all__ = ["PickEntry", "TakePlan", "Change", "TakeResult", "read_pick_list", "plan_take", "take",
-           "undo", "log_path", "lock_path", "file_checksum", "pick_entries", "TakeError", "format_result",
-           "read_log", "history"]
+           "undo", "log_path", "lock_path", "file_checksum", "pick_entries", "TakeError",
+           "read_log", "history", "take_picks", "PickList"]
 
 
 class TakeError(StockError):
@@ -101,6 +100,27 @@ class TakeResult:
     undone: str | None = None  # id of the take that an undo reversed
     notes: tuple[str, ...] = field(default_factory=tuple)
 
+    def __repr__(self) -> str:
+        what = f"undo of {self.undone}" if self.undone else f"take for {self.plan.units} unit(s)"
+        parts = sum(abs(c.old_qty - c.new_qty) for c in self.plan.changes)
+        state = "dry run" if self.dry_run else "done"
+        return (f"<TakeResult {what} on {Path(self.plan.stock_file).name}: {len(self.plan.changes)} cell(s), "
+                f"{parts} part(s), {state}>")
+
+    def to_dict(self) -> dict:
+        """The `take --json` shape of one take or undo."""
+        return {"stock_file": self.plan.stock_file, "dry_run": self.dry_run, "undone": self.undone,
+                "units": self.plan.units, "changes": [c.to_dict() for c in self.plan.changes],
+                "backup": self.backup, "log": self.log, "checksum_before": self.plan.checksum,
+                "checksum_after": self.checksum_after, "notes": list(self.notes)}
+
+    def to_pandas(self):
+        """One row per quantity cell changed (or to change)."""
+        import pandas as pd
+
+        columns = ["sheet", "row", "column", "old_qty", "new_qty", "part", "location"]
+        return pd.DataFrame([c.to_dict() for c in self.plan.changes], columns=columns)
+
 
 def log_path(stock_file: str | os.PathLike) -> Path:
     """The log of takes, beside the real stock file (a link's takes are the file's takes)."""
@@ -119,19 +139,14 @@ def lock_path(stock_file: str | os.PathLike) -> Path:
 def read_pick_list(path: str | os.PathLike) -> PickList:
     """The pick list of a saved design (TOML) or kit (JSON)."""
     p = Path(path)
-    raw = read_limited(p, MAX_TEXT_INPUT_BYTES, TakeError, "design or kit file")
     if p.suffix.lower() == ".toml":
-        import tomllib
+        from .saved_design import read_design_tree
 
-        try:
-            doc = tomllib.loads(raw.decode("utf-8-sig"))
-        except (tomllib.TOMLDecodeError, UnicodeDecodeError) as exc:
-            raise TakeError(f"{p}: not a readable TOML file ({exc})") from None
+        doc = read_design_tree(p, TakeError, "design or kit file")
     else:
-        try:
-            doc = json.loads(raw.decode("utf-8-sig"))
-        except (ValueError, RecursionError) as exc:
-            raise TakeError(f"{p}: not a readable JSON file ({str(exc)[:200]})") from None
+        from .kit_file import read_kit_tree
+
+        doc = read_kit_tree(p, TakeError, "design or kit file")
     if not isinstance(doc, dict):
         raise TakeError(f"{p}: expected a table with 'units', 'stock_checksum' and 'pick_list'")
     for key in ("units", "stock_checksum", "pick_list"):
@@ -368,7 +383,12 @@ def commit(target: Path, old: bytes, new: bytes, entry: dict, doing: str) -> Pat
 def take(pick_file: str | os.PathLike, stock_file: str | os.PathLike, *, units: int | None = None,
          dry_run: bool = False) -> TakeResult:
     """Subtract a pick list from the stock file, or (dry run) only say what would change."""
-    pick = read_pick_list(pick_file)
+    return take_picks(read_pick_list(pick_file), stock_file, units=units, dry_run=dry_run)
+
+
+def take_picks(pick: PickList, stock_file: str | os.PathLike, *, units: int | None = None,
+               dry_run: bool = False) -> TakeResult:
+    """``take`` of a pick list already read (from a file, or from a design or kit in memory)."""
     target = target_of(stock_file)
     if dry_run:
         plan = plan_take(pick, target, units)
@@ -386,7 +406,7 @@ def take(pick_file: str | os.PathLike, stock_file: str | os.PathLike, *, units: 
             "id": when,
             "action": "take",
             "when": when,
-            "from": str(pick_file),
+            "from": pick.path,
             "stock_file": target.name,
             "units": plan.units,
             "checksum_before": plan.checksum,
@@ -419,36 +439,3 @@ def history(stock_file: str | os.PathLike):
     from .take_history import history as _history
 
     return _history(stock_file)
-
-
-def format_result(result: TakeResult) -> str:
-    """What a take or undo did (or would do), for people: one aligned row per quantity cell."""
-    from ..texttable import text_table
-
-    plan = result.plan
-    name = Path(plan.stock_file).name
-    undoing = result.undone is not None
-    if undoing:
-        head = "would put back" if result.dry_run else "put back"
-        lines = [f"{head} the take {result.undone} on {plan.stock_file}:"]
-    else:
-        head = "would take" if result.dry_run else "took"
-        lines = [f"{head} parts for {plan.units} unit(s) from {plan.stock_file}:"]
-    sheets = any(c.sheet for c in plan.changes)
-    rows = []
-    for c in plan.changes:
-        before, after = (c.new_qty, c.old_qty) if undoing else (c.old_qty, c.new_qty)
-        row = [c.sheet or ""] if sheets else []
-        rows.append(row + [c.row, c.part, c.location or "-", f"{before} -> {after}", f"{after - before:+d}"])
-    header = (["sheet"] if sheets else []) + ["row", "part", "bin", "quantity", "change"]
-    align = ("<" if sheets else "") + "><<>>"
-    lines += text_table(header, rows, align)
-    lines.extend(f"note: {n}" for n in result.notes)
-    if result.dry_run:
-        lines.append(f"dry run: {name} was not changed")
-    else:
-        if result.backup:
-            lines.append(f"backup: {Path(result.backup).name}")
-        if result.log:
-            lines.append(f"logged in: {Path(result.log).name}")
-    return "\n".join(lines)

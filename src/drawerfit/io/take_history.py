@@ -23,7 +23,7 @@ from .files import stamp
 from .take import (Change, TakeError, TakePlan, TakeResult, _new_bytes, _read, commit, file_checksum, locked,
                    log_path, target_of)
 
-__all__ = ["TakeRecord", "read_log", "history", "undo_takes", "format_history"]
+__all__ = ["TakeRecord", "read_log", "history", "undo_takes"]
 
 
 @dataclass(frozen=True)
@@ -134,17 +134,6 @@ def history(stock_file) -> list[TakeRecord]:
         out.append(TakeRecord(n, t["id"], str(t.get("from", "")), _int(t.get("units")), len(changes), parts,
                               state[t["id"]], t.get("backup")))
     return out
-
-
-def format_history(stock_file, records: list[TakeRecord]) -> str:
-    from ..texttable import text_table
-
-    if not records:
-        return f"no takes logged for {stock_file}"
-    rows = [[r.number, r.when, Path(r.source).name, r.units, r.parts, r.state] for r in records]
-    lines = [f"takes logged for {stock_file} (times in UTC; undo with --undo, or --undo N to go back to take N):"]
-    lines += text_table(["#", "when", "from", "units", "parts", "state"], rows, "><<>><")
-    return "\n".join(lines)
 
 
 def _pick(takes_in_file: list[dict], all_takes: list[dict], state: dict[str, str], to) -> list[dict]:

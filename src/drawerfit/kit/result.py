@@ -1,5 +1,5 @@
-"""What `kit` shows and saves: the pick list, every line of it naming the designators and units it
-serves, the text for people, the JSON that `take` reads, and the cautions.
+"""What `kit` finds: the ``KitResult``, its pick list (every line of it naming the designators and
+units it serves), its dict (the JSON that `take` reads) and table forms, and the cautions.
 
 A designator the drawer covers for only some units is not filled; the parts that do cover those
 units are still on the pick list, and both the pick list and the list of unfilled designators say
@@ -8,16 +8,14 @@ so in plain words.
 
 from __future__ import annotations
 
-from typing import TYPE_CHECKING
+from dataclasses import dataclass, field
 
 from ..parts import UNIT_OF_KIND, StockLine
 from ..values import format_si
+from .parts_list import KitLine
 
-if TYPE_CHECKING:  # the result types live in kit.py, which imports this module
-    from .fill import Build, Filled, KitResult, Unfilled
-    from .parts_list import KitLine
-
-__all__ = ["RATING_UNIT", "part_text", "pick_list", "kit_cautions", "kit_to_json", "format_kit"]
+__all__ = ["RATING_UNIT", "part_text", "pick_list", "kit_cautions", "kit_to_json", "Build", "Filled",
+           "Unfilled", "Buy", "KitResult"]
 
 RATING_UNIT = {"resistor": "W", "capacitor": "V"}
 
@@ -71,22 +69,6 @@ def pick_list(filled: list["Filled"], unfilled: list["Unfilled"], units: int) ->
     return tuple(out)
 
 
-def serves_text(entry: dict, units: int) -> str:
-    """'R1, R2 (all 10 units)'; 'R6 (10 units), R7 (1 of 10 units)'; 'C3 (5 of 10 units only; C3 is not filled)'."""
-    serves = entry.get("serves", ())
-    if all(sv["filled"] and sv["units"] == units for sv in serves):
-        names = ", ".join(sv["designator"] for sv in serves)
-        return f"{names} (all {units} units)" if units > 1 else names
-    items = []
-    for sv in serves:
-        d, u = sv["designator"], sv["units"]
-        if not sv["filled"]:
-            items.append(f"{d} ({u} of {units} units only; {d} is not filled)")
-        else:
-            items.append(f"{d} ({u} units)" if u == units else f"{d} ({u} of {units} units)")
-    return ", ".join(items)
-
-
 def kit_cautions(lines, filled: list["Filled"], unfilled: list["Unfilled"] = ()) -> list[str]:
     from ..constants import CAP_VOLTAGE_MARGIN, HIGH_VOLTAGE_CAUTION
 
@@ -136,11 +118,11 @@ def _build_json(b: "Build", line: "KitLine") -> dict:
     unit = UNIT_OF_KIND.get(line.kind)
     return {"units": b.units, "value": _eq_value(eq),
             "value_text": format_si(eq.value, unit) if eq.value is not None else line.label,
-            "arrangement": eq.arrangement, "how": _how(eq, line), "part_count": int(eq.part_count),
+            "arrangement": eq.arrangement, "how": how_made(eq, line), "part_count": int(eq.part_count),
             "parts": _parts_json(eq)}
 
 
-def _how(eq, line: "KitLine") -> str:
+def how_made(eq, line: "KitLine") -> str:
     """'4k7 + 2k2', '10k ∥ 10k' in the letter code, or the transistor's label."""
     describe = getattr(eq, "describe", None)
     return describe() if describe else line.label
@@ -170,60 +152,94 @@ def kit_to_json(r: "KitResult") -> dict:
             "warnings": list(r.warnings), "notes": list(r.notes)}
 
 
-# --- text ------------------------------------------------------------------------------------------
+# --- the result ----------------------------------------------------------------------------------
 
 
-def format_kit(r: "KitResult") -> str:
-    """The result for people: what is filled from where, what is missing and why, what to buy, and the
-    pick list with the designators each line is for."""
-    from ..texttable import text_table
+@dataclass(frozen=True)
+class Build:
+    units: int
+    equivalent: object  # Equivalent (or _Transistor)
 
-    total = len(r.filled) + len(r.unfilled)
-    out = [f"{len(r.filled)} of {total} designators filled from the drawer for {r.units} unit(s)"
-           f" ({'proven optimal' if r.optimal else 'best found before the time limit, not proven optimal'})"]
-    if r.filled:
-        out += ["", "from the drawer:"]
-        rows = []
-        for f in r.filled:
-            for b in f.builds:
-                eq = b.equivalent
-                unit = UNIT_OF_KIND.get(f.line.kind)
-                val = format_si(eq.value, unit) if eq.value is not None else f.line.label
-                where = " + ".join(f"{n}× {part_text(s)} [{s.location or 'row ' + str(s.source.row)}]"
-                                   for s, n in eq.uses)
-                share = "" if b.units == r.units else f"  ({b.units} of {r.units} units)"
-                rows.append([f.designator, f.line.value_text(), "->", val, _how(eq, f.line), where + share])
-        out += text_table(["", "wanted", "", "made", "of", "parts per unit [bin]"], rows, "<><><<")
-    if r.unfilled:
-        out += ["", "not filled:"]
-        rows = []
-        for u in r.unfilled:
-            covered = u.units_covered
-            drawer = (f"partly covered: {covered} of {r.units} units from the drawer (on the pick list),"
-                      f" {r.units - covered} to buy" if covered else f"none of the {r.units} units from the drawer")
-            rows.append([u.designator, u.line.value_text(), f"{drawer}; {u.reason}"])
-        out += text_table(["", "wanted", "why"], rows, "<><")
-    if r.buy:
-        out += ["", "to buy (standard values):"]
-        rows = []
-        for b in r.buy:
-            val = format_si(b.value, UNIT_OF_KIND[b.kind]) if b.value is not None else b.label
-            rating = format_si(b.rating, RATING_UNIT.get(b.kind)) if b.rating is not None else "any"
-            series = f" ({b.series})" if b.series else ""
-            rows.append([val, rating, b.per_unit, b.count, f"{', '.join(b.designators)}{series}"])
-        out += text_table(["value", "rating", "per unit", "total", "for"], rows, ">>>><")
-    if r.pick:
-        out += ["", "pick list (take these from the drawer):"]
-        sheets = any(p["source"].get("sheet") for p in r.pick)
-        rows = []
-        for p in r.pick:
-            src = p["source"]
-            row = [src.get("sheet") or ""] if sheets else []
-            rows.append(row + [p["location"] or "-", src["row"], p["part"], p["count"], serves_text(p, r.units)])
-        head = (["sheet"] if sheets else []) + ["bin", "row", "part", "take", "for"]
-        out += text_table(head, rows, ("<" if sheets else "") + "<><><")
-    for n in r.notes:
-        out.append(f"note: {n}")
-    for c in r.cautions:
-        out.append(f"caution: {c}")
-    return "\n".join(out)
+
+@dataclass(frozen=True)
+class Filled:
+    designator: str
+    line: KitLine
+    builds: tuple[Build, ...]
+
+
+@dataclass(frozen=True)
+class Unfilled:
+    designator: str
+    line: KitLine
+    reason: str
+    from_drawer: tuple[Build, ...] = ()  # units covered by leftover stock
+
+    @property
+    def units_covered(self) -> int:
+        return sum(b.units for b in self.from_drawer)
+
+
+@dataclass(frozen=True)
+class Buy:
+    kind: str
+    value: float | None
+    label: str
+    rating: float | None
+    per_unit: int  # designators of one unit that lack this value
+    count: int  # to buy for all units, after what the drawer still covers
+    series: str | None
+    designators: tuple[str, ...]
+
+
+@dataclass(frozen=True)
+class KitResult:
+    units: int
+    optimal: bool
+    filled: tuple[Filled, ...]
+    unfilled: tuple[Unfilled, ...]
+    buy: tuple[Buy, ...]
+    pick: tuple[dict, ...]
+    stock_checksum: str
+    stock_file: str
+    list_file: str
+    seconds: float
+    stage_values: tuple[int, ...]
+    cautions: tuple[str, ...] = ()
+    warnings: tuple[str, ...] = field(default_factory=tuple)
+    notes: tuple[str, ...] = field(default_factory=tuple)
+
+    def __repr__(self) -> str:
+        total = len(self.filled) + len(self.unfilled)
+        proof = "optimal" if self.optimal else "not proven optimal"
+        buy = f", buy {sum(b.count for b in self.buy)} part(s)" if self.buy else ""
+        return (f"<KitResult {len(self.filled)} of {total} designators filled for {self.units} unit(s) ({proof})"
+                f"{buy}; {len(self.pick)} pick-list line(s)>")
+
+    def to_dict(self) -> dict:
+        """The KIT.json shape (what `kit --json` prints and `take` reads back)."""
+        return kit_to_json(self)
+
+    def to_pandas(self, table: str = "pick_list"):
+        """A DataFrame: ``table`` "pick_list" (one row per stock line to take from), "designators"
+        (one row per designator: what fills it, or why nothing does) or "buy"."""
+        import pandas as pd
+
+        if table == "pick_list":
+            cols = ["location", "row", "sheet", "part", "per_unit", "count", "designators"]
+            return pd.DataFrame([{"location": p["location"], "row": p["source"]["row"], "sheet": p["source"]["sheet"],
+                                  "part": p["part"], "per_unit": p["per_unit"], "count": p["count"],
+                                  "designators": ", ".join(p["designators"])} for p in self.pick], columns=cols)
+        if table == "designators":
+            d = self.to_dict()
+            rows = [{"designator": f["designator"], "target": f["target"], "value": f["value"], "how": f["how"],
+                     "part_count": f["part_count"], "filled": True, "reason": ""} for f in d["filled"]]
+            rows += [{"designator": u["designator"], "target": u["value"], "value": None, "how": "",
+                      "part_count": 0, "filled": False, "reason": u["reason"]} for u in d["unfilled"]]
+            return pd.DataFrame(rows, columns=["designator", "target", "value", "how", "part_count", "filled",
+                                               "reason"])
+        if table == "buy":
+            cols = ["kind", "value", "label", "rating", "per_unit", "count", "series", "designators"]
+            return pd.DataFrame([{**{c: getattr(b, c) for c in cols[:-1]}, "designators": ", ".join(b.designators)}
+                                 for b in self.buy], columns=cols)
+        raise ValueError(f"table must be 'pick_list', 'designators' or 'buy', not {table!r}")

@@ -80,6 +80,26 @@ class DesignResult:
     buy_design: DesignChoice | None = None  # the design the bought parts are for
     transistors_tried: list = field(default_factory=list)
     stats: dict = field(default_factory=dict)
+    # what it was made from, attached by drawerfit.design for the dict form (drawerfit.results)
+    spec: object = field(default=None, repr=False, compare=False)
+    stock: object = field(default=None, repr=False, compare=False)
+
+    def __repr__(self) -> str:
+        from ..results import design_repr
+
+        return design_repr(self)
+
+    def to_dict(self) -> dict:
+        """The `design --json` shape (``drawerfit.results.design_dict``)."""
+        from ..results import design_dict
+
+        return design_dict(self)
+
+    def to_pandas(self, table: str = "parts"):
+        """The best design's parts (or ``table="pick_list"``) as a DataFrame (``drawerfit.results``)."""
+        from ..results import design_frame
+
+        return design_frame(self, table)
 
     @property
     def feasible(self) -> bool:

@@ -14,13 +14,14 @@ at that window.  Triples are looked at only when singles and pairs cannot fill t
 
 from __future__ import annotations
 
-from dataclasses import dataclass, replace
+from dataclasses import dataclass, field, replace
 from typing import Sequence
 
 import numpy as np
 
 from ..equivalents import Equivalent, EquivalentIndex, EquivalentTable
 from ..parts import StockLine
+from ..allocation.bins import draw_bins
 from .pools import Pools, covers_key
 
 DEFAULT_WINDOW = 0.01  # ±1 % when the user gives no --within; see docs/method.md
@@ -45,6 +46,14 @@ class Candidate:
     holdings: tuple[Holding, ...] = ()
     draws: tuple[tuple[StockLine, int], ...] = ()  # bins to take from for all units: (bin, parts)
 
+    @property
+    def warnings(self) -> list[str]:
+        """What a builder must know about this equivalent (a polarized capacitor in a series chain)."""
+        if self.equivalent.polarized_series:
+            return ["a polarized capacitor in a series chain: its DC share follows leakage, not capacitance; "
+                    "fit a balancing resistor across each part and check each one's voltage"]
+        return []
+
 
 @dataclass(frozen=True)
 class MatchResult:
@@ -55,6 +64,7 @@ class MatchResult:
     units: int
     max_parts: int
     candidates: tuple[Candidate, ...]
+    stock: object = field(default=None, repr=False, compare=False)  # the drawer searched (its notes go in the dict)
 
     @property
     def inside(self) -> tuple[Candidate, ...]:
@@ -63,6 +73,62 @@ class MatchResult:
     @property
     def outside(self) -> tuple[Candidate, ...]:
         return tuple(c for c in self.candidates if not c.within)
+
+    @property
+    def rating_key(self) -> str:
+        return "power" if self.kind == "resistor" else "voltage"
+
+    def __repr__(self) -> str:
+        from ..values import format_code
+
+        unit = "ohm" if self.kind == "resistor" else "F"
+        best = self.candidates[0].equivalent.describe() if self.candidates else "nothing"
+        return (f"<MatchResult {format_code(self.target, unit)} ±{self.within * 100:g} %: {len(self.inside)} inside, "
+                f"{len(self.outside)} nearest outside; best {best}>")
+
+    def to_dict(self) -> dict:
+        """The `match --json` shape: the target, the substitutes best first, and the drawer's notes."""
+        key = self.rating_key
+        out = {
+            "target": {"value": self.target, "kind": self.kind, "within": self.within, key: self.min_rating,
+                       "units": self.units, "max_parts": self.max_parts},
+            "results": [{
+                "value": c.equivalent.value, "error": c.error, "arrangement": c.equivalent.arrangement,
+                "part_count": c.equivalent.part_count, "within": c.within, "tolerance": c.equivalent.tolerance,
+                key: c.equivalent.rating, "describe": c.equivalent.describe(),
+                "parts": [part_dict(m) for m in c.equivalent.members],
+                "on_hand": [{"part": part_dict(h.line), "count": h.on_hand,
+                             "bins": [{**part_dict(b), "qty": b.qty} for b in h.bins]} for h in c.holdings],
+                "take": [{**part_dict(b), "count": n} for b, n in c.draws],
+                "warnings": c.warnings,
+            } for c in self.candidates],
+        }
+        if self.stock is not None:
+            out.update(warnings=list(self.stock.warnings), assumptions=list(self.stock.assumptions),
+                       problems=[p.to_dict() for p in self.stock.problems])
+        return out
+
+    def to_pandas(self):
+        """One row per substitute, best first: value, error, how it is made, tolerance, rating, parts on hand."""
+        import pandas as pd
+
+        cols = ["value", "error", "within", "describe", "arrangement", "part_count", "tolerance", "rating", "on_hand"]
+        rows = [{"value": c.equivalent.value, "error": c.error, "within": c.within,
+                 "describe": c.equivalent.describe(), "arrangement": c.equivalent.arrangement,
+                 "part_count": c.equivalent.part_count, "tolerance": c.equivalent.tolerance,
+                 "rating": c.equivalent.rating, "on_hand": min((h.on_hand for h in c.holdings), default=0)}
+                for c in self.candidates]
+        return pd.DataFrame(rows, columns=cols)
+
+
+def part_dict(line: StockLine) -> dict:
+    """A stock line in brief, for JSON: kind, value, letter code, bin and where it sits in the file."""
+    from ..values import format_code
+
+    unit = "ohm" if line.kind == "resistor" else "F" if line.kind == "capacitor" else None
+    return {"kind": line.kind, "value": line.value, "label": line.label or None,
+            "code": format_code(line.value, unit) if unit and line.value else None,
+            "location": line.location, "source": line.source.to_dict()}
 
 
 class _Drawer:
@@ -115,7 +181,7 @@ class _Drawer:
             heads = sorted({g for b in need for g in self.cover[b]})
             local = {h: i for i, h in enumerate(heads)}
             pools = Pools.build([replace(self.by_index[h], index=i, qty=self.total[h]) for i, h in enumerate(heads)])
-            got = pools.allocate({local[b]: n for b, n in need.items()})
+            got = draw_bins(pools.cover, pools.qty, {local[b]: n for b, n in need.items()})
             if got is None:
                 return None
             given = {heads[b]: [(heads[a], n) for a, n in rows] for b, rows in got.items()}

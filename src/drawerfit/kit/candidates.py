@@ -1,0 +1,207 @@
+"""The equivalents each line of a parts list may use: singles, pairs and triples inside its window and
+rating, as arrays, minus those that are never part of a best allocation.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from ..parts import Stock
+from .parts_list import KitLine
+
+__all__ = ["Candidates", "candidates_for", "label_key", "PPM", "TRIPLES_PER_LINE"]
+
+PPM = 1_000_000
+TRIPLES_PER_LINE = 200  # triples of a list line's window at most (max_parts=3); beyond, those nearest the value
+
+
+@dataclass(frozen=True)
+class Candidates:
+    """The equivalents one list line may use, as arrays (one row per equivalent)."""
+
+    part_count: np.ndarray  # int
+    err_ppm: np.ndarray  # int, |nominal - target| / target in ppm
+    members: np.ndarray  # (n, 3) StockLine.index, -1 padded
+    counts: np.ndarray  # (n, 3) parts of each member
+    equivalent: object  # callable i -> Equivalent (for the report)
+    in_window: int  # equivalents in the window before dominance pruning
+    truncated: bool = False  # True when the window held more triples than were taken
+
+    def __len__(self) -> int:
+        return len(self.part_count)
+
+
+def _empty(in_window: int = 0) -> Candidates:
+    z = np.zeros(0, dtype=np.int64)
+    return Candidates(z, z, np.zeros((0, 3), dtype=np.int64), np.zeros((0, 3), dtype=np.int64),
+                      lambda i: None, in_window)
+
+
+@dataclass(frozen=True)
+class _Transistor:
+    """A transistor used as it is, in the shape of an Equivalent for the report."""
+
+    value: float | None
+    tolerance: float | None
+    rating: float | None
+    part_count: int
+    arrangement: str
+    uses: tuple
+
+
+def candidates_for(line: KitLine, stock: Stock, max_parts: int = 2,
+                   indexes: dict | None = None) -> Candidates:
+    """Equivalents for one list line: inside its window and rating, minus those surely never best.
+
+    An equivalent of several parts that contains a smaller equivalent in the window (a single
+    part of one of its lines, or for a triple a pair of its parts) with no more error is dropped:
+    swapping in the smaller one keeps every designator filled with fewer parts and uses a subset of
+    the stock, so the dropped one is never in a lexicographic optimum.
+
+    ``indexes`` (kind -> EquivalentIndex) lets many list lines share one set of pair tables.
+    """
+    if line.kind == "transistor":
+        want = label_key(line.label)
+        rows = [s for s in stock.lines if s.kind == "transistor" and s.qty > 0 and label_key(s.label) == want]
+        n = len(rows)
+        members = np.full((n, 3), -1, dtype=np.int64)
+        counts = np.zeros((n, 3), dtype=np.int64)
+        for i, s in enumerate(rows):
+            members[i, 0], counts[i, 0] = s.index, 1
+        eqs = [_Transistor(None, None, None, 1, "single", ((s, 1),)) for s in rows]
+        return Candidates(np.ones(n, dtype=np.int64), np.zeros(n, dtype=np.int64), members, counts,
+                          eqs.__getitem__, n)
+    from ..equivalents import EquivalentIndex
+
+    indexes = {} if indexes is None else indexes
+    if line.kind not in indexes:
+        lines = [s for s in stock.lines if s.kind == line.kind and s.value is not None and s.qty > 0]
+        indexes[line.kind] = EquivalentIndex(lines, units=1) if lines else None
+    index = indexes[line.kind]
+    if index is None:
+        return _empty()
+    parts = 1 if line.single else max_parts
+    table = index.window(line.lo, line.hi, max_parts=min(parts, 2), min_rating=line.min_rating)
+    tables = [table]
+    truncated = False
+    if parts >= 3:
+        # Triples are built by value window (triples.py), never all: every triple in the line's
+        # window when it holds at most TRIPLES_PER_LINE, else the window of that many around the
+        # target (then the result is marked as not proven optimal).
+        from ..triples import TripleSpace
+
+        key = ("triples", line.kind)
+        if key not in indexes:
+            indexes[key] = TripleSpace(index.pool, 1, {r: index.pairs(r) for r in (False, True)})
+        space = indexes[key]
+        lo, hi = line.lo, line.hi
+        if space.count(lo, hi) > TRIPLES_PER_LINE:
+            lo, hi = space.around(line.value, TRIPLES_PER_LINE, lo, hi)
+            truncated = True
+        tables.append(_TripleTable(space, space.build(lo, hi), line.min_rating))
+    sizes = [len(t) for t in tables]
+    n = sum(sizes)
+    if n == 0:
+        return _empty()
+
+    def cat(name, dtype, width=None):
+        parts_ = [np.asarray(getattr(t, name), dtype=dtype) for t in tables]
+        if width is not None:
+            parts_ = [a.reshape(len(t), width) for a, t in zip(parts_, tables)]
+        return np.concatenate(parts_)
+
+    value = cat("value", float)
+    err = np.rint(np.abs(value - line.value) / line.value * PPM).astype(np.int64)
+    pc = cat("part_count", np.int64)
+    members = cat("members", np.int64, 3)
+    counts = cat("counts", np.int64, 3)
+    offsets = np.cumsum([0] + sizes)
+
+    def equivalent(i: int):
+        t = int(np.searchsorted(offsets, i, side="right")) - 1
+        return tables[t].equivalent(int(i - offsets[t]))
+
+    # best single error per stock line index (inf where that line is not a single candidate)
+    top = max(len(stock.lines), int(members.max()) + 1)
+    single_err = np.full(top + 1, np.iinfo(np.int64).max, dtype=np.int64)
+    singles = pc == 1
+    np.minimum.at(single_err, members[singles, 0], err[singles])
+    safe = np.where(members >= 0, members, top)  # index 'top' holds +inf
+    best_sub = single_err[safe].min(axis=1)
+    triples = np.nonzero(pc == 3)[0]
+    if len(triples):
+        best_sub[triples] = np.minimum(best_sub[triples], _best_pair_inside(members, counts, pc, err, triples, top))
+    keep = singles | (best_sub > err)
+    idx = np.nonzero(keep)[0]
+    return Candidates(pc[idx], err[idx], members[idx], counts[idx],
+                      lambda i, _idx=idx: equivalent(int(_idx[i])), n, truncated)
+
+
+class _TripleTable:
+    """A window of triples with the attributes ``candidates_for`` reads of an equivalent table."""
+
+    def __init__(self, space, blk, min_rating: float | None):
+        keep = np.ones(len(blk), bool)  # as for pairs, polarized capacitors in series are candidates
+        if min_rating is not None:
+            keep &= blk.rating >= min_rating * (1 - 1e-12)
+        blk = blk.take(np.flatnonzero(keep))
+        from ..equivalents import _counts
+
+        self.space, self.blk = space, blk
+        self.value = blk.v
+        self.part_count = np.full(len(blk), 3, np.int64)
+        self.members, self.counts = _counts(np.asarray(blk.pos, np.int64), space.pool)
+
+    def __len__(self) -> int:
+        return len(self.blk)
+
+    def equivalent(self, i: int):
+        from ..equivalents import _table
+
+        b, j = self.blk, slice(int(i), int(i) + 1)
+        return _table(self.space.pool, np.asarray(b.pos[j], np.int64), b.v[j], b.vlo[j], b.vhi[j], b.rating[j],
+                      b.form[j].astype(np.int64), b.pol_series[j]).equivalent(0)
+
+
+def _pair_key(a: np.ndarray, b: np.ndarray, top: int) -> np.ndarray:
+    lo, hi = np.minimum(a, b), np.maximum(a, b)
+    return lo * (top + 1) + hi
+
+
+def _best_pair_inside(members, counts, pc, err, triples, top) -> np.ndarray:
+    """For each triple, the least error of a pair in the table that uses only parts the triple uses."""
+    big = np.iinfo(np.int64).max
+    pairs = np.nonzero(pc == 2)[0]
+    if len(pairs) == 0:
+        return np.full(len(triples), big, dtype=np.int64)
+    pm = members[pairs]
+    # a pair is two distinct lines (1 + 1) or one line twice (count 2)
+    b = np.where(pm[:, 1] >= 0, pm[:, 1], pm[:, 0])
+    keys = _pair_key(pm[:, 0], b, top)
+    order = np.argsort(keys, kind="stable")
+    keys, perr = keys[order], err[pairs][order]
+    uniq, start = np.unique(keys, return_index=True)
+    best = np.minimum.reduceat(perr, start)
+    tm, tc = members[triples], counts[triples]
+    out = np.full(len(triples), big, dtype=np.int64)
+
+    def look(k, ok):
+        pos = np.clip(np.searchsorted(uniq, k), 0, len(uniq) - 1)
+        hit = ok & (uniq[pos] == k)
+        return np.where(hit, best[pos], big)
+
+    for i, j in ((0, 1), (0, 2), (1, 2)):  # two distinct lines of the triple
+        ok = (tm[:, i] >= 0) & (tm[:, j] >= 0)
+        out = np.minimum(out, look(_pair_key(tm[:, i], tm[:, j], top), ok))
+    for i in range(3):  # one line the triple uses at least twice
+        ok = (tm[:, i] >= 0) & (tc[:, i] >= 2)
+        out = np.minimum(out, look(_pair_key(tm[:, i], tm[:, i], top), ok))
+    return out
+
+
+def label_key(text: str) -> str:
+    import re
+
+    return re.sub(r"[\W_]+", "", str(text).lower())

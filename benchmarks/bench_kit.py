@@ -70,9 +70,9 @@ def main() -> None:
     ap.add_argument("--seed", type=int, default=20261202)
     ap.add_argument("--time-limit", type=float, default=60.0)
     args = ap.parse_args()
-    from drawerfit.kit.candidates import candidates_for
-    from drawerfit.kit.fill import run_kit
-    from drawerfit.kit.parts_list import read_kit_list
+    from drawerfit.kits.candidates import candidates_for
+    from drawerfit.kits.fill import run_kit
+    from drawerfit.kits.parts_list import read_kit_list
     from drawerfit.stock import load_stock
 
     rng = np.random.default_rng(args.seed)

@@ -15,7 +15,7 @@ import string
 import tomli_w
 from hypothesis import HealthCheck, given, settings, strategies as st
 
-from drawerfit.kit.parts_list import read_kit_list
+from drawerfit.kits.parts_list import read_kit_list
 from drawerfit.parts import DrawerfitError
 from drawerfit.io.saved_design import load_design
 from drawerfit.io.spec import load_spec, parse_spec

@@ -1,7 +1,8 @@
 """`drawerfit kit`: joint allocation of a parts list against the drawer, checked against brute force.
 
-Independent sources: series R = R1 + R2 and parallel R = R1·R2/(R1 + R2) (handbook formulas, from
-memory) for the brute-force oracle; IEC 60063 E12/E24 through the `eseries` registry package for
+Independent sources: series R = R1 + R2 and parallel R = R1·R2/(R1 + R2) (Ohm's law with
+Kirchhoff's laws: one current through parts in series, one voltage across parts in parallel) for
+the brute-force oracle; IEC 60063 E12/E24 through the `eseries` registry package for
 the shopping list; everything else is a property of the stock the tests write themselves.
 """
 
@@ -19,9 +20,9 @@ from click.testing import CliRunner
 from hypothesis import HealthCheck, assume, given, settings, strategies as st
 
 from drawerfit.cli import main
-from drawerfit.kit.fill import run_kit
-from drawerfit.kit.result import kit_to_json
-from drawerfit.kit.parts_list import DEFAULT_WINDOW, read_kit_list
+from drawerfit.kits.fill import run_kit
+from drawerfit.kits.result import kit_to_json
+from drawerfit.kits.parts_list import DEFAULT_WINDOW, read_kit_list
 
 
 def _write(path: Path, rows, delimiter=",") -> Path:
@@ -385,7 +386,7 @@ def test_triples_limited_per_line_are_reported_as_not_proven(tmp_path):
     # more than the TRIPLES_PER_LINE closest equivalents, so the answer cannot claim a proof
     import eseries
 
-    from drawerfit.kit.candidates import TRIPLES_PER_LINE, candidates_for
+    from drawerfit.kits.candidates import TRIPLES_PER_LINE, candidates_for
     from drawerfit.stock import load_stock
 
     values = [v for v in eseries.erange(eseries.E24, 1000, 9999)]

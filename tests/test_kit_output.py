@@ -14,8 +14,8 @@ from pathlib import Path
 from click.testing import CliRunner
 
 from drawerfit.cli import main
-from drawerfit.kit.fill import run_kit
-from drawerfit.kit.result import kit_to_json
+from drawerfit.kits.fill import run_kit
+from drawerfit.kits.result import kit_to_json
 
 DRAWER = ("Type,Value,Rating,Qty,Bin\nR,4k7,0.6W,20,A1\nR,4k7,0.6W,10,A2\nR,4k7,0.6W,5,A3\nR,4k7,0.6W,8,A4\n"
           "C,10u,25V,20,B1\n")

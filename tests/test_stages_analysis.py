@@ -46,13 +46,30 @@ def test_json_has_exactly_the_keys_of_the_issue():
     json.dumps(d, allow_nan=False)  # SI floats only, no NaN
 
 
-def test_analysis_matches_the_core_figures():
-    a = analyse(follower())
-    f = evaluate(**follower().core_arguments())
-    d = a.to_dict()
-    assert d["dc"]["ie"] == pytest.approx(float(f.ie))
-    assert d["ac"]["f_low"] == pytest.approx(float(f.f_low))
-    assert d["dc"]["state"] == "active" and d["swing"]["limit"] == "cut-off"
+def test_analysis_figures_by_hand():
+    """The follower's nominal figures, worked by hand (Thevenin divider, IE = (β+1)·IB, VBE 0.65 V and
+    VCE(sat) 0.2 V as assumed, β the geometric mean of the hFE range, re = VT/IE with VT from
+    scipy.constants at 25 °C)."""
+    from scipy.constants import Boltzmann, elementary_charge, zero_Celsius
+
+    beta = math.sqrt(100 * 300)
+    rth = 4.7e3 * 5.6e3 / (4.7e3 + 5.6e3)
+    vth = 12 * 5.6e3 / (4.7e3 + 5.6e3)
+    ie = (beta + 1) * (vth - 0.65) / (rth + (beta + 1) * 820)
+    ve = ie * 820
+    re = Boltzmann * (zero_Celsius + 25) / elementary_charge / ie
+    re_load = 820 * 1e3 / (820 + 1e3)  # RE ∥ RL
+    rin = 1 / (1 / 4.7e3 + 1 / 5.6e3 + 1 / ((beta + 1) * (re + re_load)))
+    down = ie * re_load  # the emitter current falls to zero: cut-off
+    up = 12 - 0.2 - ve  # VCE falls to VCE(sat)
+    d = analyse(follower()).to_dict()
+    assert d["dc"]["ie"] == pytest.approx(ie, rel=1e-9)
+    assert d["dc"]["ve"] == pytest.approx(ve, rel=1e-9)
+    assert d["ac"]["rin"] == pytest.approx(rin, rel=1e-9)
+    assert d["swing"]["peak"] == pytest.approx(min(up, down), rel=1e-9)
+    assert d["dc"]["state"] == "active" and d["swing"]["limit"] == "cut-off" and down < up
+    # C1 alone: a high-pass of C1 with RS + the stage's input impedance, 1/(2π·R·C)
+    assert d["ac"]["corners"]["C1"] == pytest.approx(1 / (2 * math.pi * 22e-6 * (600 + rin)), rel=1e-9)
 
 
 def test_over_power_and_over_voltage_are_flagged():
@@ -92,16 +109,25 @@ def test_targets_and_monte_carlo_fractions():
     checks = {c.name: c for c in a.checks}
     assert checks["target swing"].ok is False  # worst case is below nominal
     assert checks["target f_low"].ok is True
-    frac = a.monte_carlo["meets"]["swing"]
-    # Oracle: the same seeded sample, counted directly.
-    from drawerfit.analysis.core import monte_carlo
+    assert 0.2 < a.monte_carlo["meets"]["swing"] < 0.8  # a target at the nominal value splits the builds
+    assert a.monte_carlo == analyse(s, monte_carlo=5000, seed=11, targets=t).monte_carlo  # seeded
 
-    kw = s.core_arguments()
-    sample = monte_carlo(5000, seed=11, tolerances=s.tolerances(), hfe_min=100, hfe_max=300,
-                         temp_min=0, temp_max=50, **kw)
-    assert frac == pytest.approx(float(np.mean(sample.swing_peak >= nominal_swing)))
-    assert 0.2 < frac < 0.8  # a target at the nominal value splits the builds
-    assert a.monte_carlo == analyse(s, monte_carlo=5000, seed=11, targets=t).monte_carlo
+
+def test_monte_carlo_fraction_against_the_uniform_distribution():
+    """Only RE varies (±5 %, uniform within its tolerance as documented); IE falls as RE grows, so
+    the share of builds with IE at least its value at RE·1.02 is P(RE ≤ 1.02·RE0) = (1.02 − 0.95)/0.10
+    = 0.7, worked by hand from the uniform distribution; 20,000 builds put 4 standard deviations of
+    the binomial count at ±0.013."""
+    fixed = TransistorModel("npn", 150, 150, vceo=40, ic_max=0.1, pd=0.5)
+    parts = dict(R1=Part(4.7e3, 0.0, 0.25), R2=Part(5.6e3, 0.0, 0.25), RE=Part(820, 0.05, 0.25),
+                 C1=Part(22e-6, 0.0, 16, True), C2=Part(220e-6, 0.0, 16, True))
+    s = Stage("emitter-follower", "npn", 12.0, parts, fixed, 600.0, 1e3)
+    rth, vth = 4.7e3 * 5.6e3 / 10.3e3, 12 * 5.6e3 / 10.3e3
+    ie_at = 151 * (vth - 0.65) / (rth + 151 * 820 * 1.02)  # IE by hand at RE = 1.02·RE0
+    a = analyse(s, Conditions(ambient_min=25, ambient_max=25), monte_carlo=20_000, seed=3,
+                targets=Targets(ie_min=ie_at))
+    assert a.monte_carlo["meets"]["ie_min"] == pytest.approx(0.7, abs=0.013)
+    assert a.monte_carlo["active"] == 1.0
 
 
 def test_target_margins_sign():

@@ -26,33 +26,49 @@ def test_thermal_voltage_at_300_kelvin():
     assert thermal_voltage(26.85) == pytest.approx(0.025852, abs=2e-6)
 
 
-def test_worked_common_emitter_example_from_memory():
-    """Handbook worked example, from memory: 10 V supply, R1 = 10 k, R2 = 2.2 k, RC = 3.6 k,
-    RE = 1 k, VBE = 0.7 V, base current neglected: VB ≈ 1.8 V, VE ≈ 1.1 V, IE ≈ 1.1 mA,
-    VC ≈ 6 V."""
+def test_worked_common_emitter_example_by_hand():
+    """A common-emitter stage worked by hand, every step written out: 10 V supply, R1 = 10 k,
+    R2 = 2.2 k, RC = 3.6 k, RE = 1 k, VBE = 0.7 V."""
+    # Base current neglected (β → ∞): the divider alone sets VB, and IC = IE.
+    vb = 10 * 2.2e3 / (10e3 + 2.2e3)  # 1.803279 V
+    ve = vb - 0.7  # 1.103279 V
+    ie = ve / 1e3  # 1.103279 mA
+    vc = 10 - ie * 3.6e3  # 6.028197 V
     f = evaluate_dc(topology="common-emitter", supply=10, r1=10e3, r2=2.2e3, re=1e3, rc=3.6e3,
                     hfe=HUGE_BETA, vbe=0.7)
-    assert float(f.vb) == pytest.approx(1.8, rel=0.01)
-    assert float(f.ve) == pytest.approx(1.1, rel=0.01)
-    assert float(f.ie) == pytest.approx(1.1e-3, rel=0.01)
-    assert float(f.vc) == pytest.approx(6.0, rel=0.01)
-    # With a real β of 100 the base current pulls the divider down: by hand,
-    # IB = (VTH − VBE)/(RTH + (β+1)·RE) = (1.8033 − 0.7)/(1803.3 + 101000) = 10.73 µA.
+    assert float(f.vb) == pytest.approx(vb, rel=1e-9)
+    assert float(f.ve) == pytest.approx(ve, rel=1e-9)
+    assert float(f.ie) == pytest.approx(ie, rel=1e-9)
+    assert float(f.vc) == pytest.approx(vc, rel=1e-9)
+    # With β = 100 the base current pulls the divider down (Thevenin equivalent of the divider):
+    rth = 10e3 * 2.2e3 / (10e3 + 2.2e3)  # 1803.279 Ω
+    ib = (vb - 0.7) / (rth + (100 + 1) * 1e3)  # 10.732 µA
     g = evaluate_dc(topology="common-emitter", supply=10, r1=10e3, r2=2.2e3, re=1e3, rc=3.6e3,
                     hfe=100, vbe=0.7)
-    assert float(g.ib) == pytest.approx(10.73e-6, rel=1e-3)
-    assert float(g.ie) == pytest.approx(101 * 10.73e-6, rel=1e-3)
+    assert float(g.ib) == pytest.approx(ib, rel=1e-9)
+    assert float(g.ie) == pytest.approx(101 * ib, rel=1e-9)
+    assert float(g.vb) == pytest.approx(vb - ib * rth, rel=1e-9)
+    assert float(g.vc) == pytest.approx(10 - 100 * ib * 3.6e3, rel=1e-9)
 
 
-def test_worked_follower_example_from_memory():
-    """Handbook-style follower, from memory: 10 V, R1 = R2 = 10 k, RE = 1 k, VBE = 0.7 V, β = 100:
-    RTH = 5 k, IB = 4.3/(5 k + 101 k) = 40.57 µA, IE = 4.097 mA; input impedance
-    R1‖R2‖(β+1)·(re + RE) ≈ 4.77 k with re = 25.7 mV/4.1 mA ≈ 6.3 Ω (25 °C)."""
-    f = evaluate_dc(topology="emitter-follower", supply=10, r1=10e3, r2=10e3, re=1e3, hfe=100,
-                    vbe=0.7)
-    assert float(f.ie) == pytest.approx(4.097e-3, rel=1e-3)
-    assert float(f.rin) == pytest.approx(4.77e3, rel=3e-3)
-    assert float(f.gain) == pytest.approx(1000 / (1000 + 6.27), rel=1e-3)
+def test_worked_follower_example_by_hand():
+    """An emitter follower worked by hand: 10 V, R1 = R2 = 10 k, RE = 1 k, VBE = 0.7 V, β = 100,
+    no load, ideal source; re = VT/IE with VT = k·T/q at 25 °C from scipy.constants (CODATA)."""
+    from scipy.constants import Boltzmann, elementary_charge, zero_Celsius
+
+    rth, vth = 5e3, 5.0  # the divider's Thevenin equivalent
+    ib = (vth - 0.7) / (rth + 101 * 1e3)  # 40.566 µA
+    ie = 101 * ib  # 4.0972 mA
+    vt = Boltzmann * (zero_Celsius + 25) / elementary_charge  # 25.693 mV
+    re = vt / ie  # 6.271 Ω
+    zb = 101 * (re + 1e3)  # looking into the base
+    rin = 1 / (1 / 10e3 + 1 / 10e3 + 1 / zb)  # R1 ∥ R2 ∥ (β+1)(re + RE)
+    f = evaluate_dc(topology="emitter-follower", supply=10, r1=10e3, r2=10e3, re=1e3, hfe=100, vbe=0.7)
+    assert float(f.ie) == pytest.approx(ie, rel=1e-9)
+    assert float(f.rin) == pytest.approx(rin, rel=1e-9)
+    assert float(f.gain) == pytest.approx(1e3 / (1e3 + re), rel=1e-9)
+    # output impedance: RE ∥ (re + (RS ∥ R1 ∥ R2)/(β+1)), with RS = 0 shorting the divider
+    assert float(f.rout) == pytest.approx(1 / (1 / 1e3 + 1 / re), rel=1e-9)
 
 
 def test_gain_rule_from_design_notes():

@@ -1,11 +1,16 @@
 """drawerfit: design and fill small transistor stages from the parts you already own.
 
-The library is usable without the command line::
+The library reads naturally in a notebook; every function takes objects or paths::
 
-    from drawerfit import load_stock, parse_value
-    stock = load_stock("inventory_samples/teaching_lab.csv")
+    import drawerfit
+    stock = drawerfit.load_stock("inventory_samples/teaching_lab.csv")
+    drawerfit.match("4k7", stock, within=0.01)
+    result = drawerfit.design("inventory_samples/specs/bench_buffer.toml", stock, units=10)
+    result.to_pandas()
 
-Heavy modules are imported on first use, so importing the package stays light.
+Each result has a short repr, ``to_dict()`` (the JSON the command line prints) and, where a table
+fits, ``to_pandas()``.  The functions live in ``drawerfit.api``; heavy modules are imported on
+first use, so importing the package stays light.
 """
 
 from __future__ import annotations
@@ -19,13 +24,11 @@ __version__ = "0.1.0"
 
 # name -> module that defines it; loaded when first asked for (PEP 562)
 _LAZY = {
-    "load_stock": "drawerfit.stock",
-    "equivalents": "drawerfit.equivalents",
-    "match": "drawerfit.search.match",
-    "analyse": "drawerfit.analysis",
-    "load_spec": "drawerfit.io.spec",
-    "design": "drawerfit.search.design",
+    **{name: "drawerfit.api" for name in (
+        "load_stock", "load_spec", "analyse", "analyze", "match", "design", "save_design", "load_design", "kit",
+        "load_parts_list", "save_kit", "take", "undo", "history")},
 }
+# (no lazy name may equal a subpackage's: importing ``drawerfit.x`` binds ``drawerfit.x`` to the module)
 
 
 def __getattr__(name: str):

@@ -160,14 +160,14 @@ def load_design(path: PathLike, stock: Any = None):
 
 def load_parts_list(parts_list: Any):
     """A ``kit.parts_list.KitList`` from a parts list's path (CSV or XLSX)."""
-    from .kit.parts_list import KitList, read_kit_list
+    from .kits.parts_list import KitList, read_kit_list
 
     return parts_list if isinstance(parts_list, KitList) else read_kit_list(str(parts_list))
 
 
 def kit(parts_list: Any, stock: Any, *, units: int = 1, max_parts: int = 2, time_limit: float = 30.0):
     """Fill a whole parts list from the drawer for ``units`` boards, jointly: a ``KitResult``."""
-    from .kit.fill import run_kit
+    from .kits.fill import run_kit
 
     kit_list = load_parts_list(parts_list)
     stock = load_stock(stock)

@@ -101,8 +101,9 @@ def pin_order_text(pins: str) -> str:
 
 
 @dataclass(frozen=True)
-class Problem:
-    """A line of the user's file that could not be read, or a warning about one."""
+class LineIssue:
+    """An issue with one line of a user's file (stock file or parts list): it could not be read
+    (severity "error": the line is skipped), or a warning about it; with file, sheet, row and column."""
 
     file: str
     sheet: str | None
@@ -133,7 +134,7 @@ class Stock:
     """A loaded drawer: its lines, the problems met while reading, and the defaults applied."""
 
     lines: tuple[StockLine, ...]
-    problems: tuple[Problem, ...] = ()
+    problems: tuple[LineIssue, ...] = ()
     assumptions: tuple[str, ...] = ()
     files: tuple[str, ...] = ()
     checksum: str = ""  # sha256 of the file bytes, so a later take can tell the file changed

@@ -13,7 +13,7 @@ if TYPE_CHECKING:  # pragma: no cover
     from .result import Analysis
     from .targets import Targets
 
-__all__ = ["analyse", "Analysis", "Check", "Targets"]
+__all__ = ["analyse", "analyze", "Analysis", "Check", "Targets", "monte_carlo_sample"]
 
 _MC_SUMMARY = ("ie", "ve", "vc", "gain", "rin", "rout", "f_low", "swing_peak", "p_q")
 
@@ -56,10 +56,7 @@ def analyse(stage: "Stage", conditions: "Conditions | None" = None, monte_carlo:
 
     mc = None
     if monte_carlo > 0:
-        sample = core.monte_carlo(int(monte_carlo), seed=seed, tolerances=tolerances,
-                                  hfe_min=t.hfe_min, hfe_max=t.hfe_max,
-                                  temp_min=conditions.ambient_min, temp_max=conditions.ambient_max,
-                                  **kw)
+        sample = monte_carlo_sample(stage, conditions, monte_carlo, seed)
         active = sample.state == core.ACTIVE
         meets: dict[str, float] = {}
         all_ok = active.copy()
@@ -98,3 +95,19 @@ def analyse(stage: "Stage", conditions: "Conditions | None" = None, monte_carlo:
         }
     return Analysis(stage=stage, conditions=conditions, targets=targets, nominal=nominal,
                     worst=worst, checks=tuple(checks), monte_carlo=mc)
+
+
+# The library writes "analyse"; the command is `drawerfit analyze`.  One function, both spellings.
+analyze = analyse
+
+
+def monte_carlo_sample(stage: "Stage", conditions: "Conditions", n: int, seed: int):
+    """``n`` seeded random builds of ``stage`` (``core.monte_carlo``): parts within their tolerances,
+    hFE over its range, the ambient over the range of ``conditions``."""
+    from . import core
+
+    t = stage.transistor
+    tolerances = {k: v for k, v in stage.tolerances().items() if k in core.TOLERANCE_KEYS}
+    return core.monte_carlo(int(n), seed=seed, tolerances=tolerances, hfe_min=t.hfe_min, hfe_max=t.hfe_max,
+                            temp_min=conditions.ambient_min, temp_max=conditions.ambient_max,
+                            **stage.core_arguments())

@@ -6,7 +6,7 @@ import math
 from dataclasses import dataclass, field
 from typing import Any, Mapping
 
-from .core import LIMIT_NAMES, STATE_NAMES
+from .core import LIMIT_NAMES, NUMERIC_FIELDS, STATE_NAMES
 
 __all__ = ["Check", "Analysis"]
 
@@ -39,7 +39,7 @@ class Check:
                 "limit": _num(self.limit), "message": self.message}
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, repr=False)
 class Analysis:
     """Everything the tool says about one stage.
 
@@ -56,6 +56,38 @@ class Analysis:
     checks: tuple[Check, ...]
     monte_carlo: Mapping[str, Any] | None = None
     spread_extra: Mapping[str, Any] = field(default_factory=dict)
+
+    def __repr__(self) -> str:
+        s, f = self.stage, self.nominal
+        failed = ", ".join(c.name for c in self.warnings) or "none"
+        return (f"<Analysis {s.topology} {s.polarity.upper()} {s.supply:g} V: {self.state}, IE {float(f.ie):.4g} A, "
+                f"gain {float(f.gain):.4g}, f_low {float(f.f_low):.4g} Hz; checks not met: {failed}>")
+
+    def to_pandas(self, table: str = "figures"):
+        """A DataFrame: ``table`` "figures" (each figure nominal and at the worst-case ends, SI units),
+        "checks" (one row per check) or "samples" (the Monte Carlo builds, one row each: drawn again
+        from the same seed, so nothing is held in memory meanwhile)."""
+        import pandas as pd
+
+        if table == "figures":
+            w = self.worst
+            rows = [{"figure": n, "nominal": _num(getattr(self.nominal, n)), "worst_low": _num(w.low.get(n)),
+                     "worst_high": _num(w.high.get(n))} for n in NUMERIC_FIELDS if n in w.low]
+            return pd.DataFrame(rows, columns=["figure", "nominal", "worst_low", "worst_high"]).set_index("figure")
+        if table == "checks":
+            cols = ["name", "kind", "ok", "value", "limit", "unit", "message"]
+            return pd.DataFrame([{c: getattr(ch, c) for c in cols} for ch in self.checks], columns=cols)
+        if table == "samples":
+            if not self.monte_carlo:
+                raise ValueError("no Monte Carlo builds: analyse with monte_carlo=N first")
+            from . import monte_carlo_sample
+
+            sample = monte_carlo_sample(self.stage, self.conditions, self.monte_carlo["samples"],
+                                        self.monte_carlo["seed"])
+            data = {n: getattr(sample, n) for n in NUMERIC_FIELDS}
+            data["state"] = [STATE_NAMES[int(x)] for x in sample.state]
+            return pd.DataFrame(data)
+        raise ValueError(f"table must be 'figures', 'checks' or 'samples', not {table!r}")
 
     @property
     def state(self) -> str:

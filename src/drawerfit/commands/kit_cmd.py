@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import click
 
-from ..kit.result import RATING_UNIT, how_made, part_text
+from ..kits.result import RATING_UNIT, how_made, part_text
 from ..parts import UNIT_OF_KIND
 from ..texttable import text_table
 from ..values import format_si

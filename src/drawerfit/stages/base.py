@@ -12,6 +12,7 @@ from ..constants import (
 )
 from ..parts import SpecError
 from .bjt import TransistorModel
+from .topologies import topology_module
 
 __all__ = ["Part", "Stage", "Conditions", "StageError", "CAPACITOR_ROLES", "RESISTOR_ROLES"]
 
@@ -97,8 +98,6 @@ class Stage:
     load: float | None = None
 
     def __post_init__(self) -> None:
-        from . import topology_module
-
         object.__setattr__(self, "parts", MappingProxyType(dict(self.parts)))
         if self.polarity not in ("npn", "pnp"):
             raise StageError(f"polarity must be 'npn' or 'pnp', not {self.polarity!r}")

@@ -7,7 +7,7 @@ from __future__ import annotations
 
 from collections import Counter
 
-from ..parts import Problem, Stock, StockError
+from ..parts import LineIssue, Stock, StockError
 from .headers import match_header
 from .lines import describe_assumptions, read_sheet
 from ..io.tables import file_checksum, open_table_file
@@ -24,7 +24,7 @@ def load_stock(path: str, *, strict: bool = False) -> Stock:
     lines, problems, warnings = [], [], []
     assumed: Counter = Counter()
     for note in raw.notes:
-        problems.append(Problem(raw.path, None, None, None, "", note.split(": ", 1)[-1], "warning"))
+        problems.append(LineIssue(raw.path, None, None, None, "", note.split(": ", 1)[-1], "warning"))
     for sheet in raw.sheets():
         result = read_sheet(sheet.records, raw.path, sheet.name, len(lines))
         lines.extend(result.lines)

@@ -10,7 +10,7 @@ from dataclasses import dataclass, field
 from typing import Iterable
 
 from .. import constants as K
-from ..parts import Problem, Source, StockLine, parse_pin_order
+from ..parts import LineIssue, Source, StockLine, parse_pin_order
 from ..values import UNIT_SYMBOL, ValueParseError, format_si, implied_unit, parse_quantity, parse_tolerance
 from .headers import Column, find_header, normalise
 from ..io.tables import LongCell, excerpt
@@ -39,7 +39,7 @@ _BARE_NUMBER = re.compile(r"^\s*[+]?(\d+(\.\d*)?|\.\d+)([eE][+-]?\d+)?\s*$")
 @dataclass
 class SheetResult:
     lines: list[StockLine] = field(default_factory=list)
-    problems: list[Problem] = field(default_factory=list)
+    problems: list[LineIssue] = field(default_factory=list)
     assumed: Counter = field(default_factory=Counter)  # (kind, field, default text) -> count
     warnings: list[str] = field(default_factory=list)  # what changes results: shown in every summary
 
@@ -92,7 +92,7 @@ class _Row:
 
     def problem(self, fieldname: str | None, text: object, message: str, severity: str = "error") -> None:
         col = self.cols.get(fieldname) if fieldname else None
-        self.out.problems.append(Problem(self.file, self.sheet, self.number, col.header if col else fieldname,
+        self.out.problems.append(LineIssue(self.file, self.sheet, self.number, col.header if col else fieldname,
                                          excerpt(_text(text)), message, severity))
         if severity == "error":
             self.failed = True
@@ -194,7 +194,7 @@ def read_sheet(records: Iterable[tuple[int, list]], file: str, sheet: str | None
     found = find_header([[None if isinstance(c, LongCell) else c for c in cells] for _n, cells in head])
     if found is None:
         if head:
-            out.problems.append(Problem(file, sheet, None, None, "",
+            out.problems.append(LineIssue(file, sheet, None, None, "",
                                         "no header row found (need at least a value or label column and one more, "
                                         "e.g. 'value' and 'qty'); sheet skipped", "warning"))
         for _ in records:  # the rest of the sheet is not read
@@ -228,7 +228,7 @@ def read_sheet(records: Iterable[tuple[int, list]], file: str, sheet: str | None
         long = [(i, c) for i, c in enumerate(cells) if isinstance(c, LongCell) and i in read_at]
         if long:
             i, c = long[0]
-            out.problems.append(Problem(file, sheet, number, read_at[i], excerpt(c.start),
+            out.problems.append(LineIssue(file, sheet, number, read_at[i], excerpt(c.start),
                                         f"a cell of {c.length:,} characters, over the limit of"
                                         f" {K.MAX_CELL_CHARS:,}; line skipped"))
             continue
@@ -244,7 +244,7 @@ def read_sheet(records: Iterable[tuple[int, list]], file: str, sheet: str | None
         warned = ignored.warnings(out.assumed, "sheet " + repr(sheet) if sheet else None)
         out.warnings.extend(warned)
         if not warned:
-            out.problems.append(Problem(file, sheet, header_number, None, ", ".join(unknown.values()),
+            out.problems.append(LineIssue(file, sheet, header_number, None, ", ".join(unknown.values()),
                                         "columns not recognised and ignored", "warning"))
     return out
 

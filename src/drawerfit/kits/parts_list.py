@@ -16,7 +16,7 @@ from dataclasses import dataclass
 from pathlib import Path
 
 from ..constants import MAX_CELL_CHARS, TOL_CERAMIC, TOL_RESISTOR
-from ..parts import Problem, SpecError, UNIT_OF_KIND, KIND_OF_UNIT
+from ..parts import LineIssue, SpecError, UNIT_OF_KIND, KIND_OF_UNIT
 from ..stock.headers import normalise
 from ..io.tables import LongCell, excerpt
 from ..values import (ValueParseError, format_si, implied_unit, parse_quantity, parse_tolerance,
@@ -102,7 +102,7 @@ class KitLine:
 @dataclass(frozen=True)
 class KitList:
     lines: tuple[KitLine, ...]
-    problems: tuple[Problem, ...]
+    problems: tuple[LineIssue, ...]
     file: str
 
 
@@ -139,7 +139,7 @@ def read_kit_list(path: str) -> KitList:
     if not p.exists():
         raise SpecError(f"{p}: no such parts list")
     lines: list[KitLine] = []
-    problems: list[Problem] = []
+    problems: list[LineIssue] = []
     header: dict[str | None, dict[int, str]] = {}
     header_names: dict[str | None, dict[str, str]] = {}
     seen: dict[str, str] = {}
@@ -151,7 +151,7 @@ def read_kit_list(path: str) -> KitList:
                 cols: dict[int, str] = {}
                 for i, f in fields.items():
                     if f in cols.values():
-                        problems.append(Problem(str(p), sheet, r, str(cells[i]), "",
+                        problems.append(LineIssue(str(p), sheet, r, str(cells[i]), "",
                                                 f"a second {f} column; the first one is used", "warning"))
                         continue
                     cols[i] = f
@@ -165,7 +165,7 @@ def read_kit_list(path: str) -> KitList:
         long = [(f, c) for f, c in row.items() if isinstance(c, LongCell)]
         if long:
             f, c = long[0]
-            problems.append(Problem(str(p), sheet, r, names.get(f, f), c.start + "…",
+            problems.append(LineIssue(str(p), sheet, r, names.get(f, f), c.start + "…",
                                     f"a cell of {c.length:,} characters, over the limit of {MAX_CELL_CHARS:,};"
                                     " line skipped"))
             continue
@@ -174,7 +174,7 @@ def read_kit_list(path: str) -> KitList:
             continue
         dup = [d for d in line.designators if d.upper() in seen]
         if dup:
-            problems.append(Problem(str(p), sheet, r, names.get("designators"), ", ".join(dup),
+            problems.append(LineIssue(str(p), sheet, r, names.get("designators"), ", ".join(dup),
                                     f"designator listed twice (first at {seen[dup[0].upper()]})"))
             continue
         for d in line.designators:
@@ -188,7 +188,7 @@ def read_kit_list(path: str) -> KitList:
 
 def _read_line(file, sheet, r, row, names, problems) -> KitLine | None:
     def bad(field: str, text, why: str) -> None:
-        problems.append(Problem(file, sheet, r, names.get(field, field), "" if text is None else excerpt(text), why))
+        problems.append(LineIssue(file, sheet, r, names.get(field, field), "" if text is None else excerpt(text), why))
 
     value_text = row.get("value", "")
     if str(value_text).strip() == "":

@@ -1,0 +1,21 @@
+"""The topologies drawerfit models, each a module that knows its roles and circuit elements."""
+
+from __future__ import annotations
+
+from types import ModuleType
+
+from . import common_emitter, follower
+
+__all__ = ["TOPOLOGIES", "topology_module"]
+
+TOPOLOGIES = (follower.NAME, common_emitter.NAME)
+_MODULES = {follower.NAME: follower, common_emitter.NAME: common_emitter}
+
+
+def topology_module(topology: str) -> ModuleType:
+    """The module that knows a topology's roles and circuit (StageError for an unknown one)."""
+    if topology not in _MODULES:
+        from .base import StageError
+
+        raise StageError(f"topology must be one of {', '.join(TOPOLOGIES)}, not {topology!r}")
+    return _MODULES[topology]

@@ -144,7 +144,7 @@ class Stock:
         return tuple(line for line in self.lines if line.kind == kind)
 
     def __repr__(self) -> str:
-        counts = ", ".join(f"{len(self.of_kind(k))} {k}s" for k in KINDS if self.of_kind(k))
+        counts = ", ".join(f"{n} {k}{'s' if n != 1 else ''}" for k in KINDS if (n := len(self.of_kind(k))))
         skipped = sum(1 for p in self.problems if p.severity == "error")
         where = f" from {self.files[0]}" if self.files else ""
         return (f"<Stock{where}: {len(self.lines)} lines ({counts or 'none'}), {skipped} skipped, "

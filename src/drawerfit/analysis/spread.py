@@ -103,7 +103,7 @@ def worst_case_by_signs(
     ``all_active`` is False also where the centre of the box is not active.
     Costs (k + 1) + 2·(figures) DC evaluations for k parameters, against 2**k.
 
-    Measured against ``worst_case`` (tests/test_stages_core.py): IE and VCE agree exactly for
+    Measured against ``worst_case`` (tests/analysis/test_core.py): IE and VCE agree exactly for
     both stages; the other figures are not monotone in every parameter (R2 raises IE, so re
     falls, but lowers the divider's impedance; VCE falls as RC grows while RC∥RL rises) and
     differ by up to a few percent.  A search that uses this to prune should confirm its final

@@ -174,7 +174,7 @@ def read_kit_list(path: str) -> KitList:
             continue
         dup = [d for d in line.designators if d.upper() in seen]
         if dup:
-            problems.append(LineIssue(str(p), sheet, r, names.get("designators"), ", ".join(dup),
+            problems.append(LineIssue(str(p), sheet, r, names.get("designators"), excerpt(", ".join(dup)),
                                     f"designator listed twice (first at {seen[dup[0].upper()]})"))
             continue
         for d in line.designators:

@@ -244,7 +244,7 @@ def read_sheet(records: Iterable[tuple[int, list]], file: str, sheet: str | None
         warned = ignored.warnings(out.assumed, "sheet " + repr(sheet) if sheet else None)
         out.warnings.extend(warned)
         if not warned:
-            out.problems.append(LineIssue(file, sheet, header_number, None, ", ".join(unknown.values()),
+            out.problems.append(LineIssue(file, sheet, header_number, None, excerpt(", ".join(unknown.values())),
                                         "columns not recognised and ignored", "warning"))
     return out
 

@@ -15,7 +15,7 @@ from click.testing import CliRunner
 
 from drawerfit.cli import main
 
-DATA = Path(__file__).resolve().parent / "data" / "report"
+DATA = Path(__file__).resolve().parents[1] / "data" / "report"
 DRAWER = b"kind,value,qty,location\nresistor,4k7,12,A1\n"
 
 

@@ -25,7 +25,7 @@ from drawerfit.io import take as take_mod
 from drawerfit.cli import main
 from drawerfit.io.take import TakeError, log_path, lock_path, take, undo
 
-SRC = str(Path(__file__).resolve().parents[1] / "src")
+SRC = str(Path(__file__).resolve().parents[2] / "src")
 
 # Three spellings of one small drawer: (file name, bytes, delimiter)
 VARIANTS = {

@@ -209,7 +209,7 @@ def test_examples_in_the_docs_and_samples_load():
     import tomllib
     from pathlib import Path
 
-    root = Path(__file__).resolve().parents[1]
+    root = Path(__file__).resolve().parents[2]
     doc = (root / "docs" / "spec-format.md").read_text(encoding="utf-8")
     blocks = [b for b in re.findall(r"```toml\n(.*?)```", doc, flags=re.S) if "topology" in b]
     assert blocks

@@ -343,7 +343,7 @@ def test_sample_parts_list_against_the_sample_workbook(tmp_path):
 
     from openpyxl import load_workbook
 
-    root = Path(__file__).resolve().parents[1] / "inventory_samples"
+    root = Path(__file__).resolve().parents[2] / "inventory_samples"
     stock = tmp_path / "teaching_lab.xlsx"
     shutil.copy(root / "teaching_lab.xlsx", stock)
     before = stock.read_bytes()

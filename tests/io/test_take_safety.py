@@ -26,7 +26,7 @@ from drawerfit.cli import main
 from drawerfit.io.take_history import history, undo_takes
 from drawerfit.io.take import TakeError, lock_path, log_path, take, undo
 
-SRC = str(Path(__file__).resolve().parents[1] / "src")
+SRC = str(Path(__file__).resolve().parents[2] / "src")
 DRAWER = b"kind,value,qty,location\nresistor,4k7,12,A1\nresistor,10k,5,A2\n"
 
 

@@ -80,7 +80,7 @@ def test_design_spec_is_refused_by_analyze(tmp_path):
 
 
 def test_analyze_help_does_not_load_heavy_libraries():
-    src = str(Path(__file__).resolve().parents[1] / "src")
+    src = str(Path(__file__).resolve().parents[2] / "src")
     code = ("import sys; from drawerfit.cli import main\n"
             "try:\n    main(['analyze', '--help'])\nexcept SystemExit:\n    pass\n"
             "heavy = [m for m in ('numpy', 'scipy', 'pandas', 'ortools', 'matplotlib', 'openpyxl') if m in sys.modules]\n"

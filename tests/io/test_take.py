@@ -23,7 +23,8 @@ from click.testing import CliRunner
 
 from drawerfit.io import take as take_mod
 from drawerfit.cli import main
-from drawerfit.io.take import TakeError, log_path, lock_path, take, undo
+from drawerfit.io.take import TakeError, log_path, lock_path, take
+from drawerfit.io.take_history import undo
 
 SRC = str(Path(__file__).resolve().parents[2] / "src")
 

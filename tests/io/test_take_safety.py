@@ -23,8 +23,8 @@ import pytest
 from click.testing import CliRunner
 
 from drawerfit.cli import main
-from drawerfit.io.take_history import history, undo_takes
-from drawerfit.io.take import TakeError, lock_path, log_path, take, undo
+from drawerfit.io.take import TakeError, lock_path, log_path, take
+from drawerfit.io.take_history import history, undo, undo_takes
 
 SRC = str(Path(__file__).resolve().parents[2] / "src")
 DRAWER = b"kind,value,qty,location\nresistor,4k7,12,A1\nresistor,10k,5,A2\n"
@@ -277,7 +277,7 @@ def test_an_interrupted_undo_leaves_the_take_in_the_file(tmp_path):
     stock = tmp_path / "drawer.csv"
     stock.write_bytes(DRAWER)
     take(_kit(tmp_path, DRAWER, [(2, 3)]), stock)
-    script = ("import os\nos.replace = lambda a, b: os._exit(9)\nfrom drawerfit.io.take import undo\n"
+    script = ("import os\nos.replace = lambda a, b: os._exit(9)\nfrom drawerfit.io.take_history import undo\n"
               f"undo({str(stock)!r})\n")
     proc = subprocess.run([sys.executable, "-c", script], env={**os.environ, "PYTHONPATH": SRC},
                           capture_output=True, timeout=120)

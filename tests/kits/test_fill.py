@@ -357,7 +357,8 @@ def test_sample_parts_list_against_the_sample_workbook(tmp_path):
         assert p["count"] <= ws.cell(row=p["source"]["row"], column=qty_col + 1).value
     kit = tmp_path / "kit.json"
     kit.write_text(json.dumps(doc), encoding="utf-8")
-    from drawerfit.io.take import take, undo
+    from drawerfit.io.take import take
+    from drawerfit.io.take_history import undo
 
     take(kit, stock)
     after = load_workbook(stock, data_only=True)

@@ -32,8 +32,8 @@ from ..parts import StockError
 from .tables import file_checksum  # the same checksum the loader records in Stock.checksum
 
 __all__ = ["PickEntry", "TakePlan", "Change", "TakeResult", "read_pick_list", "plan_take", "take",
-           "undo", "log_path", "lock_path", "file_checksum", "pick_entries", "TakeError",
-           "read_log", "history", "take_picks", "PickList"]
+           "log_path", "lock_path", "file_checksum", "pick_entries", "TakeError",
+           "take_picks", "PickList"]
 
 
 class TakeError(StockError):
@@ -420,22 +420,3 @@ def take_picks(pick: PickList, stock_file: str | os.PathLike, *, units: int | No
         return TakeResult(plan, str(backup), str(log_path(target)), entry["checksum_after"], notes=notes)
     finally:
         lock.release()
-
-
-def undo(stock_file: str | os.PathLike, *, dry_run: bool = False) -> TakeResult:
-    """Reverse the last take that reached the stock file (see ``history.undo_takes``)."""
-    from .take_history import undo_takes
-
-    return undo_takes(stock_file, dry_run=dry_run)[-1]
-
-
-def read_log(stock_file: str | os.PathLike) -> list[dict]:
-    from .take_history import read_log as _read_log
-
-    return _read_log(stock_file)
-
-
-def history(stock_file: str | os.PathLike):
-    from .take_history import history as _history
-
-    return _history(stock_file)

@@ -23,7 +23,7 @@ from .files import stamp
 from .take import (Change, TakeError, TakePlan, TakeResult, _new_bytes, _read, commit, file_checksum, locked,
                    log_path, target_of)
 
-__all__ = ["TakeRecord", "read_log", "history", "undo_takes"]
+__all__ = ["TakeRecord", "read_log", "history", "undo_takes", "undo"]
 
 
 @dataclass(frozen=True)
@@ -220,3 +220,8 @@ def _undo_bytes(target: Path, t: dict, data: bytes, current: str) -> tuple[bytes
         raise TakeError(f"{target}: cannot rebuild the file as it was before the take of {_when(t)}; nothing"
                         " changed")
     return rebuilt, changes, ["the backup was missing or altered; the old quantities were written back instead"]
+
+
+def undo(stock_file, *, dry_run: bool = False) -> TakeResult:
+    """Reverse the last take that reached the stock file (``undo_takes`` for several)."""
+    return undo_takes(stock_file, dry_run=dry_run)[-1]

@@ -67,11 +67,12 @@ def hot_parts(analysis, fraction: float = POWER_DERATING) -> tuple[str, ...]:
     A part with no known rating counts as hot from the most common small rating on (0.25 W for
     a resistor, common practice), and a transistor without PD from 0.5 W.
     """
+    from .analysis.core import POWER_FIGURE
     from .constants import POWER_RESISTOR
 
     stage, worst = analysis.stage, analysis.worst
     names = []
-    for role, attr in (("R1", "p_r1"), ("R2", "p_r2"), ("RE", "p_re"), ("RC", "p_rc"), ("RE2", "p_re2")):
+    for role, attr in POWER_FIGURE.items():
         part = stage.parts.get(role)
         if part is None:
             continue

@@ -6,14 +6,12 @@ import numpy as np
 
 from ..constants import STIFF_DIVIDER_FACTOR
 from ..values import format_si
-from .core import ACTIVE, CUTOFF, SATURATED
+from .core import ACTIVE, CAP_FIGURE, CUTOFF, POWER_FIGURE, SATURATED
 from .result import Check
 from .targets import Targets, target_margins
 
 __all__ = ["stage_checks", "CAP_FIGURE", "POWER_FIGURE"]
 
-POWER_FIGURE = {"R1": "p_r1", "R2": "p_r2", "RE": "p_re", "RC": "p_rc", "RE2": "p_re2"}
-CAP_FIGURE = {"C1": "v_c1", "C2": "v_c2", "CE": "v_ce"}
 
 
 def _ends(stage, role: str) -> tuple[str, str]:

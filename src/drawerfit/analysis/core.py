@@ -32,33 +32,9 @@ names=None, **nominal) -> WorstCase``
 ``monte_carlo(n, *, seed, tolerances, hfe_min, hfe_max, temp_min, temp_max, **nominal) -> Figures``
     ``n`` seeded random builds of one nominal stage, evaluated in one vectorised call.
 
-Units are SI base units: ohm, farad, volt, ampere, watt, hertz, and °C for temperatures.
-Conventions:
-
-* ``rl = np.inf`` means no load; ``rs = 0`` an ideal source; ``re2 = 0`` no second emitter
-  resistor; ``ce = 0`` no bypass capacitor.  ``rc`` and ``re2`` are ignored by the follower.
-* Node voltages (``vb``, ``ve``, ``vc``) are to ground for both polarities.  Currents (``ie``,
-  ``ic``, ``ib``) and ``vce`` are magnitudes (``vce`` is VEC for a PNP stage), positive when the
-  transistor conducts.  The PNP stage is the mirror image on the same positive supply: it is
-  solved as the NPN stage in voltages measured down from the supply, with R1 and R2 swapped.
-* Capacitor DC voltages (``v_c1``, ``v_c2``, ``v_ce``) are signed: the voltage of the stage-side
-  end minus the other end (C1: base minus source; C2: emitter or collector minus load; CE: the
-  RE/RE2 junction minus the rail RE2 returns to).  Positive means a polarized capacitor's + end
-  goes to the stage side.  Source and load are taken as ground-referenced at DC.
-* ``state``: ``ACTIVE`` (0), ``SATURATED`` (1), ``CUTOFF`` (2).  Outside the active region the
-  small-signal figures have no meaning; ``gain`` and ``swing_peak`` are 0 there and ``rin`` is
-  the divider alone.
-* ``swing_limit``: ``LIMIT_CUTOFF`` (0) or ``LIMIT_SATURATION`` (1), whichever bounds the
-  symmetric peak; ``LIMIT_NONE`` (-1) outside the active region.  ``swing_up`` is the room at
-  the output away from the emitter's rail (upward for NPN, downward for PNP), ``swing_down``
-  toward it; ``swing_peak`` = max(0, min of the two) when active.
-* Powers ``p_r1``, ``p_r2``, ``p_re``, ``p_rc``, ``p_re2``, ``p_q`` are quiescent, in W.
-
-Model: Ebers-Moll transistor without Early effect, base resistance or junction capacitance;
-IC = hFE·IB; VBE fixed (``vbe`` at 25 °C) or, when ``i_sat`` is given, from the diode law
-IC = IS·(exp(VBE/VT) − 1) at 25 °C; either way VBE drifts by ``vbe_tempco`` per °C away from
-25 °C.  Small signal: re = VT/IE at ``temp_c``, rπ = (β+1)·re, gm = IC/VT.  The high-frequency
-end is out of scope.
+Units are SI base units (ohm, farad, volt, ampere, watt, hertz; °C for temperatures); the
+conventions (node voltages to ground, signed capacitor voltages, states and swing limits) and the
+transistor model are documented in ``analysis.dc``, where the figures are computed.
 """
 
 from __future__ import annotations
@@ -70,7 +46,7 @@ from __future__ import annotations
 
 from .dc import (  # noqa: F401
     ACTIVE, CUTOFF, LIMIT_CUTOFF, LIMIT_NAMES, LIMIT_NONE, LIMIT_SATURATION, POLARITIES,
-    SATURATED, STATE_NAMES, TOPOLOGIES, DCFigures, evaluate_dc, parallel as _par)
+    SATURATED, STATE_NAMES, TOPOLOGIES, CAP_FIGURE, POWER_FIGURE, DCFigures, evaluate_dc, parallel as _par)
 from .response import (  # noqa: F401
     CAP_KEYS as _CAP_KEYS, NUMERIC_FIELDS, Corners, Figures, _Kernel, _Magnitude,
     _own_corners, _with_corners, evaluate, low_corner, meets_corner, transfer)
@@ -83,5 +59,5 @@ __all__ = [
     "DCFigures", "Corners", "Figures", "WorstCase",
     "evaluate_dc", "low_corner", "meets_corner", "evaluate", "transfer", "worst_case",
     "worst_case_by_signs", "monte_carlo",
-    "TOLERANCE_KEYS", "NUMERIC_FIELDS",
+    "TOLERANCE_KEYS", "NUMERIC_FIELDS", "POWER_FIGURE", "CAP_FIGURE",
 ]

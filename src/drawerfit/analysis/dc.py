@@ -42,7 +42,8 @@ import numpy as np
 from ..constants import NOMINAL_TEMP_C, VBE_DEFAULT, VBE_TEMPCO, VCE_SAT_DEFAULT, thermal_voltage
 
 __all__ = ["ACTIVE", "SATURATED", "CUTOFF", "STATE_NAMES", "LIMIT_NONE", "LIMIT_CUTOFF", "LIMIT_SATURATION",
-           "LIMIT_NAMES", "TOPOLOGIES", "POLARITIES", "DCFigures", "evaluate_dc", "parallel"]
+           "LIMIT_NAMES", "TOPOLOGIES", "POLARITIES", "DCFigures", "evaluate_dc", "parallel", "POWER_FIGURE",
+           "CAP_FIGURE"]
 
 ACTIVE, SATURATED, CUTOFF = 0, 1, 2
 STATE_NAMES = {ACTIVE: "active", SATURATED: "saturated", CUTOFF: "cut-off"}
@@ -50,6 +51,9 @@ LIMIT_NONE, LIMIT_CUTOFF, LIMIT_SATURATION = -1, 0, 1
 LIMIT_NAMES = {LIMIT_NONE: "none", LIMIT_CUTOFF: "cut-off", LIMIT_SATURATION: "saturation"}
 TOPOLOGIES = ("emitter-follower", "common-emitter")
 POLARITIES = ("npn", "pnp")
+# The figure of each role: the power a resistor dissipates, the DC voltage across a capacitor.
+POWER_FIGURE = {"R1": "p_r1", "R2": "p_r2", "RE": "p_re", "RC": "p_rc", "RE2": "p_re2"}
+CAP_FIGURE = {"C1": "v_c1", "C2": "v_c2", "CE": "v_ce"}
 
 
 

@@ -6,7 +6,7 @@ import math
 from dataclasses import dataclass, field
 from typing import Any, Mapping
 
-from .core import LIMIT_NAMES, NUMERIC_FIELDS, STATE_NAMES
+from .core import LIMIT_NAMES, NUMERIC_FIELDS, POWER_FIGURE, STATE_NAMES
 
 __all__ = ["Check", "Analysis"]
 
@@ -106,8 +106,7 @@ class Analysis:
     def power(self) -> dict[str, float]:
         f = self.nominal
         out = {}
-        for role, attr in (("R1", "p_r1"), ("R2", "p_r2"), ("RE", "p_re"), ("RC", "p_rc"),
-                           ("RE2", "p_re2")):
+        for role, attr in POWER_FIGURE.items():
             if role in self.stage.parts:
                 out[role] = float(getattr(f, attr))
         out["Q1"] = float(f.p_q)

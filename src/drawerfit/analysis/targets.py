@@ -11,6 +11,8 @@ from typing import Mapping
 
 import numpy as np
 
+from .dc import CAP_FIGURE, POWER_FIGURE
+
 __all__ = ["Targets", "IE_WINDOW", "target_margins", "rating_margins"]
 
 # When a spec gives one IE, the window is ±10 % around it: our own default, wide enough for 5 %
@@ -95,8 +97,6 @@ def target_margins(targets: Targets, low: Mapping[str, np.ndarray],
     return out
 
 
-_POWER = {"R1": "p_r1", "R2": "p_r2", "RE": "p_re", "RC": "p_rc", "RE2": "p_re2"}
-_CAPV = {"C1": "v_c1", "C2": "v_c2", "CE": "v_ce"}
 
 
 def rating_margins(low: Mapping[str, np.ndarray], high: Mapping[str, np.ndarray], *, conditions,
@@ -117,7 +117,7 @@ def rating_margins(low: Mapping[str, np.ndarray], high: Mapping[str, np.ndarray]
     out: dict[str, np.ndarray] = {}
     for role, rating in (power_ratings or {}).items():
         limit = np.asarray(rating, float) * conditions.resistor_derating
-        out[f"{role} power"] = (limit - high[_POWER[role]]) / limit
+        out[f"{role} power"] = (limit - high[POWER_FIGURE[role]]) / limit
     if pd is not None:
         limit = np.asarray(pd, float) * conditions.transistor_derating
         out["Q1 power"] = (limit - high["p_q"]) / limit
@@ -128,12 +128,12 @@ def rating_margins(low: Mapping[str, np.ndarray], high: Mapping[str, np.ndarray]
         i = np.asarray(ic_max, float)
         out["Q1 IC max"] = (i - 2.0 * high["ic"]) / i
     for role, rating in (voltage_ratings or {}).items():
-        attr = _CAPV[role]
+        attr = CAP_FIGURE[role]
         v = np.maximum(np.abs(low[attr]), np.abs(high[attr]))
         limit = np.asarray(rating, float) * conditions.cap_voltage_margin
         out[f"{role} voltage"] = (limit - v) / limit
     for role, flag in (polarized or {}).items():
-        attr = _CAPV[role]
+        attr = CAP_FIGURE[role]
         one_sign = (np.sign(low[attr]) == np.sign(high[attr])) & (low[attr] != 0)
         out[f"{role} polarity"] = np.where(np.asarray(flag, bool) & ~one_sign, -1.0, 1.0)
     return out

@@ -6,15 +6,13 @@ from pathlib import Path
 
 import click
 
-from ..analysis.checks import POWER_FIGURE
-from ..parts import NoDesignError, SearchLimitError, SpecError
+from ..analysis.core import POWER_FIGURE
+from ..parts import UNIT_OF_KIND, NoDesignError, SearchLimitError, SpecError
 from ..results import binding, code as _code, pick_list
 from ..values import format_percent, format_si
 from .common import emit_json, rating_text
 
 __all__ = ["run_design", "run_demo"]
-
-_UNIT = {"resistor": "ohm", "capacitor": "F"}
 
 
 # --- text for people ----------------------------------------------------------------------------
@@ -42,7 +40,7 @@ def _print_choice(result, spec, analysis, cautions, quiet: bool) -> None:
         else:
             dis = ""
         parts = ", ".join(f"{_code(m.value, kind)} [{m.location or '-'}; row {m.source.row}]" for m in eq.members)
-        click.echo(f"  {role:4} {format_si(eq.value, _UNIT[kind], 4):>9}  {eq.describe() if eq.part_count > 1 else eq.arrangement:15}"
+        click.echo(f"  {role:4} {format_si(eq.value, UNIT_OF_KIND[kind], 4):>9}  {eq.describe() if eq.part_count > 1 else eq.arrangement:15}"
                    f" {c.tolerance * 100:4.1f}% {rating_text(kind, c.rating):>7} {dis:>9}  {parts}")
         if c.orientation:
             # the words of the stage's own polarity check, as `analyze` prints them

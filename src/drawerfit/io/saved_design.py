@@ -237,7 +237,6 @@ SAVED_HEADER = """A stage designed by drawerfit (docs/spec-format.md, "Saved des
 significant digits and [exact] at the end keeps the number the design was judged with; change
 the text and drawerfit reads your text instead."""
 
-_UNIT = {"resistor": "ohm", "capacitor": "F"}
 _TARGET_UNITS = {"ie_min": "A", "ie_max": "A", "f_low": "Hz", "swing": "V", "rin_min": "ohm", "rout_max": "ohm"}
 
 
@@ -246,7 +245,7 @@ def design_tree(result, stock_file: str | None = None) -> dict:
     attached, as ``drawerfit.design`` returns it); numbers are ``readable_toml.Value``s."""
     import os
 
-    from ..parts import pin_order_text
+    from ..parts import UNIT_OF_KIND, pin_order_text
     from ..results import pick_list, source_dict
     from ..stages.physical import designators
     from .readable_toml import Value as V
@@ -281,7 +280,7 @@ def design_tree(result, stock_file: str | None = None) -> dict:
     doc["transistor"] = tr
     parts = {}
     for role, c in best.roles.items():
-        unit = _UNIT[c.equivalent.kind]
+        unit = UNIT_OF_KIND[c.equivalent.kind]
         entry = {"value": V(c.equivalent.value, unit, code=True), "tolerance": V(c.tolerance, "%"),
                  "rating": V(c.rating, "W" if unit == "ohm" else "V")}
         if c.equivalent.kind == "capacitor":
@@ -298,7 +297,7 @@ def design_tree(result, stock_file: str | None = None) -> dict:
     roles = {}
     for role, ch in best.roles.items():
         eq = ch.equivalent
-        unit = _UNIT[eq.kind]
+        unit = UNIT_OF_KIND[eq.kind]
         rating_unit = "W" if unit == "ohm" else "V"
         members = []
         for name, mm in zip(designators(role, len(eq.members)), eq.members):

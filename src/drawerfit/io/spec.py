@@ -15,14 +15,11 @@ from typing import Any, Mapping
 
 from ..constants import TOL_CERAMIC, TOL_ELECTROLYTIC, TOL_RESISTOR
 from ..parts import SpecError
+from ..stages.topologies import TOPOLOGY_ROLES
 from ..values import ValueParseError, parse_tolerance, parse_value, parse_value_and_tolerance
 
 __all__ = ["Spec", "load_spec", "parse_spec", "POLARIZED_FROM"]
 
-TOPOLOGY_ROLES = {
-    "emitter-follower": ("R1", "R2", "RE", "C1", "C2"),
-    "common-emitter": ("R1", "R2", "RE", "RC", "RE2", "C1", "C2", "CE"),
-}
 # A capacitor whose polarity the spec leaves open is taken as an electrolytic from 1 µF up:
 # coupling and bypass capacitors that large are usually aluminium electrolytics (common
 # practice, no source).  Erring this way shows the + end rather than hiding it.

@@ -22,11 +22,17 @@ TARGET_WORDS = {
     "rin_min": "input impedance at least", "rout_max": "output impedance at most",
     "gain_min": "gain magnitude at least", "gain_max": "gain magnitude at most",
 }
-# Nominal figure beside each check, where there is one (analysis.core field names).
-_NOMINAL_OF = {"ie_min": "ie", "ie_max": "ie", "f_low": "f_low", "swing": "swing_peak", "rin_min": "rin",
-               "rout_max": "rout", "R1 power": "p_r1", "R2 power": "p_r2", "RE power": "p_re",
-               "RC power": "p_rc", "RE2 power": "p_re2", "Q1 power": "p_q", "C1 voltage": "v_c1",
-               "C2 voltage": "v_c2", "CE voltage": "v_ce"}
+# Nominal figure beside each target check, where there is one (analysis.core field names); the
+# ratings' figures are the core's POWER_FIGURE and CAP_FIGURE.
+_NOMINAL_OF_TARGET = {"ie_min": "ie", "ie_max": "ie", "f_low": "f_low", "swing": "swing_peak", "rin_min": "rin",
+                      "rout_max": "rout"}
+
+
+def _nominal_of() -> dict[str, str]:
+    from ..analysis.core import CAP_FIGURE, POWER_FIGURE
+
+    return {**_NOMINAL_OF_TARGET, **{f"{r} power": a for r, a in POWER_FIGURE.items()}, "Q1 power": "p_q",
+            **{f"{r} voltage": a for r, a in CAP_FIGURE.items()}}
 
 
 @dataclass(frozen=True)
@@ -94,8 +100,7 @@ def gather(design: DesignFile, *, monte_carlo: int = 2000, seed: int = 0,
     """Analyse the design's stage; ``monte_carlo`` seeded random builds (0: none) for the spread."""
     import numpy as np
 
-    from ..analysis import analyse
-    from ..analysis import core
+    from ..analysis import analyse, monte_carlo_sample
     from ..analysis.targets import Targets, target_margins
     from ..cautions import cautions_for
 
@@ -107,11 +112,7 @@ def gather(design: DesignFile, *, monte_carlo: int = 2000, seed: int = 0,
     if monte_carlo > 0:
         on_step(note=f"Monte Carlo, {monte_carlo} builds")
         # The same draws as analyse() made (same seed, same tolerances): the samples themselves.
-        t = stage.transistor
-        tolerances = {k: v for k, v in stage.tolerances().items() if k in core.TOLERANCE_KEYS}
-        mc = core.monte_carlo(int(monte_carlo), seed=seed, tolerances=tolerances, hfe_min=t.hfe_min,
-                              hfe_max=t.hfe_max, temp_min=cond.ambient_min, temp_max=cond.ambient_max,
-                              **stage.core_arguments())
+        mc = monte_carlo_sample(stage, cond, monte_carlo, seed)
     # the core's worst case takes the lowest corner with every capacitor at its high end
     lowest_f_low = float(analysis.worst.low["f_low"])
     margins = {}
@@ -120,11 +121,12 @@ def gather(design: DesignFile, *, monte_carlo: int = 2000, seed: int = 0,
             targets, dict(analysis.worst.low), dict(analysis.worst.high)).items()}
     nominal = analysis.nominal
     checks = []
+    nominal_of = _nominal_of()
     for c in analysis.checks:
         key = c.name.removeprefix("target ") if c.kind == "target" else c.name
         nom = None
-        if key in _NOMINAL_OF:
-            nom = float(getattr(nominal, _NOMINAL_OF[key]))
+        if key in nominal_of:
+            nom = float(getattr(nominal, nominal_of[key]))
             if key.endswith(" voltage"):
                 nom = abs(nom)
         elif key in ("gain_min", "gain_max"):

@@ -12,6 +12,7 @@ from typing import Mapping
 NAME = "common-emitter"
 REQUIRED = ("R1", "R2", "RE", "RC", "C1", "C2")
 OPTIONAL = ("RE2", "CE")
+ROLES = ("R1", "R2", "RE", "RC", "RE2", "C1", "C2", "CE")  # every role, in the order specs and reports list them
 OUTPUT_NODE = "c"
 
 

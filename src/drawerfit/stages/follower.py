@@ -11,6 +11,7 @@ from typing import Mapping
 NAME = "emitter-follower"
 REQUIRED = ("R1", "R2", "RE", "C1", "C2")
 OPTIONAL: tuple[str, ...] = ()
+ROLES = ("R1", "R2", "RE", "C1", "C2")  # every role, in the order specs and reports list them
 OUTPUT_NODE = "e"
 
 

@@ -6,10 +6,11 @@ from types import ModuleType
 
 from . import common_emitter, follower
 
-__all__ = ["TOPOLOGIES", "topology_module"]
+__all__ = ["TOPOLOGIES", "TOPOLOGY_ROLES", "topology_module"]
 
 TOPOLOGIES = (follower.NAME, common_emitter.NAME)
 _MODULES = {follower.NAME: follower, common_emitter.NAME: common_emitter}
+TOPOLOGY_ROLES = {name: module.ROLES for name, module in _MODULES.items()}
 
 
 def topology_module(topology: str) -> ModuleType:

@@ -19,9 +19,9 @@ from typing import Sequence
 
 import numpy as np
 
+from ..allocation.bins import draw_bins
 from ..equivalents import Equivalent, EquivalentIndex, EquivalentTable
 from ..parts import StockLine
-from ..allocation.bins import draw_bins
 from .pools import Pools, covers_key
 
 DEFAULT_WINDOW = 0.01  # ±1 % when the user gives no --within; see docs/method.md

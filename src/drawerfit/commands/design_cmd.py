@@ -105,7 +105,10 @@ def design_json(result, spec, analysis=None, cautions=()) -> dict:
         near = result.nearest
         out = {"feasible": False, "units": problem.units, "reason": result.reason,
                "nearest": None, "buy": [_buy_json(b) for b in result.buy], "buy_checked": result.buy_checked,
-               "buy_proven": result.buy_proven, "buy_design": None, "notes": list(result.notes),
+               "buy_proven": result.buy_proven, "buy_note": result.buy_note,
+               "limits": [{"constraint": lm.constraint, "transistor": lm.transistor or None, "text": lm.text,
+                           "reachable": lm.reachable, "asked": lm.asked} for lm in result.limits],
+               "buy_design": None, "notes": list(result.notes),
                "search": search_json(result)}
         if result.buy_design is not None:
             out["buy_design"] = {"transistor": result.buy_design.transistor.label,
@@ -125,7 +128,8 @@ def design_json(result, spec, analysis=None, cautions=()) -> dict:
     out = {
         "feasible": True, "status": result.status, "units": problem.units, "part_count": best.part_count,
         "guarantee": problem.guarantee, "prefer": problem.prefer,
-        "objective": {"part_count": best.part_count, "distance": best.distance, "margin": _finite(best.margin),
+        "objective": {"part_count": best.part_count, "smallest_margin": _finite(best.margin),
+                      "distance": best.distance, "margin": _finite(best.margin),
                       "fewest_left": _finite(best.stock_left), "capacitance": best.csum},
         "transistor": {"label": tr.label, "location": tr.location, "source": _src(tr), "polarity": tr.polarity,
                        "hfe_min": tr.hfe_min, "hfe_max": tr.hfe_max, "vceo": tr.vceo, "ic_max": tr.ic_max,
@@ -136,6 +140,7 @@ def design_json(result, spec, analysis=None, cautions=()) -> dict:
             "target_margins": {k: _finite(v) for k, v in best.target_margins.items()},
             "rating_margins": {k: _finite(v) for k, v in best.rating_margins.items()},
             "binding": binding(best),
+            "swing_headroom": _finite(swing_headroom(problem, best)),
             "low": {k: _finite(float(wc.low[k])) for k in ("ie", "ve", "vce", "rin", "rout", "swing_peak", "f_low")}
             if wc is not None else None,
             "high": {k: _finite(float(wc.high[k])) for k in ("ie", "ve", "vce", "rin", "rout", "swing_peak", "f_low")}
@@ -168,6 +173,14 @@ def _buy_json(b: dict) -> dict:
     return {"kind": b["kind"], "value": b["value"], "code": _code(b["value"], b["kind"]),
             "tolerance": b["tolerance"], ("power" if b["kind"] == "resistor" else "voltage"): b["rating"],
             "polarized": b["polarized"], "per_unit": b["per_unit"], "count": b["count"], "roles": b["roles"]}
+
+
+def swing_headroom(problem, choice) -> float | None:
+    """Volts of output peak the design has at its worst beyond the swing target (None: no target)."""
+    m = choice.target_margins.get("swing")
+    if problem.targets.swing is None or m is None or not math.isfinite(m):
+        return None
+    return m * problem.targets.swing
 
 
 def binding(choice, n: int = 3) -> list[dict]:
@@ -297,9 +310,16 @@ def _print_choice(result, spec, analysis, cautions, quiet: bool) -> None:
             how = check.message if check is not None else c.orientation.replace("+ to", "fit the + end toward")
             click.echo(f"       polarized: {how}")
     click.echo("")
-    click.echo("Binding constraints (smallest worst-case margins):")
-    for b in binding(best):
-        click.echo(f"  {b['name']}: {b['margin']:+.1%}")
+    click.echo("Worst-case margins (the search makes the smallest as large as the drawer allows):")
+    for name, m in sorted(best.target_margins.items(), key=lambda kv: kv[1]):
+        if math.isfinite(m):
+            click.echo(f"  {name}: {m:+.1%}")
+    ratings = sorted((m, k) for k, m in best.rating_margins.items() if math.isfinite(m))[:2]
+    if ratings:
+        click.echo("  ratings, the closest: " + ", ".join(f"{k} {m:+.1%}" for m, k in ratings))
+    headroom = swing_headroom(problem, best)
+    if headroom is not None:
+        click.echo(f"  swing headroom: {headroom:.3g} V beyond the {problem.targets.swing:g} V peak asked for")
     if not quiet and analysis is not None:
         click.echo("")
         click.echo("Stage figures (nominal, and worst case over tolerances, hFE and ambient):")
@@ -356,12 +376,8 @@ def _print_infeasible(result) -> None:
         if ch is not None:
             vals = ", ".join(f"{r}={c.equivalent.describe()}" for r, c in ch.roles.items())
             click.echo(f"  the design they are for ({ch.transistor.label}): {vals}")
-    elif result.buy_proven:
-        click.echo("No purchase of standard parts (E24 resistors, E12 capacitors), each filling a role alone, "
-                   "makes it feasible.")
-    else:
-        click.echo("No purchase of standard parts (E24 resistors, E12 capacitors) was found that makes it feasible "
-                   "(not proven: a search stopped at its budget).")
+    elif result.buy_note:
+        click.echo(result.buy_note[0].upper() + result.buy_note[1:] + ".")
     for n in result.notes:
         click.echo(f"note: {n}", err=True)
 
@@ -399,7 +415,8 @@ def run_design(spec_file: str, stock_file: str, *, units: int = 1, max_parts: in
         if limited:
             raise SearchLimitError("no design was found before the search's work budget ran out; "
                                    "that none exists is not proven (exit status 5)")
-        raise NoDesignError(result.reason)
+        # the reason is on stdout already (text or JSON); stderr says only what the status means
+        raise NoDesignError("no design in the drawer meets the spec (exit status 3)")
     analysis = _analysis(problem, spec, result.best)
     cautions = cautions_for(analysis, mains=spec.mains)
     if as_json:

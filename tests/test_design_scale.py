@@ -229,3 +229,64 @@ def test_progress_names_the_sets_examined_and_the_best_so_far():
     assert r.feasible
     assert any("resistor sets" in n for n in notes if n)
     assert any("best so far 5 parts" in n for n in notes if n)  # the answer has 5 parts
+
+
+@settings(max_examples=10, **SETTINGS)
+@given(values=st.lists(st.sampled_from([1.0, 1.5, 2.2, 3.3, 4.7, 6.8]), min_size=4, max_size=4),
+       decades=st.lists(st.integers(3, 4), min_size=4, max_size=4),
+       caps=st.lists(st.sampled_from([1e-6, 4.7e-6, 10e-6, 47e-6]), min_size=2, max_size=3, unique=True),
+       window=st.sampled_from([0.3, 0.6]))
+def test_chosen_design_has_the_largest_smallest_margin(values, decades, caps, window):
+    # Oracle: every single-part design of a small drawer judged by the analysis engine's own worst
+    # case (analysis.core.worst_case: vertex enumeration with the capacitors at their low ends, the
+    # whole-stage corner by root search) and its margin rules (analysis.targets); the feasible ones
+    # with the fewest parts, and among them the largest smallest margin over every target and
+    # rating.  The search's choice must have that margin.
+    import itertools as it
+
+    from drawerfit.analysis import core
+    from drawerfit.analysis.targets import Targets, rating_margins, target_margins
+    from drawerfit.stages import Conditions
+
+    lines = [make_line(i, "resistor", m * 10 ** e, qty=9, tol=0.05) for i, (m, e) in enumerate(zip(values, decades))]
+    lines += [make_line(len(lines) + k, "capacitor", c, qty=9, tol=0.2, polarized=True, rating=25.0)
+              for k, c in enumerate(caps)]
+    lines.append(transistor(len(lines)))
+    stock = Stock(lines=tuple(lines))
+    ie = 1e-3
+    targets = DesignTargets(ie_min=ie * (1 - window), ie_max=ie * (1 + window), f_low=20.0)
+    p = DesignProblem("emitter-follower", "npn", 12.0, targets, load=10e3, source_resistance=600.0, max_parts=1)
+    got = design(p, stock, suggest=False)
+    res = [ln for ln in lines if ln.kind == "resistor"]
+    cap = [ln for ln in lines if ln.kind == "capacitor"]
+    combos = list(it.product(res, res, res, cap, cap))
+    arr = lambda f: np.array([f(c) for c in combos], float)  # noqa: E731
+    kw = dict(topology="emitter-follower", polarity="npn", supply=12.0, rs=600.0, rl=10e3, vbe=0.65, vce_sat=0.2,
+              r1=arr(lambda c: c[0].value), r2=arr(lambda c: c[1].value), re=arr(lambda c: c[2].value),
+              c1=arr(lambda c: c[3].value), c2=arr(lambda c: c[4].value))
+    tols = {"r1": 0.05, "r2": 0.05, "re": 0.05, "c1": 0.2, "c2": 0.2}
+    cond = Conditions()
+    wc = core.worst_case(tolerances=tols, hfe_min=100, hfe_max=300, temp_min=cond.ambient_min,
+                         temp_max=cond.ambient_max, **kw)
+    tm = target_margins(Targets(**targets.given()), wc.low, wc.high)
+    rm = rating_margins(wc.low, wc.high, conditions=cond, supply=12.0, power_ratings={"R1": 0.25, "R2": 0.25,
+                                                                                      "RE": 0.25},
+                        voltage_ratings={"C1": 25.0, "C2": 25.0}, polarized={"C1": True, "C2": True},
+                        pd=0.5, vceo=40.0, ic_max=0.2)
+    allm = np.stack([np.broadcast_to(np.nan_to_num(np.asarray(a, float), nan=-np.inf), (len(combos),))
+                     for a in list(tm.values()) + list(rm.values())])
+    mu = np.min(allm, axis=0)
+    feasible = wc.all_active & (mu >= 0)
+    if not feasible.any():
+        event("no design")
+        assert not got.feasible
+        return
+    assert got.feasible
+    best = float(np.max(mu[feasible]))
+    ch = got.best
+    k = next(i for i, c in enumerate(combos)
+             if all(c[j].index == ch.roles[r].equivalent.members[0].index
+                    for j, r in enumerate(("R1", "R2", "RE", "C1", "C2"))))
+    event("corner binds" if np.argmin(allm[:, k]) == list(tm).index("f_low") else "another binds")
+    assert feasible[k]
+    assert mu[k] == pytest.approx(best, rel=1e-6, abs=1e-9)

@@ -14,7 +14,7 @@ import math
 from .parts import UNIT_OF_KIND, pin_order_text
 from .values import format_code, format_percent, format_si
 
-__all__ = ["design_repr", "design_dict", "design_frame", "design_analysis", "pick_list", "part_name",
+__all__ = ["design_repr", "design_dict", "swing_headroom", "design_frame", "design_analysis", "pick_list", "part_name",
            "binding", "search_dict", "source_dict"]
 
 # figures of the worst-case box the dict carries, low and high
@@ -125,6 +125,14 @@ def _buy_dict(b: dict) -> dict:
             "polarized": b["polarized"], "per_unit": b["per_unit"], "count": b["count"], "roles": b["roles"]}
 
 
+def swing_headroom(problem, choice) -> float | None:
+    """Volts of output peak the design has at its worst beyond the swing target (None: no target)."""
+    m = choice.target_margins.get("swing")
+    if problem.targets.swing is None or m is None or not math.isfinite(m):
+        return None
+    return m * problem.targets.swing
+
+
 def binding(choice, n: int = 3) -> list[dict]:
     """The constraints with the smallest worst-case margins (those that decide the design)."""
     allm = [(m, k) for k, m in {**choice.target_margins, **choice.rating_margins}.items() if math.isfinite(m)]
@@ -147,7 +155,10 @@ def _infeasible_dict(result) -> dict:
     problem, near = result.problem, result.nearest
     out = {"feasible": False, "units": problem.units, "reason": result.reason,
            "nearest": None, "buy": [_buy_dict(b) for b in result.buy], "buy_checked": result.buy_checked,
-           "buy_proven": result.buy_proven, "buy_design": None, "notes": list(result.notes),
+           "buy_proven": result.buy_proven, "buy_note": result.buy_note,
+           "limits": [{"constraint": lm.constraint, "transistor": lm.transistor or None, "text": lm.text,
+                       "reachable": lm.reachable, "asked": lm.asked} for lm in result.limits],
+           "buy_design": None, "notes": list(result.notes),
            "search": search_dict(result)}
     if result.buy_design is not None:
         out["buy_design"] = {"transistor": result.buy_design.transistor.label,
@@ -183,7 +194,8 @@ def design_dict(result, analysis=None, cautions=None) -> dict:
     return {
         "feasible": True, "status": result.status, "units": problem.units, "part_count": best.part_count,
         "guarantee": problem.guarantee, "prefer": problem.prefer,
-        "objective": {"part_count": best.part_count, "distance": best.distance, "margin": _finite(best.margin),
+        "objective": {"part_count": best.part_count, "smallest_margin": _finite(best.margin),
+                      "distance": best.distance, "margin": _finite(best.margin),
                       "fewest_left": _finite(best.stock_left), "capacitance": best.csum},
         "transistor": {"label": tr.label, "location": tr.location, "source": source_dict(tr), "polarity": tr.polarity,
                        "hfe_min": tr.hfe_min, "hfe_max": tr.hfe_max, "vceo": tr.vceo, "ic_max": tr.ic_max,
@@ -194,6 +206,7 @@ def design_dict(result, analysis=None, cautions=None) -> dict:
             "target_margins": {k: _finite(v) for k, v in best.target_margins.items()},
             "rating_margins": {k: _finite(v) for k, v in best.rating_margins.items()},
             "binding": binding(best),
+            "swing_headroom": _finite(swing_headroom(problem, best)),
             "low": {k: _finite(float(wc.low[k])) for k in _WORST_FIGURES},
             "high": {k: _finite(float(wc.high[k])) for k in _WORST_FIGURES},
         },

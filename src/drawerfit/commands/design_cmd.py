@@ -2,13 +2,14 @@
 
 from __future__ import annotations
 
+import math
 from pathlib import Path
 
 import click
 
 from ..analysis.core import POWER_FIGURE
 from ..parts import UNIT_OF_KIND, NoDesignError, SearchLimitError, SpecError
-from ..results import binding, code as _code, pick_list
+from ..results import code as _code, pick_list, swing_headroom
 from ..values import format_percent, format_si
 from .common import emit_json, rating_text
 
@@ -48,9 +49,16 @@ def _print_choice(result, spec, analysis, cautions, quiet: bool) -> None:
             how = check.message if check is not None else c.orientation.replace("+ to", "fit the + end toward")
             click.echo(f"       polarized: {how}")
     click.echo("")
-    click.echo("Binding constraints (smallest worst-case margins):")
-    for b in binding(best):
-        click.echo(f"  {b['name']}: {b['margin']:+.1%}")
+    click.echo("Worst-case margins (the search makes the smallest as large as the drawer allows):")
+    for name, m in sorted(best.target_margins.items(), key=lambda kv: kv[1]):
+        if math.isfinite(m):
+            click.echo(f"  {name}: {m:+.1%}")
+    ratings = sorted((m, k) for k, m in best.rating_margins.items() if math.isfinite(m))[:2]
+    if ratings:
+        click.echo("  ratings, the closest: " + ", ".join(f"{k} {m:+.1%}" for m, k in ratings))
+    headroom = swing_headroom(problem, best)
+    if headroom is not None:
+        click.echo(f"  swing headroom: {headroom:.3g} V beyond the {problem.targets.swing:g} V peak asked for")
     if not quiet and analysis is not None:
         click.echo("")
         click.echo("Stage figures (nominal, and worst case over tolerances, hFE and ambient):")
@@ -107,12 +115,8 @@ def _print_infeasible(result) -> None:
         if ch is not None:
             vals = ", ".join(f"{r}={c.equivalent.describe()}" for r, c in ch.roles.items())
             click.echo(f"  the design they are for ({ch.transistor.label}): {vals}")
-    elif result.buy_proven:
-        click.echo("No purchase of standard parts (E24 resistors, E12 capacitors), each filling a role alone, "
-                   "makes it feasible.")
-    else:
-        click.echo("No purchase of standard parts (E24 resistors, E12 capacitors) was found that makes it feasible "
-                   "(not proven: a search stopped at its budget).")
+    elif result.buy_note:
+        click.echo(result.buy_note[0].upper() + result.buy_note[1:] + ".")
     for n in result.notes:
         click.echo(f"note: {n}", err=True)
 
@@ -145,7 +149,8 @@ def run_design(spec_file: str, stock_file: str, *, units: int = 1, max_parts: in
         if limited:
             raise SearchLimitError("no design was found before the search's work budget ran out; "
                                    "that none exists is not proven (exit status 5)")
-        raise NoDesignError(result.reason)
+        # the reason is on stdout already (text or JSON); stderr says only what the status means
+        raise NoDesignError("no design in the drawer meets the spec (exit status 3)")
     analysis = design_analysis(result)
     cautions = cautions_for(analysis, mains=spec.mains)
     if as_json:

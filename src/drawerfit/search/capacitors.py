@@ -7,7 +7,7 @@ makes the best capacitors for one resistor set a small problem: with the objecti
 order (bought parts, the smallest rating margin, the fewest parts left after the build, total
 capacitance, the stock lines used), the two "smallest" terms are found by thresholds (a level is
 reachable exactly when the largest candidate of each role that meets it passes the corner), and
-the total capacitance by walking the staircase of the up-set's lower boundary (``_least_sum``),
+the total capacitance by walking the staircase of the up-set's lower boundary (``least_sum``),
 so the corner is evaluated on about n₁·(n₂ + n₃) combinations instead of n₁·n₂·n₃.  The stock
 terms are relaxed to each role alone; the answer is then checked with the parts of all roles
 together (``Pools``), and in the rare case that sharing a line changes it, the shape is decided
@@ -17,11 +17,12 @@ by the plain enumeration (``complete_naive``), which is also what ``--exhaustive
 from __future__ import annotations
 
 import itertools
-from dataclasses import dataclass, fields
+from dataclasses import dataclass
 
 import numpy as np
 
 from ..analysis import core
+from .corner import CornerTest, least_sum, take_dc
 from .evaluate import Context, bypasses, cap_margin, stacked_dc, vertex_dc
 from .pools import Pools
 from .tables import RoleTable
@@ -30,9 +31,10 @@ __all__ = ["CapSide", "Completion", "take_dc", "HUGE_CAP_FACTOR", "CAP_TRIPLE_MA
 
 HUGE_CAP_FACTOR = 10.0
 CAP_TRIPLE_MAX = 2_000_000  # capacitor triples built at most; beyond, shapes with them are not searched
-CORNER_BLOCK = 1 << 18  # (vertex, combination) pairs of one corner evaluation
-SMALL_CORNER = 1 << 13  # below this many (vertex, combination) pairs, every vertex is evaluated at once
+CEILING_BLOCK = 1 << 17  # (vertex, set) pairs of one margin-ceiling evaluation
 NAIVE_MAX = 4096  # a shape with at most this many combinations is simply enumerated
+CORNER_SLACK = 1e-6  # the corner test at a margin's threshold is loosened by this much (above the root
+# search's 1e-7), and the exact margins of what passes are then computed and compared
 
 
 @dataclass(frozen=True)
@@ -46,20 +48,7 @@ class Completion:
     stock_left: float
     csum: float
     cap_margins: dict
-
-
-def take_dc(dc, idx):
-    """The DCFigures ``dc`` indexed by ``idx`` (arrays and the broadcast inputs alike)."""
-    vals = {}
-    for f in fields(dc):
-        a = getattr(dc, f.name)
-        if f.name == "inputs":
-            vals[f.name] = {k: (np.asarray(x)[idx] if isinstance(x, np.ndarray) and x.ndim else x)
-                            for k, x in a.items()}
-        else:
-            vals[f.name] = a[idx]
-    return type(dc)(**vals)
-
+    corner_margin: float = np.inf  # (f_low − worst-case corner)/f_low
 
 def _bought(parts, virtual) -> np.ndarray:
     """Parts per design taken from lines that are only shopping suggestions."""
@@ -67,54 +56,6 @@ def _bought(parts, virtual) -> np.ndarray:
     for m, c in parts:
         tot = tot + np.sum(np.where(m >= 0, virtual[np.maximum(m, 0)] * c, 0), axis=1)
     return np.asarray(tot)
-
-
-class _Corner:
-    """The corner test of one resistor set, vertex by vertex: a combination is dropped at the
-    first vertex it fails, and the vertices are visited hardest first."""
-
-    def __init__(self, ctx: Context, dcs):
-        self.ctx = ctx
-        self.f = ctx.problem.targets.f_low
-        self.dcs = dcs
-        self.n_v = dcs.ie.shape[0]
-        self.order = list(range(self.n_v))
-        self._stacks: dict = {}
-
-    def rank(self, caps) -> None:
-        """Order the vertices by how close one combination (the largest) comes to failing there."""
-        with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-            mag = core._Magnitude(self.dcs, caps["C1"], caps["C2"], caps.get("CE", 0.0))
-            r = np.asarray(mag((2 * np.pi * self.f) ** 2) / self.dcs.gain ** 2).reshape(self.n_v, -1)
-        worst = np.nan_to_num(np.min(r, axis=1), nan=-np.inf)
-        self.order = [int(v) for v in np.argsort(worst, kind="stable")]
-
-    def ok(self, caps) -> np.ndarray:
-        """True where the corner is at or below f_low at every vertex (caps: role -> (n,) values):
-        the hardest vertex first, then the others at once for what passed it."""
-        n = len(caps["C1"])
-        alive = np.arange(n)
-        first, rest = self.order[:1], self.order[1:]
-        for group in ((self.order,) if n * self.n_v <= SMALL_CORNER else (first, rest)):
-            if not len(alive) or not group:
-                continue
-            for c0 in range(0, len(alive), max(1, CORNER_BLOCK // len(group))):
-                part = alive[c0:c0 + max(1, CORNER_BLOCK // len(group))]
-                dc = self._stack(group)
-                sub = {r: a[part][None, :] for r, a in caps.items()}
-                m = core.meets_corner(dc, c1=sub["C1"], c2=sub["C2"], ce=sub.get("CE", 0.0), f_target=self.f)
-                bad = part[~np.all(m, axis=0)]
-                if len(bad):
-                    alive = np.setdiff1d(alive, bad, assume_unique=True)
-        out = np.zeros(n, bool)
-        out[alive] = True
-        return out
-
-    def _stack(self, group):
-        key = tuple(group)
-        if key not in self._stacks:
-            self._stacks[key] = take_dc(self.dcs, (np.asarray(group), slice(None)))
-        return self._stacks[key]
 
 
 class _Role:
@@ -227,9 +168,10 @@ class CapSide:
 
     # --- bounds ----------------------------------------------------------------------------------
 
-    def may_complete(self, T, idx) -> np.ndarray:
-        """False where even the largest capacitors each role may take miss the corner at the vertex
-        of highest IE (a necessary condition, one evaluation instead of the whole box)."""
+    def may_complete(self, T, idx, floor: float = 0.0) -> np.ndarray:
+        """False where even the largest capacitors each role may take miss the corner (at the margin
+        ``floor``: at f_low·(1 − floor)) at the vertex of highest IE (a necessary condition, one
+        evaluation instead of the whole box)."""
         ctx = self.ctx
         n = len(idx[ctx.res_roles[0]])
         if not self.shapes:
@@ -241,8 +183,32 @@ class CapSide:
         tol = {r: T[r].tol[idx[r]] for r in ctx.res_roles}
         dc = vertex_dc(ctx, ctx.vertices[0], v, tol)
         dc1 = take_dc(dc, (None,))
-        m = core.meets_corner(dc1, c1=top["C1"], c2=top["C2"], ce=top.get("CE", 0.0), f_target=ctx.problem.targets.f_low)
+        m = core.meets_corner(dc1, c1=top["C1"], c2=top["C2"], ce=top.get("CE", 0.0),
+                              f_target=ctx.problem.targets.f_low * (1 - floor))
         return np.all(m, axis=0)
+
+    def margin_ceiling(self, batch, positions: np.ndarray) -> np.ndarray:
+        """An upper bound on the corner margin each set at ``positions`` can have: the margin with the
+        largest judged capacitor each role may take (ratings ignored), worst over the box, since
+        every corner falls as any capacitance grows (−inf: no capacitors can reach the corner)."""
+        ctx = self.ctx
+        n = len(positions)
+        if not n or not self.shapes:
+            return np.full(n, -np.inf)
+        top = {r: max(self._top_low(r, c) for c in {s[r] for s in self.shapes}) for r in ctx.cap_roles}
+        if not all(top.values()):
+            return np.full(n, -np.inf)
+        f = self.ctx.problem.targets.f_low
+        out = np.empty(n)
+        step = max(1, CEILING_BLOCK // max(1, len(ctx.vertices)))
+        for c0 in range(0, n, step):
+            pos = positions[c0:c0 + step]
+            dcs = self._dcs(batch, pos)
+            with np.errstate(invalid="ignore"):
+                corner = core.low_corner(dcs, c1=top["C1"], c2=top["C2"], ce=top.get("CE", 0.0)).f_low
+            worst = np.max(np.where(np.isnan(corner), np.inf, corner), axis=0)
+            out[c0:c0 + step] = (f - worst) / f
+        return out
 
     def _dcs(self, batch, pos):
         ctx = self.ctx
@@ -251,8 +217,9 @@ class CapSide:
         tol = {r: T[r].tol[batch.idx[r][pos]] for r in ctx.res_roles}
         return stacked_dc(ctx, v, tol)
 
-    def lower_bounds(self, batch, positions: np.ndarray) -> np.ndarray:
-        """Fewest capacitor parts each set at ``positions`` could need (inf: no capacitors can do).
+    def lower_bounds(self, batch, positions: np.ndarray, floor: float = 0.0) -> np.ndarray:
+        """Fewest capacitor parts each set at ``positions`` could need for margins of at least
+        ``floor`` (inf: no capacitors can do).
 
         Per role and count, the largest low end whose rating suits the node (for triples, three
         times the largest single part); the corner falls as any capacitance grows, so if those miss
@@ -264,7 +231,8 @@ class CapSide:
         if not n or not self.shapes:
             return lb
         dcs = self._dcs(batch, positions)
-        margin = ctx.problem.conditions.cap_voltage_margin
+        margin = ctx.problem.conditions.cap_voltage_margin * (1 - floor)
+        f_target = ctx.problem.targets.f_low * (1 - floor)
         best = {}
 
         def top(role, c, only_plenty, need, polar_ok):
@@ -309,15 +277,17 @@ class CapSide:
                 has = np.all(np.stack([caps[r] > 0 for r in ctx.cap_roles]), axis=0)
                 m = core.meets_corner(sub, c1=np.where(has, caps["C1"], 1e-30), c2=np.where(has, caps["C2"], 1e-30),
                                       ce=np.where(has, caps["CE"], 1e-30) if "CE" in caps else 0.0,
-                                      f_target=ctx.problem.targets.f_low)
+                                      f_target=f_target)
                 ok |= np.all(m, axis=0) & has
             lb[todo[ok]] = pc
         return lb
 
     # --- completion --------------------------------------------------------------------------------
 
-    def _roles(self, batch, pos, dcs, corner: _Corner | None, bounds: bool) -> dict:
-        """{(role, count): _Role} of the candidates that pass the checks on the role alone."""
+    def _roles(self, batch, pos, dcs, corner: CornerTest | None, bounds: bool, floor: float = 0.0) -> dict:
+        """{(role, count): _Role} of the candidates that pass the checks on the role alone, with a
+        voltage margin of at least ``floor`` (and, with ``bounds``, a corner margin of at least it
+        when the other capacitors are huge)."""
         ctx = self.ctx
         margin = ctx.problem.conditions.cap_voltage_margin
         out = {}
@@ -330,7 +300,7 @@ class CapSide:
                         self.skipped = True
                     continue
                 m = cap_margin(lo_v, hi_v, t.rating, t.polarized, margin)
-                ok = m >= 0
+                ok = m >= floor
                 low = self._low(t)
                 if role == "CE" and ok.any():
                     # a bypass capacitor must bypass in the band: its own corner at or below f_low
@@ -341,16 +311,18 @@ class CapSide:
                     sel = np.flatnonzero(ok)
                     caps = {r: np.full(len(sel), self.huge) for r in ctx.cap_roles}
                     caps[role] = low[sel]
-                    ok[sel] = corner.ok(caps)
+                    ok[sel] = corner.ok(caps, ctx.problem.targets.f_low * (1 - floor))
                 sel = np.flatnonzero(ok)
                 nb = _bought([(t.members[sel], t.counts[sel])], self.virtual)
                 out[(role, c)] = _Role(t, sel, low[sel], t.v[sel], m[sel], nb, self)
         return out
 
-    def _key(self, batch, pos, shape, chosen: dict, roles: dict, left: float | None = None):
+    def _key(self, batch, pos, shape, chosen: dict, roles: dict, left: float | None = None,
+             cm: float | None = None):
         """The exact completion of one combination (role -> position in its _Role), or None when the
         drawer cannot give the parts of all roles together (``left``: already known to be drawable,
-        with that many parts left)."""
+        with that many parts left; ``cm``: its corner margin, if known).  Key: (bought, parts, −μ,
+        −parts left, ΣC, lines) with μ the smallest margin of the set and the capacitors."""
         ctx = self.ctx
         rs = {r: roles[(r, shape[r])] for r in ctx.cap_roles}
         if left is None:
@@ -360,53 +332,56 @@ class CapSide:
             if not ok[0]:
                 return None
             left = float(lf[0])
+        if cm is None:
+            cm = float(self._corner.margin({r: rs[r].low[[chosen[r]]] for r in ctx.cap_roles})[0])
         nb = int(sum(rs[r].nb[chosen[r]] for r in ctx.cap_roles))
-        mc = min(float(rs[r].m[chosen[r]]) for r in ctx.cap_roles)
-        m_all = min(mc, float(batch.ev.margin_r[pos]))
+        mc = min([float(rs[r].m[chosen[r]]) for r in ctx.cap_roles] + [cm])
+        mu = min(mc, float(batch.ev.mu[pos]))
         s_all = min(left, float(batch.stock_left[pos]))
         csum = float(np.sum(np.stack([rs[r].v[[chosen[r]]] for r in ctx.cap_roles]), axis=0)[0])
         canon = tuple(rs[r].table.key(int(rs[r].idx[chosen[r]])) for r in ctx.cap_roles)
         n_parts = sum(shape.values())
-        key = (nb, n_parts, -m_all, -s_all, csum, canon)
+        key = (nb, n_parts, -mu, -s_all, csum, canon)
         comp = Completion(caps={r: (rs[r].table, int(rs[r].idx[chosen[r]])) for r in ctx.cap_roles}, pc=n_parts,
                           bought=nb, margin_c=mc, stock_left=left, csum=csum,
-                          cap_margins={r: float(rs[r].m[chosen[r]]) for r in ctx.cap_roles})
+                          cap_margins={r: float(rs[r].m[chosen[r]]) for r in ctx.cap_roles}, corner_margin=cm)
         return key, comp
 
-    def complete(self, batch, pos: int, pc: int | None) -> Completion | None:
-        """Best capacitors for one resistor set with exactly ``pc`` parts (None: any count)."""
+    def complete(self, batch, pos: int, pc: int | None, floor: float = 0.0) -> Completion | None:
+        """Best capacitors for one resistor set with exactly ``pc`` parts (None: any count), among
+        those whose margins (voltage, corner) are at least ``floor``; None if there are none."""
         ctx = self.ctx
         dcs = self._dcs(batch, np.array([pos]))
-        corner = _Corner(ctx, dcs)
+        corner = self._corner = CornerTest(ctx, dcs)
         corner.rank({r: np.array([self.huge]) for r in ctx.cap_roles})
-        roles = self._roles(batch, pos, dcs, corner, bounds=True)
+        roles = self._roles(batch, pos, dcs, corner, bounds=True, floor=floor)
         best = None
         for shape in self.shapes:
             if pc is not None and sum(shape.values()) != pc:
                 continue
             if any((r, shape[r]) not in roles or not len(roles[(r, shape[r])]) for r in ctx.cap_roles):
                 continue
-            got = self._best_in_shape(batch, pos, shape, roles, corner)
+            got = self._best_in_shape(batch, pos, shape, roles, corner, floor)
             if got is not None and (best is None or got[0] < best[0]):
                 best = got
         return None if best is None else best[1]
 
-    def _best_in_shape(self, batch, pos, shape, roles, corner: _Corner):
+    def _best_in_shape(self, batch, pos, shape, roles, corner: CornerTest, floor: float = 0.0):
         """The best combination of one shape: thresholds, the staircase, then the check with the
         parts of all roles together (the plain enumeration when that check changes the answer)."""
         ctx = self.ctx
         names = ctx.cap_roles
         rs = {r: roles[(r, shape[r])] for r in names}
         if int(np.prod([len(rs[r]) for r in names])) <= NAIVE_MAX:
-            return self._naive_shape(batch, pos, shape, roles, corner)
-        m_r, s_r = float(batch.ev.margin_r[pos]), float(batch.stock_left[pos])
+            return self._naive_shape(batch, pos, shape, roles, corner, floor)
+        m_r, s_r = float(batch.ev.mu[pos]), float(batch.stock_left[pos])
         nb_levels = sorted(set(itertools.product(*(np.unique(rs[r].nb).tolist() for r in names))), key=sum)
         found = None
         for nbv in nb_levels:
             if found is not None and sum(nbv) > found[0][0]:
                 break
             sub = {r: rs[r].take(rs[r].nb == nb) for r, nb in zip(names, nbv)}
-            got = self._relaxed_best(sub, m_r, s_r, corner)
+            got = self._relaxed_best(sub, m_r, s_r, corner, floor)
             if got is None:
                 continue
             key_relaxed, combos = got
@@ -418,54 +393,89 @@ class CapSide:
                     exact.append(k)
             best = min(exact, key=lambda kc: kc[0]) if exact else None
             if best is None or best[0][:5] != (sum(nbv), sum(shape.values())) + key_relaxed:
-                return self._naive_shape(batch, pos, shape, roles, corner)
+                return self._naive_shape(batch, pos, shape, roles, corner, floor)
             if found is None or best[0] < found[0]:
                 found = best
         return found
 
-    def _relaxed_best(self, rs: dict, m_r: float, s_r: float, corner: _Corner):
-        """((−θ, −σ, Σv), combos): the best relaxed key over combinations of ``rs`` (stock judged
-        role by role) and every combination (role -> position) that reaches it; None: none passes."""
+    def _relaxed_best(self, rs: dict, m_r: float, s_r: float, corner: CornerTest, floor: float = 0.0):
+        """((−μ, −σ, Σv), combos): the best relaxed key over combinations of ``rs`` (stock judged
+        role by role) and every combination (role -> position) that may reach it; None: none passes.
+
+        μ is the smallest of the set's own margin ``m_r``, the capacitors' voltage margins and the
+        corner margin.  For a level L of the voltage margins, the candidates meeting it are C(L), and
+        the best corner margin among their combinations is that of the largest candidate of each
+        role, cm(L), non-decreasing as L falls; so μ* = max over levels of min(L, cm(L)), found by
+        bisection.  The combinations reaching it are those of C(μ*) whose corner passes at
+        f_low·(1 − μ*) (its own corner margin is then checked exactly by the caller)."""
         names = list(rs)
         if any(not len(rs[r]) for r in names):
             return None
+        f_low = corner.f
+        loose = 1 + CORNER_SLACK
         mq = {r: np.minimum(rs[r].m, m_r) for r in names}
         sq = {r: np.minimum(rs[r].left, s_r) for r in names}
+
+        def tops(mask):
+            return {r: np.array([rs[r].low[mask[r]].max()]) for r in names}
+
+        levels = np.unique(np.concatenate([mq[r] for r in names]))[::-1]
+        levels = levels[levels >= floor]
+        if not len(levels):
+            return None
+
+        def at(level):
+            mask = {r: mq[r] >= level for r in names}
+            if any(not mask[r].any() for r in names):
+                return None, -np.inf
+            return mask, float(corner.margin(tops(mask))[0])
+
+        # μ(j) = min(level j, cm(level j)); levels fall with j while cm rises: bisect the crossing
+        lo, hi = 0, len(levels) - 1
+        while lo < hi:
+            mid = (lo + hi) // 2
+            _, cm = at(levels[mid])
+            if cm >= levels[mid]:
+                hi = mid
+            else:
+                lo = mid + 1
+        best_mu = -np.inf
+        for j in {lo - 1, lo}:
+            if 0 <= j < len(levels):
+                _, cm = at(levels[j])
+                best_mu = max(best_mu, min(float(levels[j]), cm))
+        if best_mu < floor:
+            return None
+        base = {r: mq[r] >= best_mu for r in names}
+        f_target = f_low * (1 - best_mu) * loose
 
         def feasible(mask):
             if any(not mask[r].any() for r in names):
                 return False
-            caps = {r: np.array([rs[r].low[mask[r]].max()]) for r in names}
-            return bool(corner.ok(caps)[0])
+            return bool(corner.ok(tops(mask), f_target)[0])
 
-        def highest(values: dict, base: dict) -> float | None:
-            levels = np.unique(np.concatenate([values[r][base[r]] for r in names]))[::-1]
-            lo, hi = 0, len(levels) - 1
-            if not feasible({r: base[r] & (values[r] >= levels[-1]) for r in names}):
-                return None
-            while lo < hi:  # the first (highest) level that is feasible
-                mid = (lo + hi) // 2
-                if feasible({r: base[r] & (values[r] >= levels[mid]) for r in names}):
-                    hi = mid
-                else:
-                    lo = mid + 1
-            return float(levels[lo])
-
-        every = {r: np.ones(len(rs[r]), bool) for r in names}
-        theta = highest(mq, every)
-        if theta is None:
+        if not feasible(base):
             return None
-        at_theta = {r: mq[r] >= theta for r in names}
-        sigma = highest(sq, at_theta)
-        keep = {r: np.flatnonzero(at_theta[r] & (sq[r] >= sigma)) for r in names}
-        total, combos = _least_sum({r: rs[r].low[keep[r]] for r in names}, {r: rs[r].v[keep[r]] for r in names},
-                                   corner)
+        s_levels = np.unique(np.concatenate([sq[r][base[r]] for r in names]))[::-1]
+        lo, hi = 0, len(s_levels) - 1
+        while lo < hi:  # the first (highest) stock level that is feasible
+            mid = (lo + hi) // 2
+            if feasible({r: base[r] & (sq[r] >= s_levels[mid]) for r in names}):
+                hi = mid
+            else:
+                lo = mid + 1
+        sigma = float(s_levels[lo])
+        keep = {r: np.flatnonzero(base[r] & (sq[r] >= sigma)) for r in names}
+        total, combos = least_sum({r: rs[r].low[keep[r]] for r in names}, {r: rs[r].v[keep[r]] for r in names},
+                                   corner, f_target)
         if not combos:
             return None
-        return (-theta, -sigma, total), [{r: int(keep[r][c[r]]) for r in names} for c in combos]
+        return (-best_mu, -sigma, total), [{r: int(keep[r][c[r]]) for r in names} for c in combos]
 
-    def _naive_shape(self, batch, pos, shape, roles, corner: _Corner):
-        """The plain enumeration of one shape's combinations: the exact answer whatever the stock."""
+    def _naive_shape(self, batch, pos, shape, roles, corner: CornerTest, floor: float = 0.0):
+        """The plain enumeration of one shape's combinations: the exact answer whatever the stock.
+        Corner margins (a root search per vertex) are computed only for combinations whose other
+        terms can still beat the best found."""
         ctx = self.ctx
         names = ctx.cap_roles
         rs = {r: roles[(r, shape[r])] for r in names}
@@ -473,13 +483,15 @@ class CapSide:
         total = int(np.prod(sizes))
         best = None
         step = max(1000, 4_000_000 // len(ctx.vertices))
+        f_floor = corner.f * (1 - floor)
+        mu_r = float(batch.ev.mu[pos])
         for s0 in range(0, total, step):
             flat = np.arange(s0, min(total, s0 + step))
             pick = {}
             for r, size in zip(reversed(names), reversed(sizes)):
                 pick[r] = flat % size
                 flat = flat // size
-            ok = corner.ok({r: rs[r].low[pick[r]] for r in names})
+            ok = corner.ok({r: rs[r].low[pick[r]] for r in names}, f_floor)
             if not ok.any():
                 continue
             parts = [(rs[r].members[pick[r]], rs[r].counts[pick[r]]) for r in names]
@@ -488,26 +500,37 @@ class CapSide:
             if not ok.any():
                 continue
             nb = np.sum(np.stack([rs[r].nb[pick[r]] for r in names]), axis=0)
-            mc = np.min(np.stack([rs[r].m[pick[r]] for r in names]), axis=0)
-            m_all = np.minimum(mc, batch.ev.margin_r[pos])
-            s_all = np.minimum(left, batch.stock_left[pos])
+            a = np.minimum(np.min(np.stack([rs[r].m[pick[r]] for r in names]), axis=0), mu_r)
+            s_all = np.minimum(left, float(batch.stock_left[pos]))
             csum = np.sum(np.stack([rs[r].v[pick[r]] for r in names]), axis=0)
             sel = np.flatnonzero(ok)
-            order = np.lexsort((csum[sel], -s_all[sel], -m_all[sel], nb[sel]))
-            first = sel[order[0]]
-            tie = sel[(nb[sel] == nb[first]) & (m_all[sel] == m_all[first]) & (s_all[sel] == s_all[first])
-                      & (csum[sel] == csum[first])]
-            for j in tie:
-                got = self._key(batch, pos, shape, {r: int(pick[r][j]) for r in names}, roles, float(left[j]))
-                if got is not None and (best is None or got[0] < best[0]):
-                    best = got
+            sel = sel[np.lexsort((-a[sel], nb[sel]))]
+            # in blocks, best first by (bought, the margin before the corner's): a block whose first
+            # combination cannot beat the best found ends the chunk; corner margins by blocks
+            for b0 in range(0, len(sel), 512):
+                blk = sel[b0:b0 + 512]
+                k0 = blk[0]
+                if best is not None and (nb[k0], -a[k0]) > (best[0][0], best[0][2]):
+                    break
+                cm = corner.margin({r: rs[r].low[pick[r][blk]] for r in names})
+                mu = np.minimum(a[blk], cm)
+                order = np.lexsort((csum[blk], -s_all[blk], -mu, nb[blk]))
+                first = order[0]
+                tie = order[(nb[blk][order] == nb[blk][first]) & (mu[order] == mu[first])
+                            & (s_all[blk][order] == s_all[blk][first]) & (csum[blk][order] == csum[blk][first])]
+                for t in tie:
+                    k = blk[t]
+                    got = self._key(batch, pos, shape, {r: int(pick[r][k]) for r in names}, roles, float(left[k]),
+                                    float(cm[t]))
+                    if got is not None and (best is None or got[0] < best[0]):
+                        best = got
         return best
 
     def complete_naive(self, batch, pos: int) -> Completion | None:
         """Best capacitors of any count by plain enumeration, with no bound (``--exhaustive``)."""
         ctx = self.ctx
         dcs = self._dcs(batch, np.array([pos]))
-        corner = _Corner(ctx, dcs)
+        corner = self._corner = CornerTest(ctx, dcs)
         roles = self._roles(batch, pos, dcs, corner, bounds=False)
         best = None
         for shape in self.shapes:
@@ -517,88 +540,3 @@ class CapSide:
             if got is not None and (best is None or got[0] < best[0]):
                 best = got
         return None if best is None else best[1]
-
-
-def _least_sum(low: dict, v: dict, corner: _Corner):
-    """(least Σv, every combination reaching it) over combinations that pass the corner.
-
-    The corner passes on an up-set of the judged values ``low``.  Candidates of one role with the
-    same (low, v) are one point; per point of the first role, the lower boundary of the other
-    roles' up-set is walked as a staircase (sorted by low: where a combination passes, the last
-    role's index goes down; where it fails, the middle role's goes up), so that each step is one
-    corner test, vectorised over the first role's points."""
-    names = list(low)
-    pts, members = {}, {}
-    for r in names:
-        arr = np.stack([low[r], v[r]], axis=1)
-        uniq, inv = np.unique(arr, axis=0, return_inverse=True)  # sorted by low, then v
-        pts[r] = uniq
-        members[r] = [np.flatnonzero(inv.reshape(-1) == k) for k in range(len(uniq))]
-    last = names[-1]
-    l3, v3 = pts[last][:, 0], pts[last][:, 1]
-    n3 = len(l3)
-    # the least v over every point at or above position p of the last role (sorted by low)
-    suf = np.minimum.accumulate(v3[::-1])[::-1]
-    firsts = names[:-1]
-    if len(firsts) == 1:
-        # two roles: binary search the last role's threshold for each point of the first
-        a = firsts[0]
-        lo_i = np.zeros(len(pts[a]), np.int64)
-        hi_i = np.full(len(pts[a]), n3, np.int64)  # n3: none passes
-        while True:
-            act = np.flatnonzero(lo_i < hi_i)
-            if not len(act):
-                break
-            mid = (lo_i[act] + hi_i[act]) // 2
-            ok = corner.ok({a: pts[a][act, 0], last: l3[mid]})
-            hi_i[act[ok]] = mid[ok]
-            lo_i[act[~ok]] = mid[~ok] + 1
-        thr = {(int(i),): int(lo_i[i]) for i in range(len(pts[a]))}
-    else:
-        # three roles: for each point of the first, walk the (middle, last) staircase
-        a, b = firsts
-        na, nb_ = len(pts[a]), len(pts[b])
-        p2 = np.zeros(na, np.int64)
-        p3 = np.full(na, n3 - 1, np.int64)
-        live = np.ones(na, bool)
-        thr = {}
-        while live.any():
-            act = np.flatnonzero(live)
-            ok = corner.ok({a: pts[a][act, 0], b: pts[b][p2[act], 0], last: l3[p3[act]]})
-            for i, good in zip(act.tolist(), ok.tolist()):
-                if good:
-                    if p3[i] == 0:  # every later middle point passes with the smallest last point
-                        for j in range(p2[i], nb_):
-                            thr[(i, j)] = 0
-                        live[i] = False
-                    else:
-                        p3[i] -= 1
-                else:
-                    thr[(i, int(p2[i]))] = int(p3[i]) + 1
-                    p2[i] += 1
-                    if p2[i] >= nb_:
-                        live[i] = False
-    best, out = np.inf, []
-    for head, p in thr.items():
-        if p >= n3:
-            continue
-        total = _sum([pts[r][h, 1] for r, h in zip(firsts, head)] + [suf[p]])
-        if total < best:
-            best, out = total, [(head, p)]
-        elif total == best:
-            out.append((head, p))
-    combos = []
-    for head, p in out:
-        heads = [pts[r][h, 1] for r, h in zip(firsts, head)]
-        for q in range(p, n3):
-            if _sum(heads + [v3[q]]) != best:
-                continue
-            lists = [members[r][h] for r, h in zip(firsts, head)] + [members[last][q]]
-            for pick in itertools.product(*lists):
-                combos.append(dict(zip(names, (int(x) for x in pick))))
-    return best, combos
-
-
-def _sum(values) -> float:
-    """Σv the way the objective adds it (role by role, left to right), so that ties are exact."""
-    return float(np.sum(np.stack([np.asarray([x], float) for x in values]), axis=0)[0])

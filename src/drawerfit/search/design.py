@@ -78,6 +78,8 @@ class DesignResult:
     buy_checked: bool = False
     buy_proven: bool = False  # the list is proven to be the fewest parts to buy (docs/method.md)
     buy_design: DesignChoice | None = None  # the design the bought parts are for
+    buy_note: str = ""  # why the list is empty, or why it is not proven the fewest
+    limits: list = field(default_factory=list)  # reasons.Limit: ceilings no passives can lift
     transistors_tried: list = field(default_factory=list)
     stats: dict = field(default_factory=dict)
     # what it was made from, attached by drawerfit.design for the dict form (drawerfit.results)
@@ -161,6 +163,7 @@ def _choice(problem: DesignProblem, ctx: Context, f: Found) -> DesignChoice:
             orient = "+ to the stage side" if lo_v > 0 else "+ to the outer side"
         roles[r] = RoleChoice(r, eq, float(t.tol[i]), float(t.rating[i]), comp.cap_margins[r], orient)
     tm = {k: float(a[pos]) for k, a in b.ev.target.items()}
+    tm["f_low"] = float(comp.corner_margin)
     rm = {k: float(a[pos]) for k, a in b.ev.rating.items()}
     for r, m in comp.cap_margins.items():
         rm[f"{r} voltage"] = m
@@ -168,7 +171,7 @@ def _choice(problem: DesignProblem, ctx: Context, f: Found) -> DesignChoice:
     return DesignChoice(
         transistor=f.transistor, model=ctx.tr, roles={r: roles[r] for r in (*ctx.res_roles, *ctx.cap_roles)},
         part_count=b.pr + comp.pc, distance=float(b.ev.distance[pos]),
-        margin=min(float(b.ev.margin_r[pos]), comp.margin_c),
+        margin=min(float(b.ev.mu[pos]), comp.margin_c),
         stock_left=min(float(b.stock_left[pos]), comp.stock_left), csum=comp.csum,
         bought=int(b.bought[pos]) + comp.bought, target_margins=tm, rating_margins=rm, key=key)
 

@@ -37,7 +37,7 @@ import numpy as np
 
 from ..parts import StockLine
 from .capacitors import CapSide, Completion, _bought
-from .evaluate import Context, evaluate_resistors, nominal_distance
+from .evaluate import Context, evaluate_resistors, nominal_distance, tighten
 from .joins import candidate_sets, role_ranges
 from .pools import Pools
 from .tables import RoleTable, TripleWindow
@@ -50,11 +50,14 @@ JUDGE_CHUNK = 4096
 LB_CHUNK = 256
 KEEP = 200_000  # judged resistor sets one entry keeps at once
 SMALL_SPACE = 4_000_000  # a shape of at most this many sets (before the bounds) is searched in one band
+NONE_MEMO = 500_000  # (set, count) pairs remembered as impossible, so that no band tries them again
 SET_BUDGET = 4_000_000  # resistor sets the searches may enumerate (after the bounds) before they give up proving
 # partial sets the bounds may form and reject on the way (joins.candidate_sets' tally): about twenty
 # seconds of pruning work, for specs whose bounds reject nearly everything but only late
 WORK_BUDGET = 100_000_000
-# the bands of D: a large drawer holds designs within 1e-5 of the centres, a small one at 0.1 to 0.5;
+# the bands of the smallest margin μ (fewest-parts): from 1 down by halves to 2^-12, then to 0
+MU_BANDS = tuple(2.0 ** -k for k in range(0, 13)) + (0.0,)
+# the bands of D (closest): a large drawer holds designs within 1e-5 of the centres, a small one at 0.1 to 0.5;
 # a design's nominal IE lies inside the IE window (IE is monotone in every parameter of the box), so
 # D rarely reaches 1, or √2 with a gain window
 BANDS = (0.0,) + tuple(2.0 ** k for k in range(-16, 1, 2)) + (2.0, np.inf)
@@ -105,7 +108,7 @@ def _judge_sets(ctx: Context, T: Mapping[str, RoleTable], idx: dict[str, np.ndar
         setattr(ev, name, {k: a[sel] for k, a in getattr(ev, name).items()})
     ev.active = ev.active[sel]
     ev.vnode = {r: (a[sel], b[sel]) for r, (a, b) in ev.vnode.items()}
-    ev.distance, ev.margin_r = ev.distance[sel], ev.margin_r[sel]
+    ev.distance, ev.margin_r, ev.mu = ev.distance[sel], ev.margin_r[sel], ev.mu[sel]
     ev.nominal = {k: a[sel] for k, a in ev.nominal.items()}
     bought = _bought([(m[sel], c[sel]) for m, c in parts], virtual)
     return RBatch(dict(T), {r: a[ev.keep] for r, a in idx.items()}, ev, pr, left[sel], bought)
@@ -191,16 +194,12 @@ def _all_sets(T: Mapping[str, RoleTable], roles, chunk: int = 400_000):
 resistor_sets_exhaustive = _all_sets
 
 
-def design_key(prefer: str, b: int, p: int, d: float, m: float, s: float, csum: float, canon: tuple) -> tuple:
-    """The objective as a sortable tuple; ``b`` (parts to buy) is 0 except for shopping searches."""
+def design_key(prefer: str, b: int, p: int, d: float, mu: float, s: float, csum: float, canon: tuple) -> tuple:
+    """The objective as a sortable tuple; ``b`` (parts to buy) is 0 except for shopping searches,
+    ``mu`` the smallest margin of every target and rating."""
     if prefer == "closest":
-        return (b, d, p, -m, -s, csum, canon)
-    return (b, p, d, -m, -s, csum, canon)
-
-
-def _bound_key(prefer: str, b: int, p: int, d: float) -> tuple:
-    # a lower bound sorts before every exact key with the same (B, P, D): the −inf margin term
-    return (b, d, p, -np.inf) if prefer == "closest" else (b, p, d, -np.inf)
+        return (b, d, p, -mu, -s, csum, canon)
+    return (b, p, -mu, d, -s, csum, canon)
 
 
 def _res_canon(batch: RBatch, pos: int, ctx: Context) -> tuple:
@@ -208,7 +207,7 @@ def _res_canon(batch: RBatch, pos: int, ctx: Context) -> tuple:
 
 
 def _found(ctx, b: RBatch, pos: int, comp: Completion, transistor: StockLine, prefer: str) -> Found:
-    m = min(float(b.ev.margin_r[pos]), comp.margin_c)
+    m = min(float(b.ev.mu[pos]), comp.margin_c)
     s = min(float(b.stock_left[pos]), comp.stock_left)
     canon = (transistor.index, _res_canon(b, pos, ctx),
              tuple(t.key(i) for t, i in comp.caps.values()))
@@ -233,6 +232,10 @@ class Search:
     ``budget`` bounds the resistor sets enumerated, ``work_budget`` the partial sets the bounds
     form; past either the search stops and ``stats["truncated"]`` is set, with ``stats["open"]`` the
     bound below which every design has been found.  ``on_step(note=...)`` hears of progress.
+
+    An entry is (transistor, shape, a, b, capacitor count, on the chain): its band runs from its
+    best end a to b: for fewest-parts a band of the smallest margin μ, from μ = a down to b; for
+    closest a band of the distance D, from D = a up to b.
     """
 
     def __init__(self, transistors, rtables, ctables, lines, top: int, *, virtual_ids=(), min_bought: int = 0,
@@ -255,24 +258,57 @@ class Search:
             self.trs.append((tr, ctx, caps, shapes))
         self.stats = {"sets": 0, "work": 0, "judged": 0, "entries": 0, "truncated": False, "open": None}
         self.found: dict[tuple, Found] = {}  # (transistor, resistor set) -> its best design
+        self._best: list = []  # the ``top`` best (key, set) of ``found``, kept as they change
         self._cache: dict = {}
-        self._counts: dict = {}  # (transistor, shape, count) -> sets the last band enumerated
+        self._tight: dict = {}  # (transistor, level) -> the tightened context (``evaluate.tighten``)
+        self._none: set = set()  # (transistor, resistor set, count) that no capacitors of that count complete
 
-    # --- keys ------------------------------------------------------------------------------------
+    # --- keys and bands --------------------------------------------------------------------------
 
-    def _prefer(self, ti: int) -> str:
-        return self.trs[ti][1].problem.prefer
+    def _by_margin(self, ti: int) -> bool:
+        return self.trs[ti][1].problem.prefer != "closest"
 
-    def _bkey(self, ti: int, b: int, p: int, d: float) -> tuple:
-        return _bound_key(self._prefer(ti), max(b, self.min_bought), p, d)
+    def _bkey(self, ti: int, b: int, p: int, best_end: float, d: float = -np.inf) -> tuple:
+        """The bound of designs with ``b`` bought, ``p`` parts, and margin at most / distance at least
+        ``best_end`` (by margin, ``d``: their distance, when it is known)."""
+        b = max(b, self.min_bought)
+        if self._by_margin(ti):
+            return (b, p, -best_end, d)
+        return (b, best_end, p, -np.inf)
+
+    def _bands(self, ti: int):
+        return MU_BANDS if self._by_margin(ti) else BANDS
+
+    def _next(self, ti: int, x: float) -> float:
+        if self._by_margin(ti):
+            return next((y for y in MU_BANDS if y < x), 0.0)
+        return _next_band(x)
+
+    def _last(self, ti: int) -> float:
+        return 0.0 if self._by_margin(ti) else np.inf
 
     def _beat(self):
-        if len(self.found) < self.top:
+        if len(self._best) < self.top:
             return None
-        return sorted(f.key for f in self.found.values())[self.top - 1]
+        return self._best[self.top - 1][0]
 
     def results(self) -> list[Found]:
-        return sorted(self.found.values(), key=lambda f: f.key)[:self.top]
+        return [self.found[at] for _, at in self._best]
+
+    def _record(self, at: tuple, f: Found) -> None:
+        """File ``f`` as the best design of set ``at`` (a set's key only ever improves, so the top
+        list needs only this set's old entry replaced)."""
+        self.found[at] = f
+        best = [x for x in self._best if x[1] != at] + [(f.key, at)]
+        best.sort(key=lambda x: x[0])
+        self._best = best[:self.top]
+
+    def _ctx_at(self, ti: int, level: float):
+        """The context whose bounds hold every set with margins at least ``level`` (None: none can)."""
+        key = (ti, level)
+        if key not in self._tight:
+            self._tight[key] = tighten(self.trs[ti][1], level)
+        return self._tight[key]
 
     # --- the loop --------------------------------------------------------------------------------
 
@@ -284,10 +320,11 @@ class Search:
             pcs = sorted({sum(s.values()) for s in caps.shapes})
             if not pcs:
                 continue
+            bands = self._bands(ti)
             for si, shape in enumerate(shapes):
                 pr = sum(shape.values())
-                pc = pcs[0] if ctx.problem.prefer != "closest" else None
-                self._push(self._bkey(ti, 0, pr + pcs[0], 0.0), (ti, si, 0.0, BANDS[1], pc, True))
+                pc = pcs[0] if self._by_margin(ti) else None
+                self._push(self._bkey(ti, 0, pr + pcs[0], bands[0]), (ti, si, bands[0], bands[1], pc, True))
         while heap:
             beat = self._beat()
             if beat is not None and heap[0][0] >= beat:
@@ -307,37 +344,33 @@ class Search:
         return st["truncated"]
 
     def _entry(self, key: tuple, entry: tuple) -> None:
-        ti, si, d0, d1, pc, chain = entry
+        ti, si, a, b, pc, chain = entry
         tr, ctx, caps, shapes = self.trs[ti]
         shape = shapes[si]
         pr = sum(shape.values())
-        if d0 == 0.0 and d1 == BANDS[1] and self._is_small(ti, si):
-            d1 = np.inf  # bands only pay where the space is large
+        bands = self._bands(ti)
+        if a == bands[0] and b == bands[1] and self._is_small(ti, si):
+            b = self._last(ti)  # bands only pay where the space is large
         judged = self.stats["sets"]
-        kept, cut, seen, in_band = self._enumerate(ti, shape, d0, d1)
+        kept, cut, in_band = self._enumerate(ti, shape, a, b)
         judged = self.stats["sets"] - judged
         if self.stats["truncated"]:
-            self._complete(ti, kept, pc)  # the best found so far, not proven
+            self._complete(ti, kept, pc, b)  # the best found so far, not proven
             return
         pcs = sorted({sum(s.values()) for s in caps.shapes})
         # what this entry leaves: the rest of its band; on the chain of the fewest capacitors, the
-        # next band; and the same band again at the next capacitor count its sets need
+        # next band (or, when the band held sets that no capacitors could complete, the rest of the
+        # space in one entry: nothing to order and nothing to hold); and the same band again at the
+        # next capacitor count its sets need
         p_here = pr + (pc if pc is not None else pcs[0])
-        if cut < d1:
-            self._push(self._bkey(ti, 0, p_here, cut), (ti, si, cut, d1, pc, chain))
-        elif chain and np.isfinite(d1):
-            # when the band's windows no longer narrow anything (as many sets as the band before),
-            # the rest of the space goes in one entry
-            # (or, when the band held sets but none that any capacitors could complete, there is
-            # nothing to order by D and nothing to hold in memory)
-            last = self._counts.get((ti, si, pc))
-            self._counts[(ti, si, pc)] = seen
-            saturated = d1 >= 1.0 and last is not None and seen == last
-            nxt = np.inf if saturated or (in_band and not judged) else _next_band(d1)
-            self._push(self._bkey(ti, 0, p_here, d1), (ti, si, d1, nxt, pc, chain))
-        need = self._complete(ti, kept, pc)
+        if cut != b:
+            self._push(self._bkey(ti, 0, p_here, cut), (ti, si, cut, b, pc, chain))
+        elif chain and b != self._last(ti):
+            nxt = self._last(ti) if in_band and not judged else self._next(ti, b)
+            self._push(self._bkey(ti, 0, p_here, b), (ti, si, b, nxt, pc, chain))
+        need = self._complete(ti, kept, pc, b)
         if need is not None:
-            self._push(self._bkey(ti, 0, pr + need, d0), (ti, si, d0, min(cut, d1), need, False))
+            self._push(self._bkey(ti, 0, pr + need, a), (ti, si, a, cut, need, False))
 
     def _is_small(self, ti: int, si: int) -> bool:
         """Whether the shape's space (the product of its tables' sizes) is at most SMALL_SPACE."""
@@ -351,56 +384,70 @@ class Search:
             size *= len(ts[0])
         return size <= SMALL_SPACE
 
-    def _enumerate(self, ti: int, shape: dict, d0: float, d1: float):
-        """The judged sets of one entry with d0 <= D < cut (cut = d1 unless more than KEEP passed)."""
+    def _enumerate(self, ti: int, shape: dict, a: float, b: float):
+        """(judged sets, cut, sets in the band): the sets of one entry that can give a design in its
+        band, at most about KEEP of them (the best; ``cut`` is where the rest begins, b if none).
+
+        By margin: the bounds of the problem tightened to margins of at least b, and the sets whose
+        own smallest margin μ is at least b.  By distance: the band's windows of D < b, and the sets
+        with a <= D < b."""
         tr, ctx, caps, _ = self.trs[ti]
+        by_margin = self._by_margin(ti)
         tabs = per_role(ctx.res_roles, self.rtables)
-        band = Band(ctx, d1) if np.isfinite(d1) else None
+        if by_margin:
+            bound_ctx, band, floor = self._ctx_at(ti, b), None, b
+            if bound_ctx is None:
+                return [], b, 0
+        else:
+            bound_ctx, band, floor = ctx, (Band(ctx, b) if np.isfinite(b) else None), 0.0
         pr = sum(shape.values())
         kept: list[RBatch] = []
         n_kept = 0
-        cut = d1
-        seen = 0  # sets the band's windows let through (all bands below it included)
-        in_band = 0  # sets whose D lies in the band
+        cut = b
+        in_band = 0
         tally = [0]
-        for T in _sub_shapes(tabs, shape, role_ranges(ctx), self.stats):
+        for T in _sub_shapes(tabs, shape, role_ranges(bound_ctx), self.stats):
             if self._spent():
-                return kept, cut, seen, in_band
-            for idx in candidate_sets(ctx, T, tally, band, self._cache):
+                return kept, cut, in_band
+            for idx in candidate_sets(bound_ctx, T, tally, band, self._cache):
                 n = len(idx[ctx.res_roles[0]])
-                seen += n
                 self.stats["work"] += tally[0] + n
                 tally[0] = 0
                 if self._spent():
-                    return kept, cut, seen, in_band
+                    return kept, cut, in_band
                 if not n:
                     continue
-                d = nominal_distance(ctx, {r: T[r].v[idx[r]] for r in ctx.res_roles})
-                sel = np.flatnonzero((d >= d0) & (d < cut))
+                if by_margin:
+                    sel = np.arange(n)
+                else:
+                    d = nominal_distance(ctx, {r: T[r].v[idx[r]] for r in ctx.res_roles})
+                    sel = np.flatnonzero((d >= a) & (d < cut))
                 in_band += len(sel)
                 for s0 in range(0, len(sel), JUDGE_CHUNK):
-                    part = {r: a[sel[s0:s0 + JUDGE_CHUNK]] for r, a in idx.items()}
-                    part = {r: a[caps.may_complete(T, part)] for r, a in part.items()}
+                    part = {r: arr[sel[s0:s0 + JUDGE_CHUNK]] for r, arr in idx.items()}
+                    part = {r: arr[caps.may_complete(T, part, floor)] for r, arr in part.items()}
                     if not len(part[ctx.res_roles[0]]):
                         continue
                     # a set counts once, in its band, when it is worth judging
                     self.stats["sets"] += len(part[ctx.res_roles[0]])
                     self.stats["judged"] += len(part[ctx.res_roles[0]])
-                    b = _judge_sets(ctx, T, part, self.pools, pr, self.virtual)
-                    if b is None:
+                    bt = _judge_sets(ctx, T, part, self.pools, pr, self.virtual)
+                    if bt is not None and by_margin:
+                        bt = _keep_where(bt, (bt.ev.mu >= b) & (bt.ev.mu > cut if cut != b else True))
+                    if bt is None:
                         continue
-                    kept.append(b)
-                    n_kept += len(b)
+                    kept.append(bt)
+                    n_kept += len(bt)
                 if n_kept > 2 * KEEP and not self.buying:
-                    kept, cut = _trim(kept, KEEP)
-                    n_kept = sum(len(b) for b in kept)
+                    kept, cut = _trim(kept, KEEP, by_margin)
+                    n_kept = sum(len(x) for x in kept)
                 if self.on_step is not None:
                     self.on_step(note=self._note())
             self.stats["work"] += tally[0]  # what the joins did after their last chunk
             tally[0] = 0
         if n_kept > KEEP and not self.buying:
-            kept, cut = _trim(kept, KEEP)
-        return kept, cut, seen, in_band
+            kept, cut = _trim(kept, KEEP, by_margin)
+        return kept, cut, in_band
 
     def _note(self) -> str:
         st = self.stats
@@ -408,28 +455,41 @@ class Search:
         text = f"{st['sets']:,} resistor sets, {st['judged']:,} judged"
         if best:
             f = best[0]
-            text += f", best so far {f.batch.pr + f.completion.pc} parts, D {float(f.batch.ev.distance[f.pos]):.3g}"
+            mu = min(float(f.batch.ev.mu[f.pos]), f.completion.margin_c)
+            text += f", best so far {f.batch.pr + f.completion.pc} parts, smallest margin {mu:+.1%}"
         return text
 
-    def _complete(self, ti: int, kept: list[RBatch], pc: int | None) -> int | None:
-        """Capacitors for the kept sets in order of (B, D), while their bound can beat the answer;
-        with a count ``pc``, the next count some of them need (None: none)."""
+    def _complete(self, ti: int, kept: list[RBatch], pc: int | None, floor_end: float) -> int | None:
+        """Capacitors for the kept sets, best first, while their bound can beat the answer; with a
+        count ``pc``, the next count some of them need (None: none)."""
         tr, ctx, caps, _ = self.trs[ti]
         if not kept:
             return None
-        b_all = np.concatenate([b.bought for b in kept])
-        d_all = np.concatenate([b.ev.distance for b in kept])
-        which = np.concatenate([np.full(len(b), i) for i, b in enumerate(kept)])
-        where = np.concatenate([np.arange(len(b)) for b in kept])
-        order = np.lexsort((d_all, b_all))
+        by_margin = self._by_margin(ti)
+        # every set is completed once, with no floor: its best capacitors give its exact key, wherever
+        # that falls (a design below this band's margin is a design all the same; the heap's order
+        # only decides when the search may stop)
+        b_all = np.concatenate([bt.bought for bt in kept])
+        d_all = np.concatenate([bt.ev.distance for bt in kept])
+        mu_all = np.concatenate([bt.ev.mu for bt in kept])
+        which = np.concatenate([np.full(len(bt), i) for i, bt in enumerate(kept)])
+        where = np.concatenate([np.arange(len(bt)) for bt in kept])
+        if by_margin:
+            # no design of a set has a margin above its resistors' own μ nor above the corner margin
+            # its largest capacitors give: order by that ceiling, so the search stops at the first
+            # set whose ceiling cannot beat the answer even when capacitors limit every margin
+            ceil = np.concatenate([caps.margin_ceiling(bt, np.arange(len(bt))) for bt in kept])
+            mu_all = np.minimum(mu_all, ceil)
+        order = np.lexsort((d_all, -mu_all, b_all)) if by_margin else np.lexsort((d_all, b_all))
+        # the band's variable of each set: its μ ceiling (by margin) or D
+        x_all = mu_all if by_margin else d_all
         pcs = sorted({sum(s.values()) for s in caps.shapes})
         max_pc = pcs[-1]
-        prefer = ctx.problem.prefer
         need = None
 
         def later(c):
             nonlocal need
-            nxt = [x for x in pcs if x >= c]
+            nxt = [y for y in pcs if y >= c]
             if nxt and (need is None or nxt[0] < need):
                 need = nxt[0]
 
@@ -439,7 +499,8 @@ class Search:
             bt0 = kept[which[first]]
             p_lo = bt0.pr + (pc if pc is not None else pcs[0])
             beat = self._beat()
-            if beat is not None and self._bkey(ti, int(b_all[first]), p_lo, float(d_all[first])) >= beat:
+            if beat is not None and self._bkey(ti, int(b_all[first]), p_lo, float(x_all[first]),
+                                                   float(d_all[first]) if by_margin else -np.inf) >= beat:
                 return need
             lbs = np.empty(len(chunk))
             for i in np.unique(which[chunk]):
@@ -447,7 +508,7 @@ class Search:
                 lbs[m] = caps.lower_bounds(kept[i], where[chunk][m])
             for q, lb in zip(chunk, lbs):
                 bt, pos = kept[which[q]], int(where[q])
-                b, d = int(b_all[q]), float(d_all[q])
+                bq = int(b_all[q])
                 if not np.isfinite(lb):
                     continue
                 if pc is not None and lb > pc:
@@ -455,8 +516,9 @@ class Search:
                     continue
                 first_pc = pc if pc is not None else int(lb)
                 beat = self._beat()
-                if beat is not None and self._bkey(ti, b, bt.pr + first_pc, d) >= beat:
-                    if pc is not None or prefer != "closest":
+                if beat is not None and self._bkey(ti, bq, bt.pr + first_pc, float(x_all[q]),
+                                                   float(d_all[q]) if by_margin else -np.inf) >= beat:
+                    if by_margin:
                         return need
                     continue
                 at = (ti, _res_canon(bt, pos, ctx))
@@ -465,12 +527,17 @@ class Search:
                     continue
                 done = False
                 for c in ([pc] if pc is not None else range(first_pc, max_pc + 1)):
+                    if (at, c) in self._none:
+                        continue
                     comp = caps.complete(bt, pos, c)
                     if comp is None:
+                        if len(self._none) < NONE_MEMO:
+                            self._none.add((at, c))
                         continue
-                    f = _found(ctx, bt, pos, comp, tr, prefer)
+                    f = _found(ctx, bt, pos, comp, tr, ctx.problem.prefer)
                     if have is None or f.key < have.key:
-                        self.found[at] = have = f
+                        self._record(at, f)
+                        have = f
                     if not (self.buying and comp.bought > 0):
                         done = True
                         break
@@ -481,18 +548,26 @@ class Search:
         return need
 
 
-def _trim(kept: list[RBatch], n: int) -> tuple[list[RBatch], float]:
-    """The sets of smallest D, keeping whole ties: those below the n-th smallest D, and that D."""
-    d = np.concatenate([b.ev.distance for b in kept])
-    cut = float(np.partition(d, n)[n])
-    if not np.any(d < cut):  # more than n sets share the smallest D: keep them all
+def _keep_where(bt: RBatch, ok: np.ndarray) -> RBatch | None:
+    sel = np.flatnonzero(ok)
+    if not len(sel):
+        return None
+    return bt if len(sel) == len(bt) else _take_batch(bt, sel)
+
+
+def _trim(kept: list[RBatch], n: int, by_margin: bool = False) -> tuple[list[RBatch], float]:
+    """The best n sets (whole ties kept), and where the rest begins: by distance, those below the
+    n-th smallest D; by margin, those above the n-th largest μ."""
+    x = np.concatenate([(-bt.ev.mu if by_margin else bt.ev.distance) for bt in kept])
+    cut = float(np.partition(x, n)[n])
+    if not np.any(x < cut):  # more than n sets share the best value: keep them all
         cut = float(np.nextafter(cut, np.inf))
     out = []
-    for b in kept:
-        sel = np.flatnonzero(b.ev.distance < cut)
+    for bt in kept:
+        sel = np.flatnonzero((-bt.ev.mu if by_margin else bt.ev.distance) < cut)
         if len(sel):
-            out.append(_take_batch(b, sel))
-    return out, cut
+            out.append(_take_batch(bt, sel))
+    return out, (-cut if by_margin else cut)
 
 
 def _take_batch(b: RBatch, sel: np.ndarray) -> RBatch:
@@ -500,8 +575,9 @@ def _take_batch(b: RBatch, sel: np.ndarray) -> RBatch:
     ev2 = type(ev)(keep=ev.keep[sel], target={k: a[sel] for k, a in ev.target.items()},
                    rating={k: a[sel] for k, a in ev.rating.items()}, active=ev.active[sel],
                    vnode={r: (x[sel], y[sel]) for r, (x, y) in ev.vnode.items()}, distance=ev.distance[sel],
-                   margin_r=ev.margin_r[sel], nominal={k: a[sel] for k, a in ev.nominal.items()})
+                   margin_r=ev.margin_r[sel], nominal={k: a[sel] for k, a in ev.nominal.items()}, mu=ev.mu[sel])
     return RBatch(b.tables, {r: a[sel] for r, a in b.idx.items()}, ev2, b.pr, b.stock_left[sel], b.bought[sel])
+
 
 
 def search_transistor(ctx: Context, transistor: StockLine, rtables, ctables, lines, top: int,

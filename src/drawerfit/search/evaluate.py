@@ -123,7 +123,8 @@ class ResistorEval:
     ``keep`` indexes the input arrays; ``target`` and ``rating`` map constraint names to their
     smallest relative margin over the box; ``vnode`` maps C1/C2/CE to (lowest, highest) signed DC
     voltage; ``distance`` is the normalised distance of the nominal figures to the target centres;
-    ``margin_r`` the smallest rating margin; ``nominal`` holds nominal IE and |gain|.
+    ``margin_r`` the smallest rating margin; ``mu`` the smallest of every target and rating margin
+    (the objective's μ, before the capacitors); ``nominal`` holds nominal IE and |gain|.
     """
 
     keep: np.ndarray
@@ -134,6 +135,12 @@ class ResistorEval:
     distance: np.ndarray
     margin_r: np.ndarray
     nominal: dict
+    mu: np.ndarray = None  # type: ignore[assignment]
+
+    def __post_init__(self) -> None:
+        if self.mu is None:
+            parts = [a for a in self.target.values()] + [self.margin_r]
+            self.mu = np.min(np.stack(parts), axis=0) if parts else np.full(len(self.keep), np.inf)
 
 
 def _target_margins(ctx: Context, dc) -> dict[str, np.ndarray]:
@@ -228,6 +235,42 @@ def evaluate_resistors(ctx: Context, v: Mapping[str, np.ndarray], tol: Mapping[s
         keep=keep, target={k: a[keep] for k, a in tmin.items()}, rating=rating, active=active[keep],
         vnode={r: (vlo[r][keep], vhi[r][keep]) for r in ctx.cap_roles}, distance=distance,
         margin_r=margin_r, nominal=nominal)
+
+
+def tighten(ctx: Context, theta: float) -> Context | None:
+    """The search's context with every target and rating tightened so that a set meets it exactly when
+    all its margins under ``ctx`` are at least ``theta`` (0 <= theta < 1); None when nothing can.
+
+    A lower bound x becomes x·(1 + θ), an upper bound x·(1 − θ) (f_low too); the derated fractions of
+    the resistor and transistor power ratings and the capacitor voltage margin are times (1 − θ), and
+    so are IC max and VCEO: a margin (limit − x)/limit >= θ is x <= (1 − θ)·limit.  The window centres
+    stay those of the real targets (the distance D is not changed)."""
+    from dataclasses import fields, replace
+
+    from ..parts import SpecError
+    from .problem import ShiftedTargets
+
+    if theta <= 0:
+        return ctx
+    p, tr = ctx.problem, ctx.tr
+    tg = p.targets
+    up, down = (lambda x: None if x is None else x * (1 + theta)), (lambda x: None if x is None else x * (1 - theta))
+    values = {f.name: getattr(tg, f.name) for f in fields(tg) if f.name != "real"}
+    values.update(ie_min=up(tg.ie_min), ie_max=down(tg.ie_max), f_low=down(tg.f_low), swing=up(tg.swing),
+                  rin_min=up(tg.rin_min), rout_max=down(tg.rout_max), gain_min=up(tg.gain_min),
+                  gain_max=down(tg.gain_max))
+    try:
+        targets = ShiftedTargets(**values, real=getattr(tg, "real", None) or tg)
+    except SpecError:
+        return None  # the window closes: nothing has that margin
+    c = p.conditions
+    cond = replace(c, resistor_derating=c.resistor_derating * (1 - theta),
+                   transistor_derating=c.transistor_derating * (1 - theta),
+                   cap_voltage_margin=c.cap_voltage_margin * (1 - theta))
+    model = replace(tr, ic_max=down(tr.ic_max), vceo=down(tr.vceo))
+    if model.vceo is not None and model.vceo < p.supply:
+        return None
+    return Context(replace(p, targets=targets, conditions=cond), model)
 
 
 def nominal_figures(ctx: Context, v: Mapping[str, np.ndarray]) -> dict[str, np.ndarray]:

@@ -124,7 +124,7 @@ def _divider_blocks(ctx: Context, box: Box, em: EmitterBounds, A: RoleTable, B: 
         return
     p = ctx.problem
     keep: list | None = [] if cache is not None else None
-    total = 0
+    total = cache.get("dividers kept", 0) if cache is not None else 0  # all shapes and levels together
     step = max(1, CHUNK // max(1, len(B)))
     for a0 in range(0, len(A), step):
         ia, ib = _dividers(ctx, box, em, A, B, np.arange(a0, min(len(A), a0 + step)), tally, ret_range, tmin)
@@ -141,6 +141,7 @@ def _divider_blocks(ctx: Context, box: Box, em: EmitterBounds, A: RoleTable, B: 
         yield block
     if keep is not None:
         cache[key] = keep
+        cache["dividers kept"] = total
 
 
 def _join_sorted(T: RoleTable, box: Box, owner_lo, owner_hi, owner_lo_max=None, tally=None, nominal=None,

@@ -15,7 +15,7 @@ from ..parts import SpecError
 from ..analysis.targets import Targets
 from ..stages import Conditions
 
-__all__ = ["DesignTargets", "DesignProblem", "GUARANTEES", "PREFERENCES", "roles_of", "problem_from_spec"]
+__all__ = ["DesignTargets", "ShiftedTargets", "DesignProblem", "GUARANTEES", "PREFERENCES", "roles_of", "problem_from_spec"]
 
 GUARANTEES = ("worst-case", "nominal")
 PREFERENCES = ("fewest-parts", "closest")
@@ -51,6 +51,17 @@ class DesignTargets(Targets):
                 raise SpecError(f"[targets]: {name} must be positive, not {v!r}")
         if self.gain_min is not None and self.gain_max is not None and self.gain_min > self.gain_max:
             raise SpecError("[targets]: gain_min is above gain_max")
+
+
+@dataclass(frozen=True)
+class ShiftedTargets(DesignTargets):
+    """Targets eased or tightened from ``real``, whose window centres (for the distance D) stay the
+    real ones."""
+
+    real: DesignTargets | None = None
+
+    def centres(self) -> dict:
+        return self.real.centres() if self.real is not None else super().centres()
 
 
 @dataclass(frozen=True)

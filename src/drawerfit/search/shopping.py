@@ -31,7 +31,7 @@ import numpy as np
 from ..analysis import core
 from ..parts import Source, StockLine
 from .evaluate import Context, evaluate_resistors, vertex_dc
-from .problem import DesignTargets
+from .problem import ShiftedTargets
 
 __all__ = ["explain_infeasible", "purchase_lines", "e_series_catalogue", "cheapest_purchases", "nearest_design",
            "BUY_RESISTOR_POWERS", "BUY_CAP_VOLTAGES", "SHORTFALL_GRID"]
@@ -241,15 +241,24 @@ def _suggest(result, lines, catalogue, drawer_proven: bool, scale: float = 1.0) 
     problem = result.problem
     got = cheapest_purchases(problem, lines, catalogue, drawer_proven=drawer_proven, scale=scale)
     result.stats["buy"] = {"searches": got.searches, "sets": got.sets, "ties_complete": got.ties_complete}
-    result.buy_proven = got.proven
     if got.design is None:
+        # an empty list says why it is empty, and is never "proven fewest"
         result.buy = []
+        result.buy_proven = False
+        result.buy_note = ("no purchase of standard parts (E24 resistors, E12 capacitors), each filling a role "
+                           "alone, makes it feasible" if got.proven else
+                           "no purchase of standard parts was found that makes it feasible, but the search for "
+                           "one stopped at its budget, so one may exist")
         return
     buy = _buy_list(got.design, problem.units)
     result.buy_design = got.design
     added = [replace(b.pop("line"), qty=b["count"], location="new") for b in buy]
     result.buy = buy
     result.buy_checked = check_purchases(problem, lines, got.design, added, scale=scale)
+    # "proven fewest" only when every search behind the list finished
+    result.buy_proven = bool(got.proven and got.ties_complete)
+    if not result.buy_proven:
+        result.buy_note = "the list is not proven the fewest: a search for purchases stopped at its budget"
 
 
 def check_purchases(problem, lines, choice, added, scale: float = 1.0) -> bool:
@@ -271,16 +280,6 @@ def check_purchases(problem, lines, choice, added, scale: float = 1.0) -> bool:
 # --- the nearest design ----------------------------------------------------------------------------
 
 
-@dataclass(frozen=True)
-class EasedTargets(DesignTargets):
-    """Eased targets whose window centres (for the distance D) stay those of the real targets."""
-
-    real: DesignTargets | None = None
-
-    def centres(self) -> dict:
-        return self.real.centres() if self.real is not None else super().centres()
-
-
 def _relaxed(problem, lines, t: float):
     """The problem and drawer with every relative-margin constraint eased by the fraction ``t``:
     a design meets them exactly when each of its margins under the real problem is at least −t.
@@ -297,7 +296,7 @@ def _relaxed(problem, lines, t: float):
     values.update(ie_min=tg.ie_min * (1 - t) if t < 1 else tg.ie_min * 1e-9, ie_max=high(tg.ie_max),
                   f_low=high(tg.f_low), swing=low(tg.swing), rin_min=low(tg.rin_min), rout_max=high(tg.rout_max),
                   gain_min=low(tg.gain_min), gain_max=high(tg.gain_max))
-    targets = EasedTargets(**values, real=tg)
+    targets = ShiftedTargets(**values, real=tg)
     f = 1.0 + t  # ratings scale: the margin (limit − x)/limit >= −t  <=>  x <= (1 + t)·limit
     eased = []
     for ln in lines:
@@ -434,19 +433,27 @@ _NICE = {"ie_min": "IE at least ie_min", "ie_max": "IE at most ie_max", "f_low":
 
 def explain_infeasible(result, lines, trs, why, *, suggest: bool = True, catalogue=None,
                        drawer_proven: bool = True, scale: float = 1.0) -> None:
-    """Fill ``result.reason``, ``result.nearest`` and (``suggest``) ``result.buy``."""
+    """Fill ``result.reason`` (the cause from the physics first, when one holds: ``reasons``),
+    ``result.limits``, ``result.nearest`` and (``suggest``) ``result.buy`` with ``result.buy_note``."""
+    from .reasons import corner_with_largest, hard_limits, limits_text
+
     problem = result.problem
     if not trs:
         result.reason = ("no transistor in the stock suits the stage"
                          + (": " + "; ".join(why) if why else f" (no {problem.polarity.upper()} lines"
                             + (f" labelled {problem.label!r}" if problem.label else "") + ")"))
+        result.buy_note = "no purchase of passives helps without a transistor that suits the stage"
         return
+    limits = hard_limits(problem, trs)
+    result.limits = limits
+    cause = limits_text(limits, len(trs))
     near = nearest_design(problem, lines, scale=scale)
     result.stats["nearest"] = {"searches": near.searches, "sets": near.sets}
     nearest = near.design
     if nearest is None:
-        result.reason = ("nothing in the drawer meets every constraint, and no design of single parts comes within "
-                         f"{SHORTFALL_GRID[-1]:.0f}× of them" + ("" if near.proven else " (not proven: a search stopped early)"))
+        text = ("no design of single parts comes within "
+                f"{SHORTFALL_GRID[-1]:.0f}× of every constraint" + ("" if near.proven else
+                                                                     " (not proven: a search stopped early)"))
     else:
         margins = _judge_full(problem, nearest)
         f_worst = margins.pop("_f_worst")
@@ -458,10 +465,33 @@ def explain_infeasible(result, lines, trs, why, *, suggest: bool = True, catalog
         if missed:
             parts = [f"{_NICE.get(k, k)} missed by {-m:.1%}" if math.isfinite(m) else f"{_NICE.get(k, k)} fails"
                      for m, k in missed]
-            result.reason = ("nothing in the drawer meets every constraint; the nearest single-part design: "
-                             + "; ".join(parts))
+            text = "the nearest single-part design: " + "; ".join(parts)
+            if "f_low" in dict((k, m) for m, k in missed):
+                got = corner_with_largest(problem, nearest, lines)
+                if got is not None and got[0] > problem.targets.f_low:
+                    worst, chosen = got
+                    from ..values import format_code, format_si
+
+                    caps = ", ".join(f"{r} {format_code(ln.value, 'F', ascii_only=False)}" for r, ln in chosen.items())
+                    text += (f"; even the largest capacitors in stock that suit each place ({caps}) leave its "
+                             f"worst-case corner at {format_si(worst, 'Hz')}")
+                    result.nearest["corner_with_largest"] = worst
         else:
-            result.reason = ("the search stopped at its budget; a single-part design that meets every constraint "
-                             "exists (the nearest design below)")
-    if suggest:
-        _suggest(result, lines, catalogue, drawer_proven, scale)
+            text = ("the search stopped at its budget; a single-part design that meets every constraint "
+                    "exists (the nearest design below)")
+    if cause:
+        result.reason = cause + "; " + text
+    elif nearest is not None and result.nearest and result.nearest["missed"]:
+        result.reason = "nothing in the drawer meets every constraint; " + text
+    else:
+        result.reason = ("nothing in the drawer meets every constraint, and " if nearest is None else "") + text
+    if not suggest:
+        return
+    if cause:
+        # no passives lift a ceiling of the stage or of every transistor: nothing to search for
+        result.buy = []
+        result.buy_note = ("no purchase of resistors or capacitors can help: " + cause.split(": ", 1)[1]
+                           + (" (a transistor with the ratings above is what is missing)"
+                              if not any(not lm.transistor for lm in limits) else ""))
+        return
+    _suggest(result, lines, catalogue, drawer_proven, scale)

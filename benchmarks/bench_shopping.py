@@ -55,7 +55,7 @@ def cli(spec: Path, stock: Path, *extra: str):
 def parts(spec: Path, stock_path: Path, max_parts: int) -> str:
     sys.path.insert(0, str(ROOT / "src"))
     from drawerfit.search import shopping
-    from drawerfit.search.design import _run
+    from drawerfit.search.runner import run_search
     from drawerfit.search.problem import problem_from_spec
     from drawerfit.search.tables import with_default_ratings
     from drawerfit.io.spec import load_spec
@@ -66,7 +66,7 @@ def parts(spec: Path, stock_path: Path, max_parts: int) -> str:
     lines, _ = with_default_ratings(stock.lines)
     t0 = time.perf_counter()
     st: dict = {}
-    found, _, _ = _run(problem, lines, 1, False, stats_out=st)
+    found, _, _ = run_search(problem, lines, 1, False, stats_out=st)
     t1 = time.perf_counter()
     if found:
         return f"search {t1 - t0:5.2f} s ({st['sets']:,} sets): a design"

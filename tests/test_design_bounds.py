@@ -19,7 +19,7 @@ from hypothesis import HealthCheck, event, given, settings, strategies as st
 from drawerfit.parts import Stock
 from drawerfit.search.design import design, transistor_model
 from drawerfit.search.engine import resistor_sets_exhaustive
-from drawerfit.search.evaluate import Context, evaluate_resistors, vertex_dc
+from drawerfit.search.evaluate import SearchContext, evaluate_resistors, vertex_dc
 from drawerfit.search.joins import candidate_sets
 from drawerfit.search.problem import DesignProblem, DesignTargets
 from drawerfit.search.tables import build_tables, with_default_ratings
@@ -80,7 +80,7 @@ def _check_sound(stock, topology, polarity, mode, shape, pick, guarantee, bypass
     rt = build_tables([ln for ln in lines if ln.kind == "resistor"], "resistor", 2, 1)
     wide = DesignTargets(ie_min=1e-9, ie_max=10.0, f_low=20.0)
     base = _problem(topology, polarity, wide, guarantee=guarantee, bypass=bypass, load=load)
-    ctx0 = Context(base, transistor_model(tr))
+    ctx0 = SearchContext(base, transistor_model(tr))
     T = {r: rt[c] for r, c in zip(ctx0.res_roles, shape)}
     idx, v, tol, rating = _all(ctx0, T)
     ev0 = evaluate_resistors(ctx0, v, tol, rating, drop=False)
@@ -93,7 +93,7 @@ def _check_sound(stock, topology, polarity, mode, shape, pick, guarantee, bypass
     if targets is None:
         event("no swing")
         return
-    ctx = Context(base.with_(targets=targets), ctx0.tr)
+    ctx = SearchContext(base.with_(targets=targets), ctx0.tr)
     keep = evaluate_resistors(ctx, v, tol, rating).keep
     assert j in set(keep.tolist())  # the edge set meets its own worst case, margin zero
     accepted = {tuple(int(idx[r][k]) for r in ctx.res_roles) for k in keep}
@@ -133,7 +133,7 @@ def _edge_problem(stock, topology, polarity, mode, pick, **kw):
     tr = next(ln for ln in lines if ln.kind == "transistor")
     rt = build_tables([ln for ln in lines if ln.kind == "resistor"], "resistor", 1, 1)
     base = _problem(topology, polarity, DesignTargets(ie_min=1e-9, ie_max=10.0, f_low=20.0), **kw)
-    ctx0 = Context(base, transistor_model(tr))
+    ctx0 = SearchContext(base, transistor_model(tr))
     T = {r: rt[1] for r in ctx0.res_roles}
     idx, v, tol, rating = _all(ctx0, T)
     ev0 = evaluate_resistors(ctx0, v, tol, rating, drop=False)
@@ -238,7 +238,7 @@ def test_follower_swing_bound_at_its_exact_edge(data, polarity, pick):
     rt = build_tables([ln for ln in lines if ln.kind == "resistor"], "resistor", 1, 1)
     wide = DesignTargets(ie_min=1e-9, ie_max=10.0, f_low=20.0)
     base = _problem("emitter-follower", polarity, wide, guarantee="nominal", load=None)
-    ctx0 = Context(base, transistor_model(tr))
+    ctx0 = SearchContext(base, transistor_model(tr))
     T = {r: rt[1] for r in ctx0.res_roles}
     idx, v, tol, rating = _all(ctx0, T)
     dc = vertex_dc(ctx0, ctx0.nominal, v, tol)
@@ -252,13 +252,13 @@ def test_follower_swing_bound_at_its_exact_edge(data, polarity, pick):
     j = int(good[pick % len(good)])
     rl = 1.0 / (ie[j] / up[j] - 1.0 / re_v[j])
     p = base.with_(load=float(rl))
-    ctx1 = Context(p, ctx0.tr)
+    ctx1 = SearchContext(p, ctx0.tr)
     d1 = vertex_dc(ctx1, ctx1.nominal, {r: a[j:j + 1] for r, a in v.items()}, {r: a[j:j + 1] for r, a in tol.items()})
     s = float(d1.swing_peak[0])
     assert math.isclose(float(d1.swing_up[0]), float(d1.swing_down[0]), rel_tol=1e-9)
     i = float(d1.ie[0])
     targets = DesignTargets(ie_min=i, ie_max=i * (1 + 1e-9), f_low=20.0, swing=s)
-    ctx = Context(p.with_(targets=targets), ctx0.tr)
+    ctx = SearchContext(p.with_(targets=targets), ctx0.tr)
     keep = evaluate_resistors(ctx, v, tol, rating).keep
     assert j in set(keep.tolist())
     accepted = {tuple(int(idx[r][k]) for r in ctx.res_roles) for k in keep}

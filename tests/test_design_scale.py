@@ -27,7 +27,7 @@ from drawerfit.parts import Stock
 from drawerfit.search import joins
 from drawerfit.search.design import design, transistor_model
 from drawerfit.search.engine import resistor_sets_exhaustive
-from drawerfit.search.evaluate import Context, evaluate_resistors, nominal_distance
+from drawerfit.search.evaluate import SearchContext, evaluate_resistors, nominal_distance
 from drawerfit.search.problem import DesignProblem, DesignTargets
 from drawerfit.search.tables import build_tables, with_default_ratings
 from drawerfit.search.windows import Band
@@ -122,7 +122,7 @@ def _check_band(stock, topology, shape, d, polarity):
     targets = DesignTargets(ie_min=0.3e-3, ie_max=3e-3, f_low=20.0,
                             **({"gain_min": 1.0, "gain_max": 20.0} if topology == "common-emitter" else {}))
     p = DesignProblem(topology, polarity, 12.0, targets, load=10e3, source_resistance=600.0, max_parts=2)
-    ctx = Context(p, transistor_model(tr))
+    ctx = SearchContext(p, transistor_model(tr))
     roles = ctx.res_roles
     T = {r: rt[c] for r, c in zip(roles, shape + (1,) * (len(roles) - len(shape)))}
     idx, v, tol, rating = _all_sets(ctx, T)

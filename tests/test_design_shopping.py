@@ -21,7 +21,8 @@ from hypothesis import HealthCheck, event, given, settings, strategies as st
 from drawerfit.cli import main
 from drawerfit.parts import Source, Stock, StockLine
 from drawerfit.search import shopping
-from drawerfit.search.design import _run, design
+from drawerfit.search.design import design
+from drawerfit.search.runner import run_search
 from drawerfit.search.problem import DesignProblem, DesignTargets
 from drawerfit.search.tables import RoleTable, build_tables, with_default_ratings
 
@@ -61,7 +62,7 @@ def brute_force_purchases(problem, drawer_lines, catalogue):
             out[c] = _subset(t, np.flatnonzero(~with_bought if c > 1 else np.ones(len(t), bool)))
         return out
 
-    found, _, _ = _run(problem, every, 1, True, virtual_ids=ids, tables=(tables("resistor"), tables("capacitor")))
+    found, _, _ = run_search(problem, every, 1, True, virtual_ids=ids, tables=(tables("resistor"), tables("capacitor")))
     return found[0] if found else None
 
 
@@ -106,7 +107,7 @@ def test_fewest_purchases_equal_brute_force(case, f, units):
                       load=10e3, source_resistance=600.0, max_parts=2, units=units)
     lines, _ = with_default_ratings(drawer)
     st_: dict = {}
-    alone, _, _ = _run(p, lines, 1, False, stats_out=st_)
+    alone, _, _ = run_search(p, lines, 1, False, stats_out=st_)
     assert not st_.get("truncated")
     if alone:
         event("the drawer alone does")

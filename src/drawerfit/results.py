@@ -196,7 +196,7 @@ def design_dict(result, analysis=None, cautions=None) -> dict:
         "guarantee": problem.guarantee, "prefer": problem.prefer,
         "objective": {"part_count": best.part_count, "smallest_margin": _finite(best.margin),
                       "distance": best.distance, "margin": _finite(best.margin),
-                      "fewest_left": _finite(best.stock_left), "capacitance": best.csum},
+                      "fewest_left": _finite(best.stock_left), "capacitance": best.total_capacitance},
         "transistor": {"label": tr.label, "location": tr.location, "source": source_dict(tr), "polarity": tr.polarity,
                        "hfe_min": tr.hfe_min, "hfe_max": tr.hfe_max, "vceo": tr.vceo, "ic_max": tr.ic_max,
                        "pd": tr.pd, "vbe": best.model.vbe, "vce_sat": best.model.vce_sat},

@@ -76,7 +76,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .evaluate import Context
+from .evaluate import SearchContext
 from .tables import RoleTable
 from .windows import SLACK, vth as _vth
 
@@ -86,7 +86,7 @@ __all__ = ["Box", "EmitterBounds", "par_floor", "par_ceiling", "emitter_window"]
 class Box:
     """The ends of the box the search guarantees over (one point when the guarantee is nominal)."""
 
-    def __init__(self, ctx: Context):
+    def __init__(self, ctx: SearchContext):
         p, tr = ctx.problem, ctx.tr
         self.nominal = p.guarantee == "nominal"
         if self.nominal:
@@ -133,7 +133,7 @@ class EmitterBounds:
     least divider resistance RTH at (RA low, RB low) that can still give ``rin_min``.
     """
 
-    def __init__(self, ctx: Context, box: Box):
+    def __init__(self, ctx: SearchContext, box: Box):
         p, tr = ctx.problem, ctx.tr
         t = p.targets
         rl = p.rl
@@ -240,7 +240,7 @@ def par_ceiling(y, rl: float):
         return np.where(y < rl, y * rl / (rl - y), np.inf)
 
 
-def emitter_window(ctx: Context, box: Box, A, B, ia, ib):
+def emitter_window(ctx: SearchContext, box: Box, A, B, ia, ib):
     """(L, U): RET low end must be >= L and high end <= U."""
     p = ctx.problem
     vcc = p.supply

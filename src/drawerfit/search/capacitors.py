@@ -23,11 +23,11 @@ import numpy as np
 
 from ..analysis import core
 from .corner import CornerTest, least_sum, take_dc
-from .evaluate import Context, bypasses, cap_margin, stacked_dc, vertex_dc
+from .evaluate import SearchContext, bypasses, cap_margin, stacked_dc, vertex_dc
 from .pools import Pools
 from .tables import RoleTable
 
-__all__ = ["CapSide", "Completion", "take_dc", "HUGE_CAP_FACTOR", "CAP_TRIPLE_MAX"]
+__all__ = ["CapacitorSide", "Completion", "take_dc", "HUGE_CAP_FACTOR", "CAP_TRIPLE_MAX"]
 
 HUGE_CAP_FACTOR = 10.0
 CAP_TRIPLE_MAX = 2_000_000  # capacitor triples built at most; beyond, shapes with them are not searched
@@ -46,7 +46,7 @@ class Completion:
     bought: int
     margin_c: float
     stock_left: float
-    csum: float
+    total_capacitance: float
     cap_margins: dict
     corner_margin: float = np.inf  # (f_low − worst-case corner)/f_low
 
@@ -61,7 +61,7 @@ def _bought(parts, virtual) -> np.ndarray:
 class _Role:
     """The candidates one role may take for one resistor set (after the checks on the role alone)."""
 
-    def __init__(self, table: RoleTable, idx, low, v, m, nb, side: "CapSide"):
+    def __init__(self, table: RoleTable, idx, low, v, m, nb, side: "CapacitorSide"):
         self.table, self.idx, self.low, self.v, self.m, self.nb = table, idx, low, v, m, nb
         self._side = side
         self._left = None
@@ -91,11 +91,11 @@ class _Role:
         return len(self.idx)
 
 
-class CapSide:
+class CapacitorSide:
     """Capacitor candidates per role and count (built lazily), and the machinery to complete
     resistor sets.  ``ctables``: candidates shared by the roles (``tables.Candidates``) or per role."""
 
-    def __init__(self, ctx: Context, ctables, pools: Pools, virtual):
+    def __init__(self, ctx: SearchContext, ctables, pools: Pools, virtual):
         from .engine import per_role
 
         self.ctx = ctx
@@ -338,12 +338,12 @@ class CapSide:
         mc = min([float(rs[r].m[chosen[r]]) for r in ctx.cap_roles] + [cm])
         mu = min(mc, float(batch.ev.mu[pos]))
         s_all = min(left, float(batch.stock_left[pos]))
-        csum = float(np.sum(np.stack([rs[r].v[[chosen[r]]] for r in ctx.cap_roles]), axis=0)[0])
+        total_capacitance = float(np.sum(np.stack([rs[r].v[[chosen[r]]] for r in ctx.cap_roles]), axis=0)[0])
         canon = tuple(rs[r].table.key(int(rs[r].idx[chosen[r]])) for r in ctx.cap_roles)
         n_parts = sum(shape.values())
-        key = (nb, n_parts, -mu, -s_all, csum, canon)
+        key = (nb, n_parts, -mu, -s_all, total_capacitance, canon)
         comp = Completion(caps={r: (rs[r].table, int(rs[r].idx[chosen[r]])) for r in ctx.cap_roles}, pc=n_parts,
-                          bought=nb, margin_c=mc, stock_left=left, csum=csum,
+                          bought=nb, margin_c=mc, stock_left=left, total_capacitance=total_capacitance,
                           cap_margins={r: float(rs[r].m[chosen[r]]) for r in ctx.cap_roles}, corner_margin=cm)
         return key, comp
 
@@ -502,7 +502,7 @@ class CapSide:
             nb = np.sum(np.stack([rs[r].nb[pick[r]] for r in names]), axis=0)
             a = np.minimum(np.min(np.stack([rs[r].m[pick[r]] for r in names]), axis=0), mu_r)
             s_all = np.minimum(left, float(batch.stock_left[pos]))
-            csum = np.sum(np.stack([rs[r].v[pick[r]] for r in names]), axis=0)
+            total_capacitance = np.sum(np.stack([rs[r].v[pick[r]] for r in names]), axis=0)
             sel = np.flatnonzero(ok)
             sel = sel[np.lexsort((-a[sel], nb[sel]))]
             # in blocks, best first by (bought, the margin before the corner's): a block whose first
@@ -514,10 +514,10 @@ class CapSide:
                     break
                 cm = corner.margin({r: rs[r].low[pick[r][blk]] for r in names})
                 mu = np.minimum(a[blk], cm)
-                order = np.lexsort((csum[blk], -s_all[blk], -mu, nb[blk]))
+                order = np.lexsort((total_capacitance[blk], -s_all[blk], -mu, nb[blk]))
                 first = order[0]
                 tie = order[(nb[blk][order] == nb[blk][first]) & (mu[order] == mu[first])
-                            & (s_all[blk][order] == s_all[blk][first]) & (csum[blk][order] == csum[blk][first])]
+                            & (s_all[blk][order] == s_all[blk][first]) & (total_capacitance[blk][order] == total_capacitance[blk][first])]
                 for t in tie:
                     k = blk[t]
                     got = self._key(batch, pos, shape, {r: int(pick[r][k]) for r in names}, roles, float(left[k]),

@@ -15,7 +15,7 @@ from dataclasses import fields
 import numpy as np
 
 from ..analysis import core
-from .evaluate import Context
+from .evaluate import SearchContext
 
 __all__ = ["CornerTest", "least_sum", "csum_exact", "take_dc", "CORNER_BLOCK", "SMALL_CORNER"]
 
@@ -40,7 +40,7 @@ class CornerTest:
     """The corner test of one resistor set, vertex by vertex: a combination is dropped at the
     first vertex it fails, and the vertices are visited hardest first."""
 
-    def __init__(self, ctx: Context, dcs):
+    def __init__(self, ctx: SearchContext, dcs):
         self.ctx = ctx
         self.f = ctx.problem.targets.f_low
         self.dcs = dcs

@@ -36,14 +36,14 @@ from typing import Callable, Mapping
 import numpy as np
 
 from ..parts import StockLine
-from .capacitors import CapSide, Completion, _bought
-from .evaluate import Context, evaluate_resistors, nominal_distance, tighten
+from .capacitors import CapacitorSide, Completion, _bought
+from .evaluate import SearchContext, evaluate_resistors, nominal_distance, tighten
 from .joins import candidate_sets, role_ranges
 from .pools import Pools
 from .tables import RoleTable, TripleWindow
 from .windows import Band
 
-__all__ = ["Completion", "Found", "Search", "search_transistor", "exhaustive_search", "resistor_sets_exhaustive",
+__all__ = ["Completion", "FoundDesign", "Search", "search_transistor", "exhaustive_search", "resistor_sets_exhaustive",
            "design_key", "SET_BUDGET", "WORK_BUDGET", "BANDS"]
 
 JUDGE_CHUNK = 4096
@@ -64,7 +64,7 @@ BANDS = (0.0,) + tuple(2.0 ** k for k in range(-16, 1, 2)) + (2.0, np.inf)
 
 
 @dataclass
-class RBatch:
+class ResistorBatch:
     """Resistor sets of one shape that passed the worst case."""
 
     tables: dict[str, RoleTable]
@@ -79,17 +79,17 @@ class RBatch:
 
 
 @dataclass(frozen=True)
-class Found:
+class FoundDesign:
     """One design: resistor set (batch, position) and its capacitors, with its objective key."""
 
     key: tuple
-    batch: RBatch
+    batch: ResistorBatch
     pos: int
     completion: Completion
     transistor: StockLine
 
 
-def _judge_sets(ctx: Context, T: Mapping[str, RoleTable], idx: dict[str, np.ndarray], pools: Pools, pr: int,
+def _judge_sets(ctx: SearchContext, T: Mapping[str, RoleTable], idx: dict[str, np.ndarray], pools: Pools, pr: int,
                 virtual):
     v = {r: T[r].v[idx[r]] for r in ctx.res_roles}
     tol = {r: T[r].tol[idx[r]] for r in ctx.res_roles}
@@ -111,7 +111,7 @@ def _judge_sets(ctx: Context, T: Mapping[str, RoleTable], idx: dict[str, np.ndar
     ev.distance, ev.margin_r, ev.mu = ev.distance[sel], ev.margin_r[sel], ev.mu[sel]
     ev.nominal = {k: a[sel] for k, a in ev.nominal.items()}
     bought = _bought([(m[sel], c[sel]) for m, c in parts], virtual)
-    return RBatch(dict(T), {r: a[ev.keep] for r, a in idx.items()}, ev, pr, left[sel], bought)
+    return ResistorBatch(dict(T), {r: a[ev.keep] for r, a in idx.items()}, ev, pr, left[sel], bought)
 
 
 def per_role(roles, tables) -> dict[str, Mapping]:
@@ -123,7 +123,7 @@ def per_role(roles, tables) -> dict[str, Mapping]:
     return {r: tables for r in roles}
 
 
-def _shapes(ctx: Context, roles, tables) -> list[dict]:
+def _shapes(ctx: SearchContext, roles, tables) -> list[dict]:
     tabs = per_role(roles, tables)
     choices = [[c for c in ctx.problem.counts_for(r) if c in tabs[r]] for r in roles]
     return [dict(zip(roles, combo)) for combo in itertools.product(*choices)]
@@ -163,7 +163,7 @@ def _sub_shapes(tabs, shape, ranges=None, stats=None):
         yield out
 
 
-def resistor_batches(ctx: Context, rtables, pools: Pools, virtual, *, pruned: bool = True) -> list[RBatch]:
+def resistor_batches(ctx: SearchContext, rtables, pools: Pools, virtual, *, pruned: bool = True) -> list[ResistorBatch]:
     """Every resistor set that passes the worst case, one batch per shape (tables as ``per_role`` takes)."""
     out = []
     tabs = per_role(ctx.res_roles, rtables)
@@ -194,26 +194,26 @@ def _all_sets(T: Mapping[str, RoleTable], roles, chunk: int = 400_000):
 resistor_sets_exhaustive = _all_sets
 
 
-def design_key(prefer: str, b: int, p: int, d: float, mu: float, s: float, csum: float, canon: tuple) -> tuple:
+def design_key(prefer: str, b: int, p: int, d: float, mu: float, s: float, total_capacitance: float, canon: tuple) -> tuple:
     """The objective as a sortable tuple; ``b`` (parts to buy) is 0 except for shopping searches,
     ``mu`` the smallest margin of every target and rating."""
     if prefer == "closest":
-        return (b, d, p, -mu, -s, csum, canon)
-    return (b, p, -mu, d, -s, csum, canon)
+        return (b, d, p, -mu, -s, total_capacitance, canon)
+    return (b, p, -mu, d, -s, total_capacitance, canon)
 
 
-def _res_canon(batch: RBatch, pos: int, ctx: Context) -> tuple:
+def _res_canon(batch: ResistorBatch, pos: int, ctx: SearchContext) -> tuple:
     return tuple(batch.tables[r].key(int(batch.idx[r][pos])) for r in ctx.res_roles)
 
 
-def _found(ctx, b: RBatch, pos: int, comp: Completion, transistor: StockLine, prefer: str) -> Found:
+def _found(ctx, b: ResistorBatch, pos: int, comp: Completion, transistor: StockLine, prefer: str) -> FoundDesign:
     m = min(float(b.ev.mu[pos]), comp.margin_c)
     s = min(float(b.stock_left[pos]), comp.stock_left)
     canon = (transistor.index, _res_canon(b, pos, ctx),
              tuple(t.key(i) for t, i in comp.caps.values()))
     key = design_key(prefer, int(b.bought[pos]) + comp.bought, b.pr + comp.pc, float(b.ev.distance[pos]), m, s,
-                     comp.csum, canon)
-    return Found(key, b, pos, comp, transistor)
+                     comp.total_capacitance, canon)
+    return FoundDesign(key, b, pos, comp, transistor)
 
 
 def _next_band(d: float) -> float:
@@ -226,7 +226,7 @@ def _next_band(d: float) -> float:
 class Search:
     """The best-first search over entries (module docstring) for one or more transistors.
 
-    ``transistors``: (stock line, Context) pairs.  ``rtables``/``ctables``: candidates shared by the
+    ``transistors``: (stock line, SearchContext) pairs.  ``rtables``/``ctables``: candidates shared by the
     roles or per role (``per_role``).  ``virtual_ids``: stock lines standing for parts one could buy
     (the objective then starts with their number); ``min_bought`` a known lower bound on it.
     ``budget`` bounds the resistor sets enumerated, ``work_budget`` the partial sets the bounds
@@ -253,11 +253,11 @@ class Search:
         self.rtables = rtables
         self.trs = []
         for tr, ctx in transistors:
-            caps = CapSide(ctx, ctables, self.pools, self.virtual)
+            caps = CapacitorSide(ctx, ctables, self.pools, self.virtual)
             shapes = sorted(_shapes(ctx, ctx.res_roles, rtables), key=lambda s: sum(s.values()))
             self.trs.append((tr, ctx, caps, shapes))
         self.stats = {"sets": 0, "work": 0, "judged": 0, "entries": 0, "truncated": False, "open": None}
-        self.found: dict[tuple, Found] = {}  # (transistor, resistor set) -> its best design
+        self.found: dict[tuple, FoundDesign] = {}  # (transistor, resistor set) -> its best design
         self._best: list = []  # the ``top`` best (key, set) of ``found``, kept as they change
         self._cache: dict = {}
         self._tight: dict = {}  # (transistor, level) -> the tightened context (``evaluate.tighten``)
@@ -292,10 +292,10 @@ class Search:
             return None
         return self._best[self.top - 1][0]
 
-    def results(self) -> list[Found]:
+    def results(self) -> list[FoundDesign]:
         return [self.found[at] for _, at in self._best]
 
-    def _record(self, at: tuple, f: Found) -> None:
+    def _record(self, at: tuple, f: FoundDesign) -> None:
         """File ``f`` as the best design of set ``at`` (a set's key only ever improves, so the top
         list needs only this set's old entry replaced)."""
         self.found[at] = f
@@ -312,7 +312,7 @@ class Search:
 
     # --- the loop --------------------------------------------------------------------------------
 
-    def run(self) -> list[Found]:
+    def run(self) -> list[FoundDesign]:
         heap: list = []
         counter = itertools.count()
         self._push = lambda key, entry: heapq.heappush(heap, (key, next(counter), entry))
@@ -401,7 +401,7 @@ class Search:
         else:
             bound_ctx, band, floor = ctx, (Band(ctx, b) if np.isfinite(b) else None), 0.0
         pr = sum(shape.values())
-        kept: list[RBatch] = []
+        kept: list[ResistorBatch] = []
         n_kept = 0
         cut = b
         in_band = 0
@@ -459,7 +459,7 @@ class Search:
             text += f", best so far {f.batch.pr + f.completion.pc} parts, smallest margin {mu:+.1%}"
         return text
 
-    def _complete(self, ti: int, kept: list[RBatch], pc: int | None, floor_end: float) -> int | None:
+    def _complete(self, ti: int, kept: list[ResistorBatch], pc: int | None, floor_end: float) -> int | None:
         """Capacitors for the kept sets, best first, while their bound can beat the answer; with a
         count ``pc``, the next count some of them need (None: none)."""
         tr, ctx, caps, _ = self.trs[ti]
@@ -548,14 +548,14 @@ class Search:
         return need
 
 
-def _keep_where(bt: RBatch, ok: np.ndarray) -> RBatch | None:
+def _keep_where(bt: ResistorBatch, ok: np.ndarray) -> ResistorBatch | None:
     sel = np.flatnonzero(ok)
     if not len(sel):
         return None
     return bt if len(sel) == len(bt) else _take_batch(bt, sel)
 
 
-def _trim(kept: list[RBatch], n: int, by_margin: bool = False) -> tuple[list[RBatch], float]:
+def _trim(kept: list[ResistorBatch], n: int, by_margin: bool = False) -> tuple[list[ResistorBatch], float]:
     """The best n sets (whole ties kept), and where the rest begins: by distance, those below the
     n-th smallest D; by margin, those above the n-th largest μ."""
     x = np.concatenate([(-bt.ev.mu if by_margin else bt.ev.distance) for bt in kept])
@@ -570,18 +570,18 @@ def _trim(kept: list[RBatch], n: int, by_margin: bool = False) -> tuple[list[RBa
     return out, (-cut if by_margin else cut)
 
 
-def _take_batch(b: RBatch, sel: np.ndarray) -> RBatch:
+def _take_batch(b: ResistorBatch, sel: np.ndarray) -> ResistorBatch:
     ev = b.ev
     ev2 = type(ev)(keep=ev.keep[sel], target={k: a[sel] for k, a in ev.target.items()},
                    rating={k: a[sel] for k, a in ev.rating.items()}, active=ev.active[sel],
                    vnode={r: (x[sel], y[sel]) for r, (x, y) in ev.vnode.items()}, distance=ev.distance[sel],
                    margin_r=ev.margin_r[sel], nominal={k: a[sel] for k, a in ev.nominal.items()}, mu=ev.mu[sel])
-    return RBatch(b.tables, {r: a[sel] for r, a in b.idx.items()}, ev2, b.pr, b.stock_left[sel], b.bought[sel])
+    return ResistorBatch(b.tables, {r: a[sel] for r, a in b.idx.items()}, ev2, b.pr, b.stock_left[sel], b.bought[sel])
 
 
 
-def search_transistor(ctx: Context, transistor: StockLine, rtables, ctables, lines, top: int,
-                      *, exhaustive: bool = False, **kw) -> list[Found]:
+def search_transistor(ctx: SearchContext, transistor: StockLine, rtables, ctables, lines, top: int,
+                      *, exhaustive: bool = False, **kw) -> list[FoundDesign]:
     """The ``top`` best designs with this transistor."""
     if exhaustive:
         return exhaustive_search(ctx, transistor, rtables, ctables, lines, top, **kw)
@@ -589,15 +589,15 @@ def search_transistor(ctx: Context, transistor: StockLine, rtables, ctables, lin
     return Search([(transistor, ctx)], rtables, ctables, lines, top, **kw).run()
 
 
-def exhaustive_search(ctx: Context, transistor: StockLine, rtables, ctables, lines, top: int,
-                      *, virtual_ids=(), pools: Pools | None = None, **_ignored) -> list[Found]:
+def exhaustive_search(ctx: SearchContext, transistor: StockLine, rtables, ctables, lines, top: int,
+                      *, virtual_ids=(), pools: Pools | None = None, **_ignored) -> list[FoundDesign]:
     """The naive enumeration (``--exhaustive``): every combination of one candidate per role, no
     bounds, each resistor set completed with its best capacitors of any count; the ``top`` best."""
     if pools is None:
         pools = Pools.build(lines, exclude=virtual_ids)
     virtual = np.zeros(len(pools.qty), np.int64)
     virtual[list(virtual_ids)] = 1
-    caps = CapSide(ctx, ctables, pools, virtual)
+    caps = CapacitorSide(ctx, ctables, pools, virtual)
     found = []
     for b in resistor_batches(ctx, rtables, pools, virtual, pruned=False):
         for pos in range(len(b)):

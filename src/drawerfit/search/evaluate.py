@@ -20,7 +20,7 @@ from ..constants import NOMINAL_TEMP_C, thermal_voltage
 from ..stages import TransistorModel
 from .problem import DesignProblem
 
-__all__ = ["Context", "ResistorEval", "evaluate_resistors", "vertex_dc", "cap_node", "nominal_distance"]
+__all__ = ["SearchContext", "ResistorEval", "evaluate_resistors", "vertex_dc", "cap_node", "nominal_distance"]
 
 CAP_NODE = {"C1": "v_c1", "C2": "v_c2", "CE": "v_ce"}
 _POWER = {"R1": "p_r1", "R2": "p_r2", "RE": "p_re", "RC": "p_rc", "RE2": "p_re2"}
@@ -41,7 +41,7 @@ class Vertex:
     nominal: bool = False
 
 
-class Context:
+class SearchContext:
     """The fixed part of a search: problem, transistor, roles, vertices."""
 
     def __init__(self, problem: DesignProblem, transistor: TransistorModel):
@@ -98,7 +98,7 @@ def _pick(vertex: Vertex, role: str, v, tol):
 STACK = 1 << 16  # (vertex, set) pairs evaluated in one call
 
 
-def _vertices_dc(ctx: Context, verts, v: Mapping[str, np.ndarray], tol: Mapping[str, np.ndarray]):
+def _vertices_dc(ctx: SearchContext, verts, v: Mapping[str, np.ndarray], tol: Mapping[str, np.ndarray]):
     """``core.evaluate_dc`` at several vertices in one call: arrays of shape (vertices, sets)."""
     vals = {}
     for r in ctx.res_roles:
@@ -110,7 +110,7 @@ def _vertices_dc(ctx: Context, verts, v: Mapping[str, np.ndarray], tol: Mapping[
     return core.evaluate_dc(**ctx.dc_args(vals), hfe=hfe, temp_c=temp)
 
 
-def vertex_dc(ctx: Context, vertex: Vertex, v: Mapping[str, np.ndarray], tol: Mapping[str, np.ndarray]):
+def vertex_dc(ctx: SearchContext, vertex: Vertex, v: Mapping[str, np.ndarray], tol: Mapping[str, np.ndarray]):
     """``core.evaluate_dc`` at one vertex for arrays of resistor values and tolerances."""
     vals = {r: _pick(vertex, r, v[r], tol[r]) for r in ctx.res_roles}
     return core.evaluate_dc(**ctx.dc_args(vals), hfe=vertex.hfe, temp_c=vertex.temp)
@@ -143,7 +143,7 @@ class ResistorEval:
             self.mu = np.min(np.stack(parts), axis=0) if parts else np.full(len(self.keep), np.inf)
 
 
-def _target_margins(ctx: Context, dc) -> dict[str, np.ndarray]:
+def _target_margins(ctx: SearchContext, dc) -> dict[str, np.ndarray]:
     t = ctx.problem.targets
     ie = dc.ie
     out = {"ie_min": (ie - t.ie_min) / t.ie_min, "ie_max": (t.ie_max - ie) / t.ie_max}
@@ -161,7 +161,7 @@ def _target_margins(ctx: Context, dc) -> dict[str, np.ndarray]:
     return out
 
 
-def _rating_margins(ctx: Context, dc, ratings: Mapping[str, np.ndarray]) -> dict[str, np.ndarray]:
+def _rating_margins(ctx: SearchContext, dc, ratings: Mapping[str, np.ndarray]) -> dict[str, np.ndarray]:
     c, tr = ctx.problem.conditions, ctx.tr
     out = {}
     for role in ctx.res_roles:
@@ -177,7 +177,7 @@ def _rating_margins(ctx: Context, dc, ratings: Mapping[str, np.ndarray]) -> dict
     return out
 
 
-def evaluate_resistors(ctx: Context, v: Mapping[str, np.ndarray], tol: Mapping[str, np.ndarray],
+def evaluate_resistors(ctx: SearchContext, v: Mapping[str, np.ndarray], tol: Mapping[str, np.ndarray],
                        ratings: Mapping[str, np.ndarray], *, drop: bool = True) -> ResistorEval:
     """Judge resistor sets at every vertex; with ``drop`` the failing ones are left out as soon as
     they fail (their margins are then not complete), else every set is judged at every vertex."""
@@ -237,7 +237,7 @@ def evaluate_resistors(ctx: Context, v: Mapping[str, np.ndarray], tol: Mapping[s
         margin_r=margin_r, nominal=nominal)
 
 
-def tighten(ctx: Context, theta: float) -> Context | None:
+def tighten(ctx: SearchContext, theta: float) -> SearchContext | None:
     """The search's context with every target and rating tightened so that a set meets it exactly when
     all its margins under ``ctx`` are at least ``theta`` (0 <= theta < 1); None when nothing can.
 
@@ -270,10 +270,10 @@ def tighten(ctx: Context, theta: float) -> Context | None:
     model = replace(tr, ic_max=down(tr.ic_max), vceo=down(tr.vceo))
     if model.vceo is not None and model.vceo < p.supply:
         return None
-    return Context(replace(p, targets=targets, conditions=cond), model)
+    return SearchContext(replace(p, targets=targets, conditions=cond), model)
 
 
-def nominal_figures(ctx: Context, v: Mapping[str, np.ndarray]) -> dict[str, np.ndarray]:
+def nominal_figures(ctx: SearchContext, v: Mapping[str, np.ndarray]) -> dict[str, np.ndarray]:
     """IE and |gain| at the nominal point (nominal values, nominal hFE and temperature), from the
     active-region formulas whatever the state: IE = (VTH − VBE)⁺/(RET + RTH/(β+1)) and, for the
     common emitter, |gain| = α·(RC‖RL)/(re + RE)·rin/(RS + rin).  A set active at the nominal point
@@ -304,7 +304,7 @@ def nominal_figures(ctx: Context, v: Mapping[str, np.ndarray]) -> dict[str, np.n
     return out
 
 
-def nominal_distance(ctx: Context, v, tol=None, figures: bool = False):
+def nominal_distance(ctx: SearchContext, v, tol=None, figures: bool = False):
     """D: √Σ((x − centre)/half-width)² over the two-sided targets, at the nominal point
     (``nominal_figures``); ``tol`` is not used (the nominal point has none)."""
     n = len(next(iter(v.values())))
@@ -332,12 +332,12 @@ def cap_margin(lo_v, hi_v, rating, polarized, margin_fraction):
     return np.where(polarized & ~one_sign, -np.inf, m)
 
 
-def stacked_dc(ctx: Context, v: Mapping[str, np.ndarray], tol: Mapping[str, np.ndarray]):
+def stacked_dc(ctx: SearchContext, v: Mapping[str, np.ndarray], tol: Mapping[str, np.ndarray]):
     """``core.evaluate_dc`` at every vertex in one call: arrays of shape (vertices, sets)."""
     return _vertices_dc(ctx, ctx.vertices, v, tol)
 
 
-def corner_ok(ctx: Context, dc, caps: Mapping[str, np.ndarray]) -> np.ndarray:
+def corner_ok(ctx: SearchContext, dc, caps: Mapping[str, np.ndarray]) -> np.ndarray:
     """Whole-stage corner at or below the target at every vertex (``dc`` from ``stacked_dc``,
     shape (vertices, n); capacitor arrays broadcast against the last axis)."""
     f = ctx.problem.targets.f_low
@@ -345,14 +345,14 @@ def corner_ok(ctx: Context, dc, caps: Mapping[str, np.ndarray]) -> np.ndarray:
     return np.all(m, axis=0)
 
 
-def lowest_caps(ctx: Context, values: Mapping[str, np.ndarray], tols: Mapping[str, np.ndarray]):
+def lowest_caps(ctx: SearchContext, values: Mapping[str, np.ndarray], tols: Mapping[str, np.ndarray]):
     """The capacitor values the corner is judged at: the low end of the tolerance (nominal: as is)."""
     if ctx.problem.guarantee == "nominal":
         return dict(values)
     return {r: values[r] * (1 - tols[r]) for r in values}
 
 
-def bypasses(ctx: Context, dc, ce: np.ndarray) -> np.ndarray:
+def bypasses(ctx: SearchContext, dc, ce: np.ndarray) -> np.ndarray:
     """Whether bypass capacitors ``ce`` (F, their judged value) bypass RE2 within the band: the
     capacitor's own corner, 1/(2π·CE·(RE2 ‖ (RE + re + (RS‖RB)/(β+1)))), at or below f_low at every
     vertex (``dc`` from ``stacked_dc``, shape (vertices, 1))."""

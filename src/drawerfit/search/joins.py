@@ -18,7 +18,7 @@ from typing import Iterator, Mapping
 import numpy as np
 
 from ..analysis import core
-from .evaluate import Context, nominal_figures, vertex_dc
+from .evaluate import SearchContext, nominal_figures, vertex_dc
 from .bounds import Box, EmitterBounds, emitter_window, par_ceiling, par_floor
 from .windows import CHUNK, DIVIDER_CACHE, EMITTER_FIRST, SLACK, Band, SumIndex, groups as _groups, vth as _vth
 from .tables import RoleTable
@@ -49,7 +49,7 @@ def _span(values: np.ndarray, lo, hi) -> tuple[np.ndarray, np.ndarray]:
     return start, stop
 
 
-def _dividers(ctx: Context, box: Box, em: EmitterBounds, A: RoleTable, B: RoleTable, a_idx: np.ndarray, tally=None,
+def _dividers(ctx: SearchContext, box: Box, em: EmitterBounds, A: RoleTable, B: RoleTable, a_idx: np.ndarray, tally=None,
               ret_range=(0.0, np.inf), tmin: float = 0.0):
     p, tr = ctx.problem, ctx.tr
     vcc = p.supply
@@ -72,7 +72,7 @@ def _dividers(ctx: Context, box: Box, em: EmitterBounds, A: RoleTable, B: RoleTa
     return ia[ok], ib[ok]
 
 
-def _divider_ok(ctx: Context, box: Box, em: EmitterBounds, A: RoleTable, B: RoleTable, ia, ib, ret_range, tmin):
+def _divider_ok(ctx: SearchContext, box: Box, em: EmitterBounds, A: RoleTable, B: RoleTable, ia, ib, ret_range, tmin):
     """The exact divider conditions (module ``bounds``) for (RA, RB) index pairs."""
     p, tr = ctx.problem, ctx.tr
     vcc = p.supply
@@ -114,7 +114,7 @@ class _DividerBlock:
         return _DividerBlock(**{k: getattr(self, k)[sel] for k in self.__slots__})
 
 
-def _divider_blocks(ctx: Context, box: Box, em: EmitterBounds, A: RoleTable, B: RoleTable, tally, ret_range, tmin,
+def _divider_blocks(ctx: SearchContext, box: Box, em: EmitterBounds, A: RoleTable, B: RoleTable, tally, ret_range, tmin,
                     cache: dict | None):
     """Blocks of dividers that pass the bounds; kept in ``cache`` (when not too many) so that the
     bands of a search form them once."""
@@ -171,7 +171,7 @@ def _join_sorted(T: RoleTable, box: Box, owner_lo, owner_hi, owner_lo_max=None, 
         yield pos[ok], k[ok]
 
 
-def _collector(ctx: Context, box: Box, T: Mapping[str, RoleTable], idx: dict[str, np.ndarray],
+def _collector(ctx: SearchContext, box: Box, T: Mapping[str, RoleTable], idx: dict[str, np.ndarray],
                band: Band | None = None):
     """Chunks of (divider, emitter) sets joined to RC by the gain, rout, swing and saturation bounds
     (and the band's gain window)."""
@@ -409,7 +409,7 @@ def _sets_emitter_first(ctx, box, em, T, band: Band | None, re_ok, ret_range, tm
             yield {ctx.ra: ia[ok], ctx.rb: ib[ok], "RE": kre[ok]}
 
 
-def role_ranges(ctx: Context) -> dict[str, tuple[float, float]]:
+def role_ranges(ctx: SearchContext) -> dict[str, tuple[float, float]]:
     """Nominal values each emitter and collector role can hold in a set that passes the bounds:
     RE at least its floor (swing) and at most its ceiling; RE + RE2 at most U, which is below
     (VCC − VBE)/ie_min; RC at most the headroom over α (bounds)."""
@@ -423,7 +423,7 @@ def role_ranges(ctx: Context) -> dict[str, tuple[float, float]]:
     return out
 
 
-def candidate_sets(ctx: Context, T: Mapping[str, RoleTable], tally: list | None = None, band: Band | None = None,
+def candidate_sets(ctx: SearchContext, T: Mapping[str, RoleTable], tally: list | None = None, band: Band | None = None,
                    cache: dict | None = None) -> Iterator[dict[str, np.ndarray]]:
     """Chunks of resistor sets {role: index into T[role]} that pass every bound above (and, with
     ``band``, the nominal windows of D < band.d).
@@ -484,7 +484,7 @@ def candidate_sets(ctx: Context, T: Mapping[str, RoleTable], tally: list | None 
             yield idx
 
 
-def _hot_ok(ctx: Context, box: Box, T, idx: dict) -> dict:
+def _hot_ok(ctx: SearchContext, box: Box, T, idx: dict) -> dict:
     """The sets whose emitter resistors stay within their derated power, and 2·IC within IC max, at
     the vertex of highest IE (RA low, RB high, RE and RE2 low, hFE high, hot: the search's first
     vertex), where IE = (VTH − VBE)/(RET + RTH/(β+1)) in the active region (bounds)."""

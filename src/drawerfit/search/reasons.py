@@ -54,7 +54,7 @@ def _fmt(x: float, unit: str) -> str:
 def hard_limits(problem, transistors) -> list[Limit]:
     """The ceilings of ``problem`` that no passives can lift, stage-wide and per transistor line."""
     from ..constants import thermal_voltage
-    from .design import transistor_model
+    from .runner import transistor_model
 
     out: list[Limit] = []
     t, c = problem.targets, problem.conditions
@@ -154,9 +154,9 @@ def corner_with_largest(problem, choice, lines) -> tuple[float, dict] | None:
     """The worst-case corner (Hz) of the design's resistors with the largest capacitor in stock whose
     rating suits each role's node, and those capacitors: what the drawer can do for the corner."""
     from ..analysis import core
-    from .evaluate import Context, cap_margin, stacked_dc
+    from .evaluate import SearchContext, cap_margin, stacked_dc
 
-    ctx = Context(problem, choice.model)
+    ctx = SearchContext(problem, choice.model)
     roles = choice.roles
     v = {r: np.array([roles[r].equivalent.value]) for r in ctx.res_roles}
     tol = {r: np.array([roles[r].tolerance]) for r in ctx.res_roles}

@@ -30,8 +30,9 @@ import numpy as np
 
 from ..analysis import core
 from ..parts import Source, StockLine
-from .evaluate import Context, evaluate_resistors, vertex_dc
+from .evaluate import SearchContext, evaluate_resistors, vertex_dc
 from .problem import ShiftedTargets
+from .runner import BUY_FILE, RoleChoice, run_search, transistor_model
 
 __all__ = ["explain_infeasible", "purchase_lines", "e_series_catalogue", "cheapest_purchases", "nearest_design",
            "BUY_RESISTOR_POWERS", "BUY_CAP_VOLTAGES", "SHORTFALL_GRID"]
@@ -39,7 +40,6 @@ __all__ = ["explain_infeasible", "purchase_lines", "e_series_catalogue", "cheape
 BUY_RESISTOR_POWERS = (0.25, 1.0)  # W: the common through-hole ratings (common practice, no source)
 BUY_CAP_VOLTAGES = (25.0, 63.0)  # V: common electrolytic ratings (common practice, no source)
 BUY_FILM_VOLTAGE = 63.0
-BUY_FILE = "(to buy)"
 BUY_PER_UNIT = 8  # a bought line may fill every role of a stage (at most 8 roles): never short
 
 # Relative shortfall levels of the nearest design: 0.1 % to about 1000 (100 000 %) in steps of 25 %.
@@ -143,7 +143,6 @@ def cheapest_purchases(problem, lines, catalogue=None, *, drawer_proven: bool, b
     each S, one search with S and ideal capacitors (``_ideal_caps``) tells whether the resistors of
     S can work at all; if not, every (S, T) is skipped.
     """
-    from .design import _run
     from .engine import SET_BUDGET
     from .pools import Pools
     from .tables import build_tables
@@ -179,7 +178,7 @@ def cheapest_purchases(problem, lines, catalogue=None, *, drawer_proven: bool, b
         if cap <= 0:
             return None, True
         st: dict = {}
-        found, _, _ = _run(problem, every, 1, False, stats_out=st,
+        found, _, _ = run_search(problem, every, 1, False, stats_out=st,
                            budget=_limits(cap, min(_steps(cap), _steps(total) - steps_spent)), tables=(rt, captabs))
         out.searches += 1
         spent += st.get("sets", 0)
@@ -267,13 +266,12 @@ def check_purchases(problem, lines, choice, added, scale: float = 1.0) -> bool:
     then the whole drawer with those parts added has one too.  (The sub-drawer keeps the check
     independent of the shopping search's tables and quick: the ordinary search of the whole
     drawer may spend long refuting the designs with fewer parts first.)"""
-    from .design import _run
 
     used = {ln.index for ln, _ in choice.uses().values() if ln.source.file != BUY_FILE}
     sub = [ln for ln in lines if ln.index in used] + list(added)
     from .engine import SET_BUDGET
 
-    found, _, _ = _run(problem, sub, 1, False, budget=_limits(int(SET_BUDGET * scale)))
+    found, _, _ = run_search(problem, sub, 1, False, budget=_limits(int(SET_BUDGET * scale)))
     return bool(found)
 
 
@@ -314,7 +312,6 @@ def _relaxed(problem, lines, t: float):
 def _restore(choice, lines, t: float):
     """A design found in the eased drawer, on the real lines and ratings (its margins, judged
     under the eased problem, are dropped: ``_judge_full`` gives the real ones)."""
-    from .design import RoleChoice, transistor_model
 
     by = {ln.index: ln for ln in lines}
     f = 1.0 + t
@@ -349,7 +346,6 @@ def nearest_design(problem, lines, *, budget: int | None = None, scale: float = 
     one has a design, then bisected; low levels are cheap (tight bounds), high ones need not be.  ``budget``
     bounds the resistor sets of all probes together (default SET_BUDGET).
     """
-    from .design import _run
     from .engine import SET_BUDGET
 
     total = int(SET_BUDGET * scale) if budget is None else budget
@@ -361,7 +357,7 @@ def nearest_design(problem, lines, *, budget: int | None = None, scale: float = 
     def probe(i: int) -> bool:
         p, eased = _relaxed(single, lines, SHORTFALL_GRID[i])
         st: dict = {}
-        got, _, _ = _run(p, eased, 1, False, stats_out=st,
+        got, _, _ = run_search(p, eased, 1, False, stats_out=st,
                          budget=_limits(total - out.sets, _steps(total) - steps[0]))
         steps[0] += st.get("work", 0)
         out.searches += 1
@@ -398,7 +394,7 @@ def nearest_design(problem, lines, *, budget: int | None = None, scale: float = 
 
 def _judge_full(problem, choice) -> dict:
     """Every constraint's worst-case margin for one design under the full problem."""
-    ctx = Context(problem, choice.model)
+    ctx = SearchContext(problem, choice.model)
     roles = choice.roles
     v = {r: np.array([roles[r].equivalent.value]) for r in ctx.res_roles}
     tol = {r: np.array([roles[r].tolerance]) for r in ctx.res_roles}

@@ -5,7 +5,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .evaluate import Context
+from .evaluate import SearchContext
 
 __all__ = ["Band", "SumIndex", "groups", "vth", "SLACK", "CHUNK", "SUM_INDEX_MAX", "DIVIDER_CACHE", "EMITTER_FIRST"]
 
@@ -24,7 +24,7 @@ def vth(vcc, ra, rb):
 class Band:
     """The nominal windows that D < ``d`` implies (module docstring), for one transistor."""
 
-    def __init__(self, ctx: Context, d: float):
+    def __init__(self, ctx: SearchContext, d: float):
         from ..constants import NOMINAL_TEMP_C
 
         p, tr = ctx.problem, ctx.tr

@@ -49,7 +49,7 @@ def _print_choice(result, spec, analysis, cautions, quiet: bool) -> None:
             how = check.message if check is not None else c.orientation.replace("+ to", "fit the + end toward")
             click.echo(f"       polarized: {how}")
     click.echo("")
-    click.echo("Worst-case margins (the search makes the smallest as large as the drawer allows):")
+    click.echo("Worst-case margins (the search puts the smallest in the highest class the drawer allows: 0, 1, 2, 3, 5, 7, 10, 15, 20, 30, 50 %):")
     for name, m in sorted(best.target_margins.items(), key=lambda kv: kv[1]):
         if math.isfinite(m):
             click.echo(f"  {name}: {m:+.1%}")

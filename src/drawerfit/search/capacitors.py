@@ -23,7 +23,7 @@ import numpy as np
 
 from ..analysis import core
 from .corner import CornerTest, least_sum, take_dc
-from .evaluate import SearchContext, bypasses, cap_margin, stacked_dc, vertex_dc
+from .evaluate import SearchContext, bypasses, cap_margin, mu_class, stacked_dc, vertex_dc
 from .pools import Pools
 from .tables import RoleTable
 
@@ -341,7 +341,7 @@ class CapacitorSide:
         total_capacitance = float(np.sum(np.stack([rs[r].v[[chosen[r]]] for r in ctx.cap_roles]), axis=0)[0])
         canon = tuple(rs[r].table.key(int(rs[r].idx[chosen[r]])) for r in ctx.cap_roles)
         n_parts = sum(shape.values())
-        key = (nb, n_parts, -mu, -s_all, total_capacitance, canon)
+        key = (nb, n_parts, -float(mu_class(mu)), -s_all, total_capacitance, canon)
         comp = Completion(caps={r: (rs[r].table, int(rs[r].idx[chosen[r]])) for r in ctx.cap_roles}, pc=n_parts,
                           bought=nb, margin_c=mc, stock_left=left, total_capacitance=total_capacitance,
                           cap_margins={r: float(rs[r].m[chosen[r]]) for r in ctx.cap_roles}, corner_margin=cm)
@@ -444,6 +444,7 @@ class CapacitorSide:
             if 0 <= j < len(levels):
                 _, cm = at(levels[j])
                 best_mu = max(best_mu, min(float(levels[j]), cm))
+        best_mu = float(mu_class(best_mu))  # the objective's grid: any combination on it ties
         if best_mu < floor:
             return None
         base = {r: mq[r] >= best_mu for r in names}
@@ -513,7 +514,7 @@ class CapacitorSide:
                 if best is not None and (nb[k0], -a[k0]) > (best[0][0], best[0][2]):
                     break
                 cm = corner.margin({r: rs[r].low[pick[r][blk]] for r in names})
-                mu = np.minimum(a[blk], cm)
+                mu = mu_class(np.minimum(a[blk], cm))
                 order = np.lexsort((total_capacitance[blk], -s_all[blk], -mu, nb[blk]))
                 first = order[0]
                 tie = order[(nb[blk][order] == nb[blk][first]) & (mu[order] == mu[first])

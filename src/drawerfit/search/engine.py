@@ -37,7 +37,7 @@ import numpy as np
 
 from ..parts import StockLine
 from .capacitors import CapacitorSide, Completion, _bought
-from .evaluate import SearchContext, evaluate_resistors, nominal_distance, tighten
+from .evaluate import MU_STEP_PER, SearchContext, evaluate_resistors, mu_class, mu_grid, nominal_distance, tighten
 from .joins import candidate_sets, role_ranges
 from .pools import Pools
 from .tables import RoleTable, TripleWindow
@@ -56,7 +56,7 @@ SET_BUDGET = 4_000_000  # resistor sets the searches may enumerate (after the bo
 # seconds of pruning work, for specs whose bounds reject nearly everything but only late
 WORK_BUDGET = 100_000_000
 # the bands of the smallest margin μ (fewest-parts): from 1 down by halves to 2^-12, then to 0
-MU_BANDS = tuple(2.0 ** -k for k in range(0, 13)) + (0.0,)
+MU_BANDS = tuple(k / MU_STEP_PER for k in range(MU_STEP_PER, 0, -1)) + (0.0,)  # the objective's margin grid
 # the bands of D (closest): a large drawer holds designs within 1e-5 of the centres, a small one at 0.1 to 0.5;
 # a design's nominal IE lies inside the IE window (IE is monotone in every parameter of the box), so
 # D rarely reaches 1, or √2 with a gain window
@@ -198,21 +198,33 @@ def design_key(prefer: str, b: int, p: int, d: float, mu: float, s: float, total
     """The objective as a sortable tuple; ``b`` (parts to buy) is 0 except for shopping searches,
     ``mu`` the smallest margin of every target and rating."""
     if prefer == "closest":
-        return (b, d, p, -mu, -s, total_capacitance, canon)
-    return (b, p, -mu, d, -s, total_capacitance, canon)
+        return (b, d, p, -float(mu_class(mu)), -s, total_capacitance, canon)
+    return (b, p, -float(mu_class(mu)), d, -s, total_capacitance, canon)
+
+
+def run_key(b: int, p: int, d: float, mu: float, s: float, total_capacitance: float, canon: tuple) -> tuple:
+    """The key of a search at a margin floor (``Search(mu_floor=...)``): parts, then the distance,
+    then the margin class; ``design_key`` of the answer once the floor's class is the top one."""
+    return (b, p, d, -float(mu_class(mu)), -s, total_capacitance, canon)
+
+
+def final_key(k: tuple) -> tuple:
+    """``run_key`` reordered as ``design_key`` (fewest parts): (b, p, −class, d, ...)."""
+    return (k[0], k[1], k[3], k[2], *k[4:])
 
 
 def _res_canon(batch: ResistorBatch, pos: int, ctx: SearchContext) -> tuple:
     return tuple(batch.tables[r].key(int(batch.idx[r][pos])) for r in ctx.res_roles)
 
 
-def _found(ctx, b: ResistorBatch, pos: int, comp: Completion, transistor: StockLine, prefer: str) -> FoundDesign:
+def _found(ctx, b: ResistorBatch, pos: int, comp: Completion, transistor: StockLine, prefer: str,
+           floor_mode: bool = False) -> FoundDesign:
     m = min(float(b.ev.mu[pos]), comp.margin_c)
     s = min(float(b.stock_left[pos]), comp.stock_left)
     canon = (transistor.index, _res_canon(b, pos, ctx),
              tuple(t.key(i) for t, i in comp.caps.values()))
-    key = design_key(prefer, int(b.bought[pos]) + comp.bought, b.pr + comp.pc, float(b.ev.distance[pos]), m, s,
-                     comp.total_capacitance, canon)
+    keyf = run_key if floor_mode else (lambda *a: design_key(prefer, *a))
+    key = keyf(int(b.bought[pos]) + comp.bought, b.pr + comp.pc, float(b.ev.distance[pos]), m, s, comp.total_capacitance, canon)
     return FoundDesign(key, b, pos, comp, transistor)
 
 
@@ -240,8 +252,12 @@ class Search:
 
     def __init__(self, transistors, rtables, ctables, lines, top: int, *, virtual_ids=(), min_bought: int = 0,
                  pools: Pools | None = None, budget: int | None = None, work_budget: int | None = None,
-                 on_step: Callable | None = None):
+                 on_step: Callable | None = None, mu_floor: float | None = None, p_max: int | None = None):
         self.top = top
+        # at a margin floor θ: designs whose every margin is at least θ, fewest parts then nearest the
+        # targets' centres (bounds of the problem tightened by θ, distance bands); at most p_max parts
+        self.mu_floor = mu_floor
+        self.p_max = p_max
         self.pools = pools if pools is not None else Pools.build(lines, exclude=virtual_ids)
         self.virtual = np.zeros(len(self.pools.qty), np.int64)
         self.virtual[list(virtual_ids)] = 1
@@ -266,6 +282,9 @@ class Search:
     # --- keys and bands --------------------------------------------------------------------------
 
     def _by_margin(self, ti: int) -> bool:
+        return self.mu_floor is None and self.trs[ti][1].problem.prefer != "closest"
+
+    def _parts_first(self, ti: int) -> bool:
         return self.trs[ti][1].problem.prefer != "closest"
 
     def _bkey(self, ti: int, b: int, p: int, best_end: float, d: float = -np.inf) -> tuple:
@@ -274,6 +293,8 @@ class Search:
         b = max(b, self.min_bought)
         if self._by_margin(ti):
             return (b, p, -best_end, d)
+        if self._parts_first(ti):
+            return (b, p, best_end, -np.inf)
         return (b, best_end, p, -np.inf)
 
     def _bands(self, ti: int):
@@ -307,7 +328,8 @@ class Search:
         """The context whose bounds hold every set with margins at least ``level`` (None: none can)."""
         key = (ti, level)
         if key not in self._tight:
-            self._tight[key] = tighten(self.trs[ti][1], level)
+            self._tight[key] = tighten(self.trs[ti][1], level * (1 - 1e-9))  # a grid value k/100 may
+            # stand for a margin a rounding below it
         return self._tight[key]
 
     # --- the loop --------------------------------------------------------------------------------
@@ -330,6 +352,8 @@ class Search:
             if beat is not None and heap[0][0] >= beat:
                 break
             key, _, entry = heapq.heappop(heap)
+            if self.p_max is not None and key[1] > self.p_max:
+                continue  # more parts than the caller allows
             self.stats["entries"] += 1
             self._entry(key, entry)
             if self.stats["truncated"]:
@@ -395,9 +419,14 @@ class Search:
         by_margin = self._by_margin(ti)
         tabs = per_role(ctx.res_roles, self.rtables)
         if by_margin:
-            bound_ctx, band, floor = self._ctx_at(ti, b), None, b
+            bound_ctx, band, floor = self._ctx_at(ti, b), None, b * (1 - 1e-9)
             if bound_ctx is None:
                 return [], b, 0
+        elif self.mu_floor:
+            bound_ctx = self._ctx_at(ti, self.mu_floor)
+            if bound_ctx is None:
+                return [], b, 0
+            band, floor = (Band(bound_ctx, b) if np.isfinite(b) else None), self.mu_floor * (1 - 1e-9)
         else:
             bound_ctx, band, floor = ctx, (Band(ctx, b) if np.isfinite(b) else None), 0.0
         pr = sum(shape.values())
@@ -432,8 +461,11 @@ class Search:
                     self.stats["sets"] += len(part[ctx.res_roles[0]])
                     self.stats["judged"] += len(part[ctx.res_roles[0]])
                     bt = _judge_sets(ctx, T, part, self.pools, pr, self.virtual)
+                    if bt is not None and not by_margin and self.mu_floor:
+                        bt = _keep_where(bt, bt.ev.mu >= floor)
                     if bt is not None and by_margin:
-                        bt = _keep_where(bt, (bt.ev.mu >= b) & (bt.ev.mu > cut if cut != b else True))
+                        q = mu_grid(bt.ev.mu)
+                        bt = _keep_where(bt, (q >= b) & (q > cut if cut != b else True))
                     if bt is None:
                         continue
                     kept.append(bt)
@@ -466,6 +498,7 @@ class Search:
         if not kept:
             return None
         by_margin = self._by_margin(ti)
+        mu_floor = self.mu_floor * (1 - 1e-9) if self.mu_floor else 0.0
         # every set is completed once, with no floor: its best capacitors give its exact key, wherever
         # that falls (a design below this band's margin is a design all the same; the heap's order
         # only decides when the search may stop)
@@ -479,7 +512,7 @@ class Search:
             # its largest capacitors give: order by that ceiling, so the search stops at the first
             # set whose ceiling cannot beat the answer even when capacitors limit every margin
             ceil = np.concatenate([caps.margin_ceiling(bt, np.arange(len(bt))) for bt in kept])
-            mu_all = np.minimum(mu_all, ceil)
+            mu_all = mu_grid(np.minimum(mu_all, ceil))
         order = np.lexsort((d_all, -mu_all, b_all)) if by_margin else np.lexsort((d_all, b_all))
         # the band's variable of each set: its μ ceiling (by margin) or D
         x_all = mu_all if by_margin else d_all
@@ -505,7 +538,7 @@ class Search:
             lbs = np.empty(len(chunk))
             for i in np.unique(which[chunk]):
                 m = which[chunk] == i
-                lbs[m] = caps.lower_bounds(kept[i], where[chunk][m])
+                lbs[m] = caps.lower_bounds(kept[i], where[chunk][m], mu_floor)
             for q, lb in zip(chunk, lbs):
                 bt, pos = kept[which[q]], int(where[q])
                 bq = int(b_all[q])
@@ -529,12 +562,12 @@ class Search:
                 for c in ([pc] if pc is not None else range(first_pc, max_pc + 1)):
                     if (at, c) in self._none:
                         continue
-                    comp = caps.complete(bt, pos, c)
+                    comp = caps.complete(bt, pos, c, mu_floor)
                     if comp is None:
                         if len(self._none) < NONE_MEMO:
                             self._none.add((at, c))
                         continue
-                    f = _found(ctx, bt, pos, comp, tr, ctx.problem.prefer)
+                    f = _found(ctx, bt, pos, comp, tr, ctx.problem.prefer, self.mu_floor is not None)
                     if have is None or f.key < have.key:
                         self._record(at, f)
                         have = f
@@ -558,13 +591,13 @@ def _keep_where(bt: ResistorBatch, ok: np.ndarray) -> ResistorBatch | None:
 def _trim(kept: list[ResistorBatch], n: int, by_margin: bool = False) -> tuple[list[ResistorBatch], float]:
     """The best n sets (whole ties kept), and where the rest begins: by distance, those below the
     n-th smallest D; by margin, those above the n-th largest μ."""
-    x = np.concatenate([(-bt.ev.mu if by_margin else bt.ev.distance) for bt in kept])
+    x = np.concatenate([(-mu_grid(bt.ev.mu) if by_margin else bt.ev.distance) for bt in kept])
     cut = float(np.partition(x, n)[n])
     if not np.any(x < cut):  # more than n sets share the best value: keep them all
         cut = float(np.nextafter(cut, np.inf))
     out = []
     for bt in kept:
-        sel = np.flatnonzero((-bt.ev.mu if by_margin else bt.ev.distance) < cut)
+        sel = np.flatnonzero((-mu_grid(bt.ev.mu) if by_margin else bt.ev.distance) < cut)
         if len(sel):
             out.append(_take_batch(bt, sel))
     return out, (-cut if by_margin else cut)

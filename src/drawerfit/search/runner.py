@@ -167,18 +167,74 @@ def run_search(problem: DesignProblem, lines, top: int, exhaustive: bool, virtua
             budget, work_budget = SET_BUDGET, WORK_BUDGET
         elif isinstance(budget, tuple):
             budget, work_budget = budget
-        search = Search([(tr, ctxs[tr.index]) for tr in trs], rtables, ctables, lines, top, virtual_ids=virtual_ids,
-                        min_bought=min_bought, pools=pools, budget=budget, work_budget=work_budget, on_step=on_step)
+        pairs = [(tr, ctxs[tr.index]) for tr in trs]
+        floor = None if problem.prefer == "closest" else 0.0
+        search = Search(pairs, rtables, ctables, lines, top, virtual_ids=virtual_ids, min_bought=min_bought,
+                        pools=pools, budget=budget, work_budget=work_budget, on_step=on_step, mu_floor=floor)
         found = search.run()
-        stats = search.stats
+        stats = dict(search.stats)
         if any(caps.skipped for _, _, caps, _ in search.trs) and not found:
             stats["truncated"] = True
             stats["skipped_triples"] = True
+        if floor is not None:
+            found = _climb(pairs, found, stats, dict(rtables=rtables, ctables=ctables, lines=lines, top=top,
+                                                     virtual_ids=virtual_ids, min_bought=min_bought, pools=pools,
+                                                     on_step=on_step), budget, work_budget)
     if stats_out is not None:
         stats_out.update(stats)
     by_index = {tr.index: tr for tr in trs}
     return ([_with_picks(choice_of(problem, ctxs[f.transistor.index], f), pools, problem.units) for f in found],
             [by_index[i] for i in by_index], why)
+
+
+def _climb(pairs, found, stats: dict, kw: dict, budget: int, work_budget: int | None) -> list:
+    """The fewest-parts objective (B, P, −class(μ), D, ...) from searches at margin floors.
+
+    A search at floor θ (``Search(mu_floor=θ)``) gives the best designs by (B, P, D) among those
+    whose every margin is at least θ.  For the best design: from the fewest-parts designs, climb
+    the margin classes (``evaluate.MU_CLASSES``) while a search at the next class's floor, held to
+    that many parts, still has one; the last holds the answer.  For the ``top`` best: a search at
+    every class until one finds nothing, and the best of all their designs (every design of the
+    top lies in the top of the search at its own class: whatever that search ranks before it ranks
+    before it in the objective too).  Every search counts against the one budget; docs/method.md,
+    "Objective"."""
+    from .engine import final_key
+    from .evaluate import MU_CLASSES
+
+    def done(designs):
+        best: dict = {}
+        for f in designs:
+            f = replace(f, key=final_key(f.key))
+            at = (f.transistor.index, f.key[-1][1])
+            if at not in best or f.key < best[at].key:
+                best[at] = f
+        return sorted(best.values(), key=lambda f: f.key)[:kw["top"]]
+
+    if not found or stats.get("truncated"):
+        return done(found)
+    many = kw["top"] > 1
+    b0, p0 = found[0].key[0], found[0].key[1]
+    level = 0.0 if many else -found[0].key[3]  # the class of the nearest fewest-parts design
+    pool = list(found)
+    for theta in (c for c in MU_CLASSES if c > level):
+        left = budget - stats.get("sets", 0)
+        wleft = None if work_budget is None else work_budget - stats.get("work", 0)
+        if left <= 0 or (wleft is not None and wleft <= 0):
+            stats["truncated"] = True
+            break
+        s = Search(pairs, mu_floor=theta, p_max=None if many else p0, budget=left, work_budget=wleft, **kw)
+        got = s.run()
+        for k in ("sets", "work", "judged", "entries"):
+            stats[k] = stats.get(k, 0) + s.stats.get(k, 0)
+        if s.stats["truncated"]:
+            stats["truncated"] = True
+            stats["open"] = s.stats.get("open")
+        if not got or (not many and (got[0].key[0], got[0].key[1]) != (b0, p0)):
+            break
+        pool = pool + got if many else got
+        if s.stats["truncated"]:
+            break
+    return done(pool)
 
 
 def _with_picks(choice: "DesignChoice", pools: Pools, units: int) -> "DesignChoice":

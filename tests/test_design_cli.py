@@ -95,7 +95,7 @@ def test_people_output_and_bad_spec(tmp_path, samples):
     stock = str(samples / "teaching_lab.csv")
     r = CliRunner().invoke(main, ["design", str(samples / "specs" / "gain_stage.toml"), "--stock", stock])
     assert r.exit_code == 0, r.output
-    for word in ("RE2", "CE", "Pick list", "Binding constraints", "Cautions"):
+    for word in ("RE2", "CE", "Pick list", "Worst-case margins", "Cautions"):
         assert word in r.output
     # an electrolytic's orientation is told once, in the words `analyze` uses, without jargon
     roles = [ln for ln in r.output.splitlines() if ln.strip().startswith("polarized:")]

@@ -11,11 +11,9 @@ the band windows and of the join that starts from the emitter; the full enumerat
 from __future__ import annotations
 
 import json
-import math
 import os
 import subprocess
 import sys
-from pathlib import Path
 
 import numpy as np
 import pytest

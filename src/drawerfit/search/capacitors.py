@@ -31,7 +31,6 @@ __all__ = ["CapacitorSide", "Completion", "take_dc", "HUGE_CAP_FACTOR", "CAP_TRI
 
 HUGE_CAP_FACTOR = 10.0
 CAP_TRIPLE_MAX = 2_000_000  # capacitor triples built at most; beyond, shapes with them are not searched
-CEILING_BLOCK = 1 << 17  # (vertex, set) pairs of one margin-ceiling evaluation
 NAIVE_MAX = 4096  # a shape with at most this many combinations is simply enumerated
 CORNER_SLACK = 1e-6  # the corner test at a margin's threshold is loosened by this much (above the root
 # search's 1e-7), and the exact margins of what passes are then computed and compared
@@ -186,29 +185,6 @@ class CapacitorSide:
         m = core.meets_corner(dc1, c1=top["C1"], c2=top["C2"], ce=top.get("CE", 0.0),
                               f_target=ctx.problem.targets.f_low * (1 - floor))
         return np.all(m, axis=0)
-
-    def margin_ceiling(self, batch, positions: np.ndarray) -> np.ndarray:
-        """An upper bound on the corner margin each set at ``positions`` can have: the margin with the
-        largest judged capacitor each role may take (ratings ignored), worst over the box, since
-        every corner falls as any capacitance grows (−inf: no capacitors can reach the corner)."""
-        ctx = self.ctx
-        n = len(positions)
-        if not n or not self.shapes:
-            return np.full(n, -np.inf)
-        top = {r: max(self._top_low(r, c) for c in {s[r] for s in self.shapes}) for r in ctx.cap_roles}
-        if not all(top.values()):
-            return np.full(n, -np.inf)
-        f = self.ctx.problem.targets.f_low
-        out = np.empty(n)
-        step = max(1, CEILING_BLOCK // max(1, len(ctx.vertices)))
-        for c0 in range(0, n, step):
-            pos = positions[c0:c0 + step]
-            dcs = self._dcs(batch, pos)
-            with np.errstate(invalid="ignore"):
-                corner = core.low_corner(dcs, c1=top["C1"], c2=top["C2"], ce=top.get("CE", 0.0)).f_low
-            worst = np.max(np.where(np.isnan(corner), np.inf, corner), axis=0)
-            out[c0:c0 + step] = (f - worst) / f
-        return out
 
     def _dcs(self, batch, pos):
         ctx = self.ctx

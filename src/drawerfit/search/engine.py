@@ -37,13 +37,13 @@ import numpy as np
 
 from ..parts import StockLine
 from .capacitors import CapacitorSide, Completion, _bought
-from .evaluate import MU_STEP_PER, SearchContext, evaluate_resistors, mu_class, mu_grid, nominal_distance, tighten
+from .evaluate import SearchContext, evaluate_resistors, mu_class, nominal_distance, tighten
 from .joins import candidate_sets, role_ranges
 from .pools import Pools
 from .tables import RoleTable, TripleWindow
 from .windows import Band
 
-__all__ = ["Completion", "FoundDesign", "Search", "search_transistor", "exhaustive_search", "resistor_sets_exhaustive",
+__all__ = ["Completion", "FoundDesign", "Search", "exhaustive_search", "resistor_sets_exhaustive",
            "design_key", "SET_BUDGET", "WORK_BUDGET", "BANDS"]
 
 JUDGE_CHUNK = 4096
@@ -56,7 +56,6 @@ SET_BUDGET = 4_000_000  # resistor sets the searches may enumerate (after the bo
 # seconds of pruning work, for specs whose bounds reject nearly everything but only late
 WORK_BUDGET = 100_000_000
 # the bands of the smallest margin μ (fewest-parts): from 1 down by halves to 2^-12, then to 0
-MU_BANDS = tuple(k / MU_STEP_PER for k in range(MU_STEP_PER, 0, -1)) + (0.0,)  # the objective's margin grid
 # the bands of D (closest): a large drawer holds designs within 1e-5 of the centres, a small one at 0.1 to 0.5;
 # a design's nominal IE lies inside the IE window (IE is monotone in every parameter of the box), so
 # D rarely reaches 1, or √2 with a gain window
@@ -281,32 +280,15 @@ class Search:
 
     # --- keys and bands --------------------------------------------------------------------------
 
-    def _by_margin(self, ti: int) -> bool:
-        return self.mu_floor is None and self.trs[ti][1].problem.prefer != "closest"
-
     def _parts_first(self, ti: int) -> bool:
         return self.trs[ti][1].problem.prefer != "closest"
 
-    def _bkey(self, ti: int, b: int, p: int, best_end: float, d: float = -np.inf) -> tuple:
-        """The bound of designs with ``b`` bought, ``p`` parts, and margin at most / distance at least
-        ``best_end`` (by margin, ``d``: their distance, when it is known)."""
+    def _bkey(self, ti: int, b: int, p: int, best_end: float) -> tuple:
+        """The bound of designs with ``b`` bought, ``p`` parts, and distance at least ``best_end``."""
         b = max(b, self.min_bought)
-        if self._by_margin(ti):
-            return (b, p, -best_end, d)
         if self._parts_first(ti):
             return (b, p, best_end, -np.inf)
         return (b, best_end, p, -np.inf)
-
-    def _bands(self, ti: int):
-        return MU_BANDS if self._by_margin(ti) else BANDS
-
-    def _next(self, ti: int, x: float) -> float:
-        if self._by_margin(ti):
-            return next((y for y in MU_BANDS if y < x), 0.0)
-        return _next_band(x)
-
-    def _last(self, ti: int) -> float:
-        return 0.0 if self._by_margin(ti) else np.inf
 
     def _beat(self):
         if len(self._best) < self.top:
@@ -342,11 +324,9 @@ class Search:
             pcs = sorted({sum(s.values()) for s in caps.shapes})
             if not pcs:
                 continue
-            bands = self._bands(ti)
             for si, shape in enumerate(shapes):
                 pr = sum(shape.values())
-                pc = pcs[0] if self._by_margin(ti) else None
-                self._push(self._bkey(ti, 0, pr + pcs[0], bands[0]), (ti, si, bands[0], bands[1], pc, True))
+                self._push(self._bkey(ti, 0, pr + pcs[0], BANDS[0]), (ti, si, BANDS[0], BANDS[1], None, True))
         while heap:
             beat = self._beat()
             if beat is not None and heap[0][0] >= beat:
@@ -372,9 +352,8 @@ class Search:
         tr, ctx, caps, shapes = self.trs[ti]
         shape = shapes[si]
         pr = sum(shape.values())
-        bands = self._bands(ti)
-        if a == bands[0] and b == bands[1] and self._is_small(ti, si):
-            b = self._last(ti)  # bands only pay where the space is large
+        if a == BANDS[0] and b == BANDS[1] and self._is_small(ti, si):
+            b = np.inf  # bands only pay where the space is large
         judged = self.stats["sets"]
         kept, cut, in_band = self._enumerate(ti, shape, a, b)
         judged = self.stats["sets"] - judged
@@ -389,8 +368,8 @@ class Search:
         p_here = pr + (pc if pc is not None else pcs[0])
         if cut != b:
             self._push(self._bkey(ti, 0, p_here, cut), (ti, si, cut, b, pc, chain))
-        elif chain and b != self._last(ti):
-            nxt = self._last(ti) if in_band and not judged else self._next(ti, b)
+        elif chain and b != np.inf:
+            nxt = np.inf if in_band and not judged else _next_band(b)
             self._push(self._bkey(ti, 0, p_here, b), (ti, si, b, nxt, pc, chain))
         need = self._complete(ti, kept, pc, b)
         if need is not None:
@@ -412,17 +391,11 @@ class Search:
         """(judged sets, cut, sets in the band): the sets of one entry that can give a design in its
         band, at most about KEEP of them (the best; ``cut`` is where the rest begins, b if none).
 
-        By margin: the bounds of the problem tightened to margins of at least b, and the sets whose
-        own smallest margin μ is at least b.  By distance: the band's windows of D < b, and the sets
-        with a <= D < b."""
+        The band's windows of D < b and the sets with a <= D < b; at a margin floor θ, the windows of
+        the problem tightened by θ and the sets whose every margin is at least θ."""
         tr, ctx, caps, _ = self.trs[ti]
-        by_margin = self._by_margin(ti)
         tabs = per_role(ctx.res_roles, self.rtables)
-        if by_margin:
-            bound_ctx, band, floor = self._ctx_at(ti, b), None, b * (1 - 1e-9)
-            if bound_ctx is None:
-                return [], b, 0
-        elif self.mu_floor:
+        if self.mu_floor:
             bound_ctx = self._ctx_at(ti, self.mu_floor)
             if bound_ctx is None:
                 return [], b, 0
@@ -446,11 +419,8 @@ class Search:
                     return kept, cut, in_band
                 if not n:
                     continue
-                if by_margin:
-                    sel = np.arange(n)
-                else:
-                    d = nominal_distance(ctx, {r: T[r].v[idx[r]] for r in ctx.res_roles})
-                    sel = np.flatnonzero((d >= a) & (d < cut))
+                d = nominal_distance(ctx, {r: T[r].v[idx[r]] for r in ctx.res_roles})
+                sel = np.flatnonzero((d >= a) & (d < cut))
                 in_band += len(sel)
                 for s0 in range(0, len(sel), JUDGE_CHUNK):
                     part = {r: arr[sel[s0:s0 + JUDGE_CHUNK]] for r, arr in idx.items()}
@@ -461,24 +431,21 @@ class Search:
                     self.stats["sets"] += len(part[ctx.res_roles[0]])
                     self.stats["judged"] += len(part[ctx.res_roles[0]])
                     bt = _judge_sets(ctx, T, part, self.pools, pr, self.virtual)
-                    if bt is not None and not by_margin and self.mu_floor:
+                    if bt is not None and self.mu_floor:
                         bt = _keep_where(bt, bt.ev.mu >= floor)
-                    if bt is not None and by_margin:
-                        q = mu_grid(bt.ev.mu)
-                        bt = _keep_where(bt, (q >= b) & (q > cut if cut != b else True))
                     if bt is None:
                         continue
                     kept.append(bt)
                     n_kept += len(bt)
                 if n_kept > 2 * KEEP and not self.buying:
-                    kept, cut = _trim(kept, KEEP, by_margin)
+                    kept, cut = _trim(kept, KEEP)
                     n_kept = sum(len(x) for x in kept)
                 if self.on_step is not None:
                     self.on_step(note=self._note())
             self.stats["work"] += tally[0]  # what the joins did after their last chunk
             tally[0] = 0
         if n_kept > KEEP and not self.buying:
-            kept, cut = _trim(kept, KEEP, by_margin)
+            kept, cut = _trim(kept, KEEP)
         return kept, cut, in_band
 
     def _note(self) -> str:
@@ -497,25 +464,14 @@ class Search:
         tr, ctx, caps, _ = self.trs[ti]
         if not kept:
             return None
-        by_margin = self._by_margin(ti)
         mu_floor = self.mu_floor * (1 - 1e-9) if self.mu_floor else 0.0
-        # every set is completed once, with no floor: its best capacitors give its exact key, wherever
-        # that falls (a design below this band's margin is a design all the same; the heap's order
-        # only decides when the search may stop)
+        # every set is completed once, with capacitors that keep its margins at the floor: its best
+        # ones give its exact key, in distance order within its bought parts
         b_all = np.concatenate([bt.bought for bt in kept])
         d_all = np.concatenate([bt.ev.distance for bt in kept])
-        mu_all = np.concatenate([bt.ev.mu for bt in kept])
         which = np.concatenate([np.full(len(bt), i) for i, bt in enumerate(kept)])
         where = np.concatenate([np.arange(len(bt)) for bt in kept])
-        if by_margin:
-            # no design of a set has a margin above its resistors' own μ nor above the corner margin
-            # its largest capacitors give: order by that ceiling, so the search stops at the first
-            # set whose ceiling cannot beat the answer even when capacitors limit every margin
-            ceil = np.concatenate([caps.margin_ceiling(bt, np.arange(len(bt))) for bt in kept])
-            mu_all = mu_grid(np.minimum(mu_all, ceil))
-        order = np.lexsort((d_all, -mu_all, b_all)) if by_margin else np.lexsort((d_all, b_all))
-        # the band's variable of each set: its μ ceiling (by margin) or D
-        x_all = mu_all if by_margin else d_all
+        order = np.lexsort((d_all, b_all))
         pcs = sorted({sum(s.values()) for s in caps.shapes})
         max_pc = pcs[-1]
         need = None
@@ -532,8 +488,7 @@ class Search:
             bt0 = kept[which[first]]
             p_lo = bt0.pr + (pc if pc is not None else pcs[0])
             beat = self._beat()
-            if beat is not None and self._bkey(ti, int(b_all[first]), p_lo, float(x_all[first]),
-                                                   float(d_all[first]) if by_margin else -np.inf) >= beat:
+            if beat is not None and self._bkey(ti, int(b_all[first]), p_lo, float(d_all[first])) >= beat:
                 return need
             lbs = np.empty(len(chunk))
             for i in np.unique(which[chunk]):
@@ -549,10 +504,7 @@ class Search:
                     continue
                 first_pc = pc if pc is not None else int(lb)
                 beat = self._beat()
-                if beat is not None and self._bkey(ti, bq, bt.pr + first_pc, float(x_all[q]),
-                                                   float(d_all[q]) if by_margin else -np.inf) >= beat:
-                    if by_margin:
-                        return need
+                if beat is not None and self._bkey(ti, bq, bt.pr + first_pc, float(d_all[q])) >= beat:
                     continue
                 at = (ti, _res_canon(bt, pos, ctx))
                 have = self.found.get(at)
@@ -588,19 +540,18 @@ def _keep_where(bt: ResistorBatch, ok: np.ndarray) -> ResistorBatch | None:
     return bt if len(sel) == len(bt) else _take_batch(bt, sel)
 
 
-def _trim(kept: list[ResistorBatch], n: int, by_margin: bool = False) -> tuple[list[ResistorBatch], float]:
-    """The best n sets (whole ties kept), and where the rest begins: by distance, those below the
-    n-th smallest D; by margin, those above the n-th largest μ."""
-    x = np.concatenate([(-mu_grid(bt.ev.mu) if by_margin else bt.ev.distance) for bt in kept])
+def _trim(kept: list[ResistorBatch], n: int) -> tuple[list[ResistorBatch], float]:
+    """The best n sets (whole ties kept), and where the rest begins: those below the n-th smallest D."""
+    x = np.concatenate([bt.ev.distance for bt in kept])
     cut = float(np.partition(x, n)[n])
     if not np.any(x < cut):  # more than n sets share the best value: keep them all
         cut = float(np.nextafter(cut, np.inf))
     out = []
     for bt in kept:
-        sel = np.flatnonzero((-mu_grid(bt.ev.mu) if by_margin else bt.ev.distance) < cut)
+        sel = np.flatnonzero(bt.ev.distance < cut)
         if len(sel):
             out.append(_take_batch(bt, sel))
-    return out, (-cut if by_margin else cut)
+    return out, cut
 
 
 def _take_batch(b: ResistorBatch, sel: np.ndarray) -> ResistorBatch:
@@ -611,15 +562,6 @@ def _take_batch(b: ResistorBatch, sel: np.ndarray) -> ResistorBatch:
                    margin_r=ev.margin_r[sel], nominal={k: a[sel] for k, a in ev.nominal.items()}, mu=ev.mu[sel])
     return ResistorBatch(b.tables, {r: a[sel] for r, a in b.idx.items()}, ev2, b.pr, b.stock_left[sel], b.bought[sel])
 
-
-
-def search_transistor(ctx: SearchContext, transistor: StockLine, rtables, ctables, lines, top: int,
-                      *, exhaustive: bool = False, **kw) -> list[FoundDesign]:
-    """The ``top`` best designs with this transistor."""
-    if exhaustive:
-        return exhaustive_search(ctx, transistor, rtables, ctables, lines, top, **kw)
-    kw.pop("stats", None)
-    return Search([(transistor, ctx)], rtables, ctables, lines, top, **kw).run()
 
 
 def exhaustive_search(ctx: SearchContext, transistor: StockLine, rtables, ctables, lines, top: int,

@@ -20,7 +20,7 @@ from ..constants import NOMINAL_TEMP_C, thermal_voltage
 from ..stages import TransistorModel
 from .problem import DesignProblem
 
-__all__ = ["mu_grid", "mu_class", "MU_CLASSES", "MU_STEP_PER", "SearchContext", "ResistorEval", "evaluate_resistors", "vertex_dc", "cap_node", "nominal_distance"]
+__all__ = ["mu_class", "MU_CLASSES", "SearchContext", "ResistorEval", "evaluate_resistors", "vertex_dc", "cap_node", "nominal_distance"]
 
 CAP_NODE = {"C1": "v_c1", "C2": "v_c2", "CE": "v_ce"}
 _POWER = {"R1": "p_r1", "R2": "p_r2", "RE": "p_re", "RC": "p_rc", "RE2": "p_re2"}
@@ -237,13 +237,7 @@ def evaluate_resistors(ctx: SearchContext, v: Mapping[str, np.ndarray], tol: Map
         margin_r=margin_r, nominal=nominal)
 
 
-MU_STEP_PER = 100
 MU_CLASSES = (0.0, 0.01, 0.02, 0.03, 0.05, 0.07, 0.1, 0.15, 0.2, 0.3, 0.5)  # the objective's margin classes
-
-
-def mu_grid(x):
-    """A margin rounded down to whole per cent (k/100)."""
-    return np.floor(np.asarray(x, float) * MU_STEP_PER) / MU_STEP_PER
 
 
 def mu_class(x):

@@ -25,7 +25,7 @@ from drawerfit.search.problem import DesignProblem, DesignTargets
 from drawerfit.search.tables import build_tables, with_default_ratings
 
 from .conftest import SAMPLES
-from .test_design_search import _keys, _targets_met, drawers
+from .test_design_search import search_equals_exhaustive, _targets_met, drawers
 
 SETTINGS = dict(deadline=None, derandomize=True, suppress_health_check=[HealthCheck.too_slow])
 
@@ -156,11 +156,7 @@ def test_follower_with_rin_and_swing_equals_exhaustive(data, polarity, mode, pic
         return
     t = p.targets
     p = p.with_(targets=replace(t, rin_min=t.rin_min and t.rin_min * scale, swing=t.swing and t.swing * scale))
-    fast = design(p, stock, top=2, suggest=False)
-    slow = design(p, stock, top=2, exhaustive=True, suggest=False)
-    event(fast.status)
-    assert not fast.stats["truncated"]
-    assert _keys(fast) == _keys(slow)
+    search_equals_exhaustive(p, stock, top=2)
 
 
 @settings(max_examples=8, **SETTINGS)
@@ -177,10 +173,7 @@ def test_common_emitter_with_rin_and_swing_equals_exhaustive(data, polarity, mod
     t = p.targets
     p = p.with_(targets=replace(t, rin_min=t.rin_min and t.rin_min * scale, swing=t.swing and t.swing * scale,
                                 gain_min=t.gain_min and t.gain_min * scale))
-    fast = design(p, stock, top=2, suggest=False)
-    slow = design(p, stock, top=2, exhaustive=True, suggest=False)
-    event(fast.status)
-    assert _keys(fast) == _keys(slow)
+    search_equals_exhaustive(p, stock, top=2)
 
 
 def _sample_problem(**targets):

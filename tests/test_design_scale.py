@@ -32,7 +32,7 @@ from drawerfit.search.windows import Band
 from drawerfit.triples import TripleSpace
 
 from .conftest import ROOT, make_line
-from .test_design_search import _keys, transistor
+from .test_design_search import search_equals_exhaustive, transistor
 
 SETTINGS = dict(deadline=None, derandomize=True, suppress_health_check=[HealthCheck.too_slow])
 
@@ -64,11 +64,7 @@ def test_follower_on_near_neighbours_equals_exhaustive(stock, ie, window, prefer
     p = DesignProblem("emitter-follower", "npn", 12.0,
                       DesignTargets(ie_min=ie * (1 - window), ie_max=ie * (1 + window), f_low=50.0),
                       load=4.7e3, source_resistance=600.0, max_parts=2, prefer=prefer)
-    fast = design(p, stock, top=2, suggest=False)
-    slow = design(p, stock, top=2, exhaustive=True, suggest=False)
-    event(fast.status)
-    assert not fast.stats["truncated"]
-    assert _keys(fast) == _keys(slow)
+    search_equals_exhaustive(p, stock, top=2)
 
 
 @settings(max_examples=10, **SETTINGS)
@@ -81,10 +77,7 @@ def test_common_emitter_on_near_neighbours_equals_exhaustive(stock, bypass, pola
     p = DesignProblem("common-emitter", polarity, 12.0,
                       DesignTargets(ie_min=0.5e-3, ie_max=2e-3, f_low=200.0, gain_min=gain[0], gain_max=gain[1]),
                       load=10e3, max_parts=1, bypass=bypass)
-    fast = design(p, stock, top=2, suggest=False)
-    slow = design(p, stock, top=2, exhaustive=True, suggest=False)
-    event(fast.status)
-    assert _keys(fast) == _keys(slow)
+    search_equals_exhaustive(p, stock, top=2)
 
 
 def _all_sets(ctx, T):

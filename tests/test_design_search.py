@@ -47,6 +47,17 @@ def _keys(result):
     return [d.key for d in result.designs]
 
 
+def search_equals_exhaustive(p, stock, top: int = 2):
+    """The search's ``top`` designs are those of the naive enumeration of every candidate per role
+    (``design(..., exhaustive=True)``, the oracle), and the search finished within its budget."""
+    fast = design(p, stock, top=top, suggest=False)
+    slow = design(p, stock, top=top, exhaustive=True, suggest=False)
+    event(fast.status)
+    assert not fast.stats["truncated"]
+    assert _keys(fast) == _keys(slow)
+    return fast
+
+
 @settings(max_examples=20, deadline=None, derandomize=True, suppress_health_check=[HealthCheck.too_slow])
 @given(stock=drawers(), ie=st.sampled_from([0.5e-3, 1e-3, 2e-3]), f=st.sampled_from([20.0, 200.0, 2000.0]),
        swing=st.sampled_from([None, 1.0]), load=st.sampled_from([None, 4.7e3]),
@@ -56,11 +67,8 @@ def test_follower_search_equals_exhaustive(stock, ie, f, swing, load, prefer, un
     p = DesignProblem("emitter-follower", "npn", 12.0,
                       DesignTargets(ie_min=0.6 * ie, ie_max=1.4 * ie, f_low=f, swing=swing),
                       load=load, source_resistance=600.0, max_parts=2, prefer=prefer, units=units)
-    fast = design(p, stock, top=3, suggest=False)
-    slow = design(p, stock, top=3, exhaustive=True, suggest=False)
+    fast = search_equals_exhaustive(p, stock, top=3)
     assert fast.status in ("optimal", "infeasible")
-    event(fast.status)
-    assert _keys(fast) == _keys(slow)
 
 
 @settings(max_examples=12, deadline=None, derandomize=True, suppress_health_check=[HealthCheck.too_slow])
@@ -71,10 +79,7 @@ def test_common_emitter_search_equals_exhaustive(data, ie, gain, bypass, polarit
     p = DesignProblem("common-emitter", polarity, 12.0,
                       DesignTargets(ie_min=0.6 * ie, ie_max=1.4 * ie, f_low=500.0, gain_min=gain),
                       load=10e3, max_parts=1, bypass=bypass)
-    fast = design(p, stock, top=2, suggest=False)
-    slow = design(p, stock, top=2, exhaustive=True, suggest=False)
-    event(fast.status)
-    assert _keys(fast) == _keys(slow)
+    search_equals_exhaustive(p, stock, top=2)
 
 
 def _targets_met(problem, choice) -> dict[str, bool]:
@@ -167,10 +172,7 @@ def test_common_emitter_with_pairs_equals_exhaustive(data, ie, bypass, polarity)
     p = DesignProblem("common-emitter", polarity, 12.0,
                       DesignTargets(ie_min=0.6 * ie, ie_max=1.4 * ie, f_low=500.0),
                       load=10e3, max_parts=2, bypass=bypass)
-    fast = design(p, stock, top=2, suggest=False)
-    slow = design(p, stock, top=2, exhaustive=True, suggest=False)
-    event(fast.status)
-    assert _keys(fast) == _keys(slow)
+    search_equals_exhaustive(p, stock, top=2)
 
 
 def _two_transistor_drawer(data, polarity="npn"):
@@ -193,10 +195,7 @@ def test_several_transistors_equal_exhaustive(data, ie, prefer):
     stock = _two_transistor_drawer(data)
     p = DesignProblem("emitter-follower", "npn", 12.0, DesignTargets(ie_min=0.6 * ie, ie_max=1.4 * ie, f_low=200.0),
                       load=4.7e3, source_resistance=600.0, max_parts=2, prefer=prefer)
-    fast = design(p, stock, top=3, suggest=False)
-    slow = design(p, stock, top=3, exhaustive=True, suggest=False)
-    event(fast.status)
-    assert _keys(fast) == _keys(slow)
+    search_equals_exhaustive(p, stock, top=3)
 
 
 def test_a_transistor_with_no_design_does_not_starve_the_next(monkeypatch):

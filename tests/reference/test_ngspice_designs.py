@@ -66,7 +66,7 @@ def test_a_bypass_capacitor_bypasses_in_the_band(tmp_path):
     from drawerfit.parts import Stock
 
     from ..conftest import make_line
-    from ..test_design_search import transistor
+    from ..search.test_design_search import transistor
 
     res = [470e3, 68e3, 910.0, 82.0, 9.1e3]
     lines = [make_line(i, "resistor", v, qty=5, tol=0.01) for i, v in enumerate(res)]

@@ -19,7 +19,7 @@ import pytest
 from drawerfit.stages import Part, Stage, TransistorModel
 
 from ..conftest import ROOT
-from ..test_design_scale import _child
+from ..search.test_design_scale import _child
 from .spice_harness import simulate
 
 pytestmark = pytest.mark.ngspice

@@ -16,7 +16,7 @@ from drawerfit.search.design import design
 from drawerfit.search.pools import Pools
 from drawerfit.search.problem import DesignProblem, DesignTargets
 
-from .conftest import make_line
+from ..conftest import make_line
 from .test_design_search import transistor
 
 

@@ -26,7 +26,7 @@ from drawerfit.search.runner import run_search
 from drawerfit.search.problem import DesignProblem, DesignTargets
 from drawerfit.search.tables import RoleTable, build_tables, with_default_ratings
 
-from .conftest import make_line
+from ..conftest import make_line
 from .test_design_search import transistor
 
 E12 = (1.0, 1.2, 1.5, 1.8, 2.2, 2.7, 3.3, 3.9, 4.7, 5.6, 6.8, 8.2)  # IEC 60063 E12 mantissas
@@ -270,7 +270,7 @@ def test_nearest_design_is_the_least_shortfall_on_the_grid(case, f, swing):
 
 # --- the command -----------------------------------------------------------------------------------
 
-from .test_design_cli import HEADER, SPEC  # noqa: E402  (the same drawer header and buffer spec)
+from ..commands.test_design_cli import HEADER, SPEC  # noqa: E402  (the same drawer header and buffer spec)
 
 
 def _csv(rows: list[str]) -> str:

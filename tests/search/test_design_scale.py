@@ -31,7 +31,7 @@ from drawerfit.search.tables import build_tables, with_default_ratings
 from drawerfit.search.windows import Band
 from drawerfit.triples import TripleSpace
 
-from .conftest import ROOT, make_line
+from ..conftest import ROOT, make_line
 from .test_design_search import search_equals_exhaustive, transistor
 
 SETTINGS = dict(deadline=None, derandomize=True, suppress_health_check=[HealthCheck.too_slow])

@@ -24,7 +24,7 @@ from drawerfit.search.joins import candidate_sets
 from drawerfit.search.problem import DesignProblem, DesignTargets
 from drawerfit.search.tables import build_tables, with_default_ratings
 
-from .conftest import SAMPLES
+from ..conftest import SAMPLES
 from .test_design_search import search_equals_exhaustive, _targets_met, drawers
 
 SETTINGS = dict(deadline=None, derandomize=True, suppress_health_check=[HealthCheck.too_slow])

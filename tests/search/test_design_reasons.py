@@ -19,7 +19,7 @@ from drawerfit.parts import Stock
 from drawerfit.search.design import design
 from drawerfit.search.problem import DesignProblem, DesignTargets
 
-from .conftest import make_line
+from ..conftest import make_line
 from .test_design_search import transistor
 
 E12 = (1.0, 1.2, 1.5, 1.8, 2.2, 2.7, 3.3, 3.9, 4.7, 5.6, 6.8, 8.2)  # IEC 60063

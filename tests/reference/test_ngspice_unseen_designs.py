@@ -31,7 +31,7 @@ Expected values and their sources:
   ngspice (batch mode, ``spice_harness.simulate``), at the nominal point (nominal parts, nominal
   hFE, 25 °C) and at the two vertices of the box where IE is highest (RA low, RB high, RE and RE2
   low, hFE max, hottest ambient; RA/RB are R1/R2 for NPN and R2/R1 for PNP, as in
-  ``search/evaluate.py``) and lowest (the opposite ends, hFE min, coldest ambient), plus, with an
+  ``search/judge.py``) and lowest (the opposite ends, hFE min, coldest ambient), plus, with an
   ``rin_min`` target, the vertex of lowest input resistance (R1, R2, RE, RE2 low, hFE min,
   hottest).  IE does not depend on RC in the active region and the gain rises with RC, so RC is
   at its high end at the vertex of highest IE and at its low end at the vertex of lowest IE (the

@@ -19,7 +19,7 @@ from hypothesis import HealthCheck, event, given, settings, strategies as st
 from drawerfit.parts import Stock
 from drawerfit.search.design import design, transistor_model
 from drawerfit.search.engine import resistor_sets_exhaustive
-from drawerfit.search.evaluate import SearchContext, evaluate_resistors, vertex_dc
+from drawerfit.search.judge import SearchContext, evaluate_resistors, vertex_dc
 from drawerfit.search.joins import candidate_sets
 from drawerfit.search.problem import DesignProblem, DesignTargets
 from drawerfit.search.tables import build_tables, with_default_ratings

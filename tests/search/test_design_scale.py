@@ -25,7 +25,7 @@ from drawerfit.parts import Stock
 from drawerfit.search import joins
 from drawerfit.search.design import design, transistor_model
 from drawerfit.search.engine import resistor_sets_exhaustive
-from drawerfit.search.evaluate import SearchContext, evaluate_resistors, nominal_distance
+from drawerfit.search.judge import SearchContext, evaluate_resistors, nominal_distance
 from drawerfit.search.problem import DesignProblem, DesignTargets
 from drawerfit.search.tables import build_tables, with_default_ratings
 from drawerfit.search.windows import Band
@@ -282,7 +282,7 @@ def test_chosen_design_has_the_largest_smallest_margin(values, decades, caps, wi
     assert feasible[k]
     # the objective compares margins by class (docs/method.md, "Objective": the largest of
     # MU_CLASSES at or below the margin); the choice must be in the best design's class
-    from drawerfit.search.evaluate import MU_CLASSES
+    from drawerfit.search.judge import MU_CLASSES
 
     def cls(x):
         return max(c for c in MU_CLASSES if c <= x + 1e-12)

@@ -1,7 +1,7 @@
 """The bounds of the design search: necessary conditions that a resistor set must meet to pass the worst case.
 
 Each bound below is a necessary condition for feasibility at one point of the tolerance box (a
-vertex), so a set it rejects fails the full judgement too; the full judgement in ``evaluate`` then
+vertex), so a set it rejects fails the full judgement too; the full judgement in ``judge`` then
 decides.  Voltages are in the NPN-mirrored frame of ``analysis.core``: RA is the divider resistor
 on the emitter-rail's far side (R1 for NPN, R2 for PNP), RB the other; VTH = VCC·RB/(RA+RB).
 
@@ -76,7 +76,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .evaluate import SearchContext
+from .judge import SearchContext
 from .tables import RoleTable
 from .windows import SLACK, vth as _vth
 

@@ -23,7 +23,7 @@ import numpy as np
 
 from ..analysis import core
 from .corner import CornerTest, least_sum, take_dc
-from .evaluate import SearchContext, bypasses, cap_margin, mu_class, stacked_dc, vertex_dc
+from .judge import SearchContext, bypasses, cap_margin, mu_class, stacked_dc, vertex_dc
 from .pools import Pools
 from .tables import RoleTable
 

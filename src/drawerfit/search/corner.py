@@ -15,7 +15,7 @@ from dataclasses import fields
 import numpy as np
 
 from ..analysis import core
-from .evaluate import SearchContext
+from .judge import SearchContext
 
 __all__ = ["CornerTest", "least_sum", "csum_exact", "take_dc", "CORNER_BLOCK", "SMALL_CORNER"]
 

@@ -18,7 +18,7 @@ count.  Every design an entry can give has a key at least its bound (B₀, P, d�
 the top-th best design found has a key below the next entry's bound: nothing left can beat it.
 An entry enumerates the resistor sets of its shape that pass the bounds of ``joins`` and the
 band's nominal windows (D < d₁ fixes the nominal IE and gain to narrow windows, so a band holds
-few sets), keeps those with d₀ ≤ D, judges them over the tolerance box (``evaluate``) and against
+few sets), keeps those with d₀ ≤ D, judges them over the tolerance box (``judge``) and against
 the stock, and completes them with capacitors in order of (B, D) (``capacitors``).  It keeps at
 most ``KEEP`` judged sets; when more pass, it keeps those of smallest D and hands the rest of its
 band to a new entry.  Nothing is ever formed for the product of the roles' candidates: memory
@@ -37,7 +37,7 @@ import numpy as np
 
 from ..parts import StockLine
 from .capacitors import CapacitorSide, Completion, _bought
-from .evaluate import SearchContext, evaluate_resistors, mu_class, nominal_distance, tighten
+from .judge import SearchContext, evaluate_resistors, mu_class, nominal_distance, tighten
 from .joins import candidate_sets, role_ranges
 from .pools import Pools
 from .tables import RoleTable, TripleWindow
@@ -275,7 +275,7 @@ class Search:
         self.found: dict[tuple, FoundDesign] = {}  # (transistor, resistor set) -> its best design
         self._best: list = []  # the ``top`` best (key, set) of ``found``, kept as they change
         self._cache: dict = {}
-        self._tight: dict = {}  # (transistor, level) -> the tightened context (``evaluate.tighten``)
+        self._tight: dict = {}  # (transistor, level) -> the tightened context (``judge.tighten``)
         self._none: set = set()  # (transistor, resistor set, count) that no capacitors of that count complete
 
     # --- keys and bands --------------------------------------------------------------------------

@@ -18,7 +18,7 @@ from typing import Iterator, Mapping
 import numpy as np
 
 from ..analysis import core
-from .evaluate import SearchContext, nominal_figures, vertex_dc
+from .judge import SearchContext, nominal_figures, vertex_dc
 from .bounds import Box, EmitterBounds, emitter_window, par_ceiling, par_floor
 from .windows import CHUNK, DIVIDER_CACHE, EMITTER_FIRST, SLACK, Band, SumIndex, groups as _groups, vth as _vth
 from .tables import RoleTable

@@ -154,7 +154,7 @@ def corner_with_largest(problem, choice, lines) -> tuple[float, dict] | None:
     """The worst-case corner (Hz) of the design's resistors with the largest capacitor in stock whose
     rating suits each role's node, and those capacitors: what the drawer can do for the corner."""
     from ..analysis import core
-    from .evaluate import SearchContext, cap_margin, stacked_dc
+    from .judge import SearchContext, cap_margin, stacked_dc
 
     ctx = SearchContext(problem, choice.model)
     roles = choice.roles

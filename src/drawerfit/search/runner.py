@@ -14,7 +14,7 @@ from dataclasses import dataclass, replace
 from ..parts import StockLine
 from ..stages import Part, Stage, TransistorModel
 from .engine import FoundDesign, Search, exhaustive_search
-from .evaluate import SearchContext
+from .judge import SearchContext
 from .pools import Pools
 from .problem import DesignProblem
 from .tables import build_tables
@@ -192,14 +192,14 @@ def _climb(pairs, found, stats: dict, kw: dict, budget: int, work_budget: int | 
 
     A search at floor θ (``Search(mu_floor=θ)``) gives the best designs by (B, P, D) among those
     whose every margin is at least θ.  For the best design: from the fewest-parts designs, climb
-    the margin classes (``evaluate.MU_CLASSES``) while a search at the next class's floor, held to
+    the margin classes (``judge.MU_CLASSES``) while a search at the next class's floor, held to
     that many parts, still has one; the last holds the answer.  For the ``top`` best: a search at
     every class until one finds nothing, and the best of all their designs (every design of the
     top lies in the top of the search at its own class: whatever that search ranks before it ranks
     before it in the objective too).  Every search counts against the one budget; docs/method.md,
     "Objective"."""
     from .engine import final_key
-    from .evaluate import MU_CLASSES
+    from .judge import MU_CLASSES
 
     def done(designs):
         best: dict = {}

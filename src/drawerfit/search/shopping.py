@@ -30,7 +30,7 @@ import numpy as np
 
 from ..analysis import core
 from ..parts import Source, StockLine
-from .evaluate import SearchContext, evaluate_resistors, vertex_dc
+from .judge import SearchContext, evaluate_resistors, vertex_dc
 from .problem import ShiftedTargets
 from .runner import BUY_FILE, RoleChoice, run_search, transistor_model
 
@@ -414,7 +414,7 @@ def _judge_full(problem, choice) -> dict:
     out["_f_worst"] = worst
     for r in ctx.cap_roles:
         lo_v, hi_v = ev.vnode[r][0][0], ev.vnode[r][1][0]
-        from .evaluate import cap_margin
+        from .judge import cap_margin
 
         c = roles[r]
         out[f"{r} voltage"] = float(cap_margin(lo_v, hi_v, c.rating, c.equivalent.polarized,

@@ -5,7 +5,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .evaluate import SearchContext
+from .judge import SearchContext
 
 __all__ = ["Band", "SumIndex", "groups", "vth", "SLACK", "CHUNK", "SUM_INDEX_MAX", "DIVIDER_CACHE", "EMITTER_FIRST"]
 

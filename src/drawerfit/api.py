@@ -18,7 +18,7 @@ import os
 from pathlib import Path
 from typing import Any, Callable
 
-__all__ = ["load_stock", "load_spec", "analyse", "analyze", "match", "design", "save_design", "load_design",
+__all__ = ["load_stock", "load_spec", "analyse", "analyze", "match", "design", "mend", "save_design", "load_design",
            "kit", "load_parts_list", "save_kit", "take", "undo", "history"]
 
 PathLike = str | os.PathLike
@@ -142,6 +142,21 @@ def design(spec: Any, stock: Any, *, units: int = 1, max_parts: int = 2, guarant
     result = _design(problem, stock, top=top, exhaustive=exhaustive, on_step=on_step, budget=budget)
     result.spec, result.stock = spec, stock
     return result
+
+
+def mend(spec: Any, stock: Any, *, fixed=(), broken=(), units: int = 1, max_parts: int = 2,
+         guarantee: str = "worst-case", prefer: str = "fewest-parts", top: int = 1, exhaustive: bool = False,
+         budget: float = 1.0):
+    """Mend the board a spec describes ([parts], [transistor], [targets]) with the fewest part changes
+    from the drawer: a ``mend.RepairNote`` (changes, the stage before and after, cautions).
+
+    ``fixed`` roles never change, ``broken`` ones always do (``"Q1"`` names the transistor)."""
+    from .mend import mend as _mend
+
+    stock = load_stock(stock)
+    spec = load_spec(spec, stock)
+    return _mend(spec, stock, fixed=fixed, broken=broken, units=units, max_parts=max_parts, guarantee=guarantee,
+                 prefer=prefer, top=top, exhaustive=exhaustive, budget=budget)
 
 
 def save_design(result, path: PathLike, stock_file: PathLike | None = None) -> Path:

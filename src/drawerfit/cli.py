@@ -163,10 +163,31 @@ def analyze(spec, stock_file, as_json, monte_carlo, seed, must_pass) -> None:
 @click.option("--budget", type=click.FloatRange(0.01, 1000.0), default=1.0, show_default=True,
               help="Work budget of the search, as a multiple of the default (about 20 s of pruning on one "
                    "core); past it the answer is the best found, with exit status 5.")
+@click.option("--keep", is_flag=True,
+              help="Mend a board: SPEC's [parts] and [transistor] are on the board; change the fewest of them.")
+@click.option("--fixed", "fixed", default=None, metavar="ROLES",
+              help="With --keep: roles never changed, e.g. R1,RC (a part that cannot be reached).")
+@click.option("--broken", "broken", default=None, metavar="ROLES",
+              help="With --keep: roles always replaced, e.g. Q1 (a dead part).")
 @user_errors
 def design(spec, stock_file, units, max_parts, guarantee, prefer, top, as_json, save, exhaustive, report, quiet,
-           strict, budget) -> None:
-    """Design the stage in SPEC (TOML with [targets]) from the parts in the stock file."""
+           strict, budget, keep, fixed, broken) -> None:
+    """Design the stage in SPEC (TOML with [targets]) from the parts in the stock file.
+
+    With --keep, mend the board SPEC describes ([parts], [transistor] and [targets]) with the fewest
+    changes from the drawer, and print a repair note."""
+    if keep:
+        from .commands.repair_note import check_keep_options, run_keep
+
+        check_keep_options(save, report)
+        run_keep(spec, stock_file, fixed=fixed, broken=broken, units=units, max_parts=max_parts,
+                 guarantee=guarantee, prefer=prefer, top=top, as_json=as_json, exhaustive=exhaustive, quiet=quiet,
+                 strict=strict, budget=budget)
+        return
+    if fixed or broken:
+        from .parts import SpecError
+
+        raise SpecError("--fixed and --broken mark the roles of a board: use them with --keep")
     from .commands.design_cmd import run_design
 
     run_design(spec, stock_file, units=units, max_parts=max_parts, guarantee=guarantee, prefer=prefer, top=top,

@@ -158,6 +158,8 @@ def _infeasible_dict(result) -> dict:
            "buy_proven": result.buy_proven, "buy_note": result.buy_note,
            "limits": [{"constraint": lm.constraint, "transistor": lm.transistor or None, "text": lm.text,
                        "reachable": lm.reachable, "asked": lm.asked} for lm in result.limits],
+           "buy_transistor": None if getattr(result, "buy_transistor", None) is None
+           else result.buy_transistor.to_dict(),
            "buy_design": None, "notes": list(result.notes),
            "search": search_dict(result)}
     if result.buy_design is not None:

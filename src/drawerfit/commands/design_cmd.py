@@ -117,6 +117,17 @@ def _print_infeasible(result) -> None:
             click.echo(f"  the design they are for ({ch.transistor.label}): {vals}")
     elif result.buy_note:
         click.echo(result.buy_note[0].upper() + result.buy_note[1:] + ".")
+    need = getattr(result, "buy_transistor", None)
+    if need is not None:
+        besides = " and the parts above" if result.buy else " and the drawer's resistors and capacitors"
+        click.echo(f"And a transistor (checked: with one of these figures{besides}, the search finds a design):"
+                   if result.buy else "What to buy (checked: with a transistor of these figures added, the search "
+                   "finds a design from the drawer's resistors and capacitors):")
+        click.echo(f"  {need.text()}")
+        ch = result.buy_design
+        if ch is not None and not result.buy:
+            vals = ", ".join(f"{r}={c.equivalent.describe()}" for r, c in ch.roles.items())
+            click.echo(f"  the design it is for: {vals}")
     for n in result.notes:
         click.echo(f"note: {n}", err=True)
 

@@ -239,7 +239,9 @@ def _transistor(r: _Reader, data, polarity, stock, design: bool = False):
     if label is not None and (not isinstance(label, str) or not label.strip()):
         raise r.fail("transistor.label", label, "expected the label of a transistor line in the stock")
     fields: dict[str, Any] = {}
-    if label is not None and stock is not None:
+    own_hfe = "hfe" in t or "hfe_min" in t
+    if label is not None and stock is not None and (not own_hfe or _in_stock(stock, label.strip())):
+        # a label the stock lacks is fine when the spec gives the figures (a board's own transistor)
         line = _stock_transistor(r, stock, label.strip(), polarity)
         for name in ("hfe_min", "hfe_max", "vceo", "ic_max", "pd", "vbe", "vce_sat"):
             v = getattr(line, name, None)
@@ -294,6 +296,10 @@ def _transistor(r: _Reader, data, polarity, stock, design: bool = False):
     except ValueError as exc:
         raise r.fail("transistor", None, str(exc)) from None
     return model, (label.strip() if label else None)
+
+
+def _in_stock(stock, label: str) -> bool:
+    return any((ln.label or "").strip().lower() == label.lower() for ln in stock.transistors())
 
 
 def _stock_transistor(r: _Reader, stock, label: str, polarity: str):

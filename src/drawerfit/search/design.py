@@ -34,6 +34,7 @@ class DesignResult:
     buy_design: DesignChoice | None = None  # the design the bought parts are for
     buy_note: str = ""  # why the list is empty, or why it is not proven the fewest
     limits: list = field(default_factory=list)  # reasons.Limit: ceilings no passives can lift
+    buy_transistor: object = None  # buy_transistor.TransistorNeed: the transistor to buy, checked
     transistors_tried: list = field(default_factory=list)
     stats: dict = field(default_factory=dict)
     # what it was made from, attached by drawerfit.design for the dict form (drawerfit.results)

@@ -132,9 +132,14 @@ class DesignProblem:
 
 
 def problem_from_spec(spec, *, units: int = 1, max_parts: int = 2, guarantee: str = "worst-case",
-                      prefer: str = "fewest-parts") -> DesignProblem:
-    """The design problem a design spec (``drawerfit.spec.Spec``) describes, with the CLI's settings."""
-    if spec.parts:
+                      prefer: str = "fewest-parts", keep: bool = False) -> DesignProblem:
+    """The design problem a design spec (``drawerfit.spec.Spec``) describes, with the CLI's settings.
+
+    ``keep``: the spec's ``[parts]`` are a board to mend (``search.changes``); the common-emitter
+    stage is then bypassed when the board has CE."""
+    if keep and not spec.parts:
+        raise SpecError(f"{spec.path}: --keep needs [parts]: the parts on the board to keep where they can")
+    if spec.parts and not keep:
         raise SpecError(f"{spec.path}: this spec has [parts]: it describes a built stage; use "
                         "`drawerfit analyze`, or remove [parts] to design one")
     t = spec.targets
@@ -149,13 +154,14 @@ def problem_from_spec(spec, *, units: int = 1, max_parts: int = 2, guarantee: st
         targets = DesignTargets(**{k: given.get(k) for k in DesignTargets.__dataclass_fields__})
     except SpecError as exc:
         raise SpecError(f"{spec.path}: {exc}") from None
-    res, caps = roles_of(spec.topology, spec.bypass)
+    bypass = spec.bypass or (keep and "CE" in spec.parts)
+    res, caps = roles_of(spec.topology, bypass)
     pairs = tuple(r for r in spec.pairs if r in res or r in caps)
     try:
         return DesignProblem(
             topology=spec.topology, polarity=spec.polarity, supply=spec.supply, targets=targets,
             conditions=spec.conditions, source_resistance=spec.source_resistance, load=spec.load,
-            bypass=spec.bypass, label=spec.transistor_label, pairs=pairs, max_parts=max_parts,
+            bypass=bypass, label=spec.transistor_label, pairs=pairs, max_parts=max_parts,
             units=units, guarantee=guarantee, prefer=prefer)
     except SpecError as exc:
         raise SpecError(f"{spec.path}: {exc}") from None

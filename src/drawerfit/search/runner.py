@@ -19,9 +19,11 @@ from .pools import Pools
 from .problem import DesignProblem
 from .tables import build_tables
 
-__all__ = ["RoleChoice", "DesignChoice", "transistor_model", "suitable_transistors", "run_search", "BUY_FILE"]
+__all__ = ["RoleChoice", "DesignChoice", "transistor_model", "suitable_transistors", "run_search", "BUY_FILE", "BOARD_FILE"]
 
 BUY_FILE = "(to buy)"  # the source file of stock lines that stand for parts to buy
+BOARD_FILE = "(on the board)"  # the source file of lines that stand for the parts on a board under repair
+APART_FILES = (BUY_FILE, BOARD_FILE)  # lines never pooled with the drawer's
 
 
 @dataclass(frozen=True)
@@ -138,7 +140,7 @@ def run_search(problem: DesignProblem, lines, top: int, exhaustive: bool, virtua
     resistor sets the search may enumerate, or (sets, steps); default ``engine``'s budgets.
 
     Lines standing for parts to buy are never pooled with the drawer (``pools``)."""
-    apart = set(virtual_ids) | {ln.index for ln in lines if ln.source.file == BUY_FILE}
+    apart = set(virtual_ids) | {ln.index for ln in lines if ln.source.file in APART_FILES}
     pools = Pools.build(lines, exclude=apart)
     if tables is None:
         cand_lines = pools.search_lines(lines)

@@ -439,6 +439,8 @@ def explain_infeasible(result, lines, trs, why, *, suggest: bool = True, catalog
                          + (": " + "; ".join(why) if why else f" (no {problem.polarity.upper()} lines"
                             + (f" labelled {problem.label!r}" if problem.label else "") + ")"))
         result.buy_note = "no purchase of passives helps without a transistor that suits the stage"
+        if suggest:
+            _suggest_transistor(result, lines, scale)
         return
     limits = hard_limits(problem, trs)
     result.limits = limits
@@ -486,8 +488,31 @@ def explain_infeasible(result, lines, trs, why, *, suggest: bool = True, catalog
     if cause:
         # no passives lift a ceiling of the stage or of every transistor: nothing to search for
         result.buy = []
+        transistor_only = not any(not lm.transistor for lm in limits)
         result.buy_note = ("no purchase of resistors or capacitors can help: " + cause.split(": ", 1)[1]
-                           + (" (a transistor with the ratings above is what is missing)"
-                              if not any(not lm.transistor for lm in limits) else ""))
+                           + (" (a transistor with the ratings above is what is missing)" if transistor_only else ""))
+        if transistor_only:
+            _suggest_transistor(result, lines, scale)
         return
     _suggest(result, lines, catalogue, drawer_proven, scale)
+    if not result.buy:
+        _suggest_transistor(result, lines, scale)
+
+
+def _suggest_transistor(result, lines, scale: float) -> None:
+    """``result.buy_transistor``: the transistor to buy with which the drawer's passives make a
+    design (``buy_transistor``), checked by the search itself; left None when none does."""
+    from .buy_transistor import transistor_to_buy
+    from .engine import SET_BUDGET
+
+    need = transistor_to_buy(result.problem, lines, budget=_limits(int(SET_BUDGET * scale)), scale=scale)
+    result.buy_transistor = need
+    if need is not None:
+        result.buy_design = need.design
+        result.buy_checked = True
+        result.buy_note = ""
+        if need.passives:
+            result.buy = _buy_list(need.design, result.problem.units)
+            result.buy_proven = need.proven
+            if not need.proven:
+                result.buy_note = "the passives are not proven the fewest: a search stopped at its budget"

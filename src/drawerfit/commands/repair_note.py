@@ -1,0 +1,206 @@
+"""`drawerfit design SPEC --stock FILE --keep`: mend a board with the fewest part changes.
+
+The answer reads like a repair note: which designators change, from what to what, where the new
+parts are in the drawer, the stage's figures before and after, and the cautions (repairs are where
+people get hurt).
+"""
+
+from __future__ import annotations
+
+import math
+
+import click
+
+from ..parts import NoDesignError, SearchLimitError, SpecError
+from ..values import format_si
+from .common import emit_json
+
+__all__ = ["run_keep", "repair_dict", "FIGURES"]
+
+# (figure, label, unit, which worst-case end matters: "both", "low" or "high")
+FIGURES = (("ie", "IE", "A", "both"), ("vce", "VCE", "V", "both"), ("gain", "gain", "", "both"),
+           ("rin", "input", "Ω", "low"), ("rout", "output", "Ω", "high"), ("f_low", "low corner", "Hz", "high"),
+           ("swing_peak", "swing", "V", "low"))
+
+
+def _roles_arg(text: str | None) -> tuple[str, ...]:
+    if not text:
+        return ()
+    return tuple(r.strip().upper() for r in text.replace(";", ",").split(",") if r.strip())
+
+
+def run_keep(spec_file: str, stock_file: str, *, fixed: str | None, broken: str | None, units: int = 1,
+             max_parts: int = 2, guarantee: str = "worst-case", prefer: str = "fewest-parts", top: int = 1,
+             as_json: bool = False, exhaustive: bool = False, quiet: bool = False, strict: bool = False,
+             budget: float = 1.0) -> None:
+    from .. import api
+    from .common import report_problems
+
+    stock = api.load_stock(stock_file, strict=strict)
+    if not quiet:
+        report_problems(stock)
+    spec = api.load_spec(spec_file, stock)
+    note = api.mend(spec, stock, fixed=_roles_arg(fixed), broken=_roles_arg(broken), units=units,
+                    max_parts=max_parts, guarantee=guarantee, prefer=prefer, top=top, exhaustive=exhaustive,
+                    budget=budget)
+    if as_json:
+        emit_json(note.to_dict())
+    else:
+        _print(note)
+    if not note.result.feasible:
+        if note.design_result is not None and note.design_result.stats.get("truncated"):
+            raise SearchLimitError("no repair was found before the search's work budget ran out (exit status 5)")
+        raise NoDesignError("no change of parts from the drawer restores the stage (exit status 3)")
+    if not note.result.proven:
+        raise SearchLimitError("a search stopped at its work budget: the repair shown is the best found, "
+                               "not proven the fewest changes (exit status 5)")
+
+
+def _fmt(x, unit: str) -> str:
+    if x is None or not math.isfinite(float(x)):
+        return "-"
+    return format_si(float(x), unit, 4) if unit else f"{float(x):.4g}"
+
+
+def figure_rows(analysis) -> dict:
+    """{figure: (nominal, worst low, worst high)} of an analysis (SI units)."""
+    out = {}
+    for name, _, _, _ in FIGURES:
+        nom = float(getattr(analysis.nominal, name))
+        out[name] = (nom, float(analysis.worst.low.get(name, math.nan)), float(analysis.worst.high.get(name, math.nan)))
+    return out
+
+
+def _range(row, unit: str, end: str) -> str:
+    nom, lo, hi = row
+    if end == "low":
+        return f"{_fmt(nom, unit)} (worst {_fmt(lo, unit)})"
+    if end == "high":
+        return f"{_fmt(nom, unit)} (worst {_fmt(hi, unit)})"
+    return f"{_fmt(nom, unit)} ({_fmt(lo, unit)} … {_fmt(hi, unit)})"
+
+
+def _print(note) -> None:
+    r, spec = note.result, note.spec
+    p = r.problem
+    head = f"Repair of {spec.title or spec.path}: {p.topology} {p.polarity.upper()} on {format_si(p.supply, 'V')}"
+    click.echo(head)
+    marks = []
+    if r.fixed:
+        marks.append(f"fixed (never changed): {', '.join(r.fixed)}")
+    if r.broken:
+        marks.append(f"broken (always replaced): {', '.join(r.broken)}")
+    if marks:
+        click.echo("  " + "; ".join(marks))
+    if not r.feasible:
+        click.echo(f"No repair from the drawer: no change of up to {r.tried_up_to} role(s) meets every target "
+                   "and rating at the worst case" + ("" if r.proven else " (not proven: a search stopped at its budget)"))
+        if note.design_result is not None:
+            from .design_cmd import _print_infeasible
+
+            click.echo("With every part chosen afresh:")
+            _print_infeasible(note.design_result)
+        _cautions(note)
+        return
+    best, changed = r.best, r.changed[0]
+    proven = "proven the fewest" if r.proven else "the fewest found, not proven"
+    click.echo(f"Change {len(changed)} of {len(p.roles[0]) + len(p.roles[1]) + 1} roles ({proven}; "
+               f"{r.searches} searches); keep the rest as they are on the board.")
+    click.echo("  Change:")
+    for role in changed:
+        click.echo(f"    {role:4} {note.was(role):28} ->  {note.now(role)}")
+    kept = [x for x in (*p.roles[0], *p.roles[1], "Q1") if x not in changed]
+    if kept:
+        click.echo(f"  Keep: {', '.join(kept)}")
+    for role in changed:
+        if role == "Q1":
+            continue
+        c = best.roles[role]
+        if c.orientation:
+            click.echo(f"  {role} is polarized: fit it {c.orientation.replace('+ to', 'with the + end toward')}")
+    click.echo("")
+    click.echo("Figures (nominal, and worst case over tolerances, hFE and ambient):")
+    click.echo(f"  {'':12} {'before (board as given)':36} after")
+    after = figure_rows(note.after)
+    before = figure_rows(note.before) if note.before is not None else None
+    for name, label, unit, end in FIGURES:
+        b = _range(before[name], unit, end) if before is not None else "-"
+        click.echo(f"  {label:12} {b:36} {_range(after[name], unit, end)}")
+    if note.before is not None:
+        failed = [c.name for c in note.before.checks if c.ok is False]
+        click.echo(f"  checks not met before: {', '.join(failed) or 'none'}")
+    failed = [c.name for c in note.after.checks if c.ok is False]
+    click.echo(f"  checks not met after: {', '.join(failed) or 'none'}")
+    click.echo("")
+    click.echo("Worst-case margins after the repair:")
+    for name, m in sorted(best.target_margins.items(), key=lambda kv: kv[1]):
+        if math.isfinite(m):
+            click.echo(f"  {name}: {m:+.1%}")
+    if len(r.designs) > 1:
+        click.echo("")
+        click.echo("Other repairs:")
+        for i, (d, ch) in enumerate(zip(r.designs[1:], r.changed[1:]), 2):
+            vals = ", ".join(f"{x}={d.roles[x].equivalent.describe() if x != 'Q1' else d.transistor.label}"
+                             for x in ch)
+            click.echo(f"  {i}. change {len(ch)}: {vals}")
+    _cautions(note)
+    for n in r.notes:
+        click.echo(f"note: {n}", err=True)
+
+
+def _cautions(note) -> None:
+    click.echo("")
+    click.echo("Cautions:")
+    for c in note.cautions:
+        click.echo(f"  * {c.text}")
+
+
+def repair_dict(note) -> dict:
+    """The `design --keep --json` shape (SI units)."""
+    from ..results import _role_dict
+
+    r = note.result
+    out = {"feasible": r.feasible, "proven_fewest": r.proven, "searches": r.searches, "fixed": list(r.fixed),
+           "broken": list(r.broken), "changes": [], "kept": [], "before": None, "after": None,
+           "cautions": [c.to_dict() for c in note.cautions], "notes": list(r.notes)}
+    if note.before is not None:
+        out["before"] = _figures_dict(note.before)
+    if not r.feasible:
+        out["tried_up_to"] = r.tried_up_to
+        if note.design_result is not None:
+            out["afresh"] = note.design_result.to_dict()
+        return out
+    best, changed = r.best, r.changed[0]
+    parts = _role_dict(best)
+    for role in (*r.problem.roles[0], *r.problem.roles[1], "Q1"):
+        if role in changed:
+            entry = {"role": role, "from": note.was(role), "to": note.now(role)}
+            if role == "Q1":
+                entry["transistor"] = {"label": best.transistor.label, "location": best.transistor.location,
+                                       "row": best.transistor.source.row}
+            else:
+                entry["part"] = parts.get(role)
+            out["changes"].append(entry)
+        else:
+            out["kept"].append(role)
+    out["after"] = _figures_dict(note.after)
+    out["margins"] = {k: (m if math.isfinite(m) else None) for k, m in best.target_margins.items()}
+    out["others"] = [{"changes": ch, "key": None} for ch in r.changed[1:]]
+    return out
+
+
+def _figures_dict(analysis) -> dict:
+    rows = figure_rows(analysis)
+    return {"figures": {k: {"nominal": _num(a), "worst_low": _num(b), "worst_high": _num(c)}
+                        for k, (a, b, c) in rows.items()},
+            "checks_not_met": [c.name for c in analysis.checks if c.ok is False]}
+
+
+def _num(x: float):
+    return x if math.isfinite(x) else None
+
+
+def check_keep_options(save, report) -> None:
+    if save is not None or report is not None:
+        raise SpecError("--keep does not write --save or --report yet: the repair note lists the parts to "
+                        "take; run `drawerfit take` on a design saved without --keep, or take them by hand")

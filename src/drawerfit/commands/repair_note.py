@@ -127,10 +127,11 @@ def _print(note) -> None:
         b = _range(before[name], unit, end) if before is not None else "-"
         click.echo(f"  {label:12} {b:36} {_range(after[name], unit, end)}")
     if note.before is not None:
-        failed = [c.name for c in note.before.checks if c.ok is False]
-        click.echo(f"  checks not met before: {', '.join(failed) or 'none'}")
-    failed = [c.name for c in note.after.checks if c.ok is False]
-    click.echo(f"  checks not met after: {', '.join(failed) or 'none'}")
+        click.echo(f"  checks not met before: {', '.join(not_met(note.before)) or 'none'}")
+    click.echo(f"  checks not met after: {', '.join(not_met(note.after)) or 'none'}")
+    advice = [c.message for c in note.after.checks if c.ok is False and c.kind == "advice"]
+    for a in advice:
+        click.echo(f"  advice after: {a}")
     click.echo("")
     click.echo("Worst-case margins after the repair:")
     for name, m in sorted(best.target_margins.items(), key=lambda kv: kv[1]):
@@ -193,7 +194,13 @@ def _figures_dict(analysis) -> dict:
     rows = figure_rows(analysis)
     return {"figures": {k: {"nominal": _num(a), "worst_low": _num(b), "worst_high": _num(c)}
                         for k, (a, b, c) in rows.items()},
-            "checks_not_met": [c.name for c in analysis.checks if c.ok is False]}
+            "checks_not_met": not_met(analysis),
+            "advice": [c.message for c in analysis.checks if c.ok is False and c.kind == "advice"]}
+
+
+def not_met(analysis) -> list[str]:
+    """The checks a stage fails (targets, ratings, state, polarity; advice apart)."""
+    return [c.name for c in analysis.checks if c.ok is False and c.kind != "advice"]
 
 
 def _num(x: float):

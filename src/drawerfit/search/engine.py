@@ -39,6 +39,7 @@ from ..parts import StockLine
 from .capacitors import CapacitorSide, Completion, _bought
 from .judge import SearchContext, evaluate_resistors, mu_class, nominal_distance, tighten
 from .joins import candidate_sets, role_ranges
+from .narrowing import narrow_ranges
 from .pools import Pools
 from .tables import RoleTable, TripleWindow
 from .windows import Band
@@ -408,7 +409,10 @@ class Search:
         cut = b
         in_band = 0
         tally = [0]
-        for T in _sub_shapes(tabs, shape, role_ranges(bound_ctx), self.stats):
+        ranges = narrow_ranges(bound_ctx, tabs, shape, role_ranges(bound_ctx), _role_tables)
+        if ranges is None:  # no set of this shape passes the bounds (narrowing.py)
+            return [], b, 0
+        for T in _sub_shapes(tabs, shape, ranges, self.stats):
             if self._spent():
                 return kept, cut, in_band
             for idx in candidate_sets(bound_ctx, T, tally, band, self._cache):

@@ -114,13 +114,39 @@ class _DividerBlock:
         return _DividerBlock(**{k: getattr(self, k)[sel] for k in self.__slots__})
 
 
+def _cached(cache: dict | None, key, tables):
+    """What ``cache`` holds for ``key``, if it was stored for these very tables.  Keys hold ids, and a
+    triple window's table, once released, may leave its id to a new one: each entry keeps weak
+    references to its tables and is valid only while they are the same objects."""
+    if cache is None or key not in cache:
+        return None
+    refs, value = cache[key]
+    if all(r() is t for r, t in zip(refs, tables)):
+        return value
+    del cache[key]
+    return None
+
+
+def _store(cache: dict | None, key, tables, value) -> None:
+    """Keep ``value`` for ``key`` and these tables; entries whose tables are gone are dropped."""
+    import weakref
+
+    if cache is None:
+        return
+    for k in [k for k, v in cache.items() if isinstance(v, tuple) and len(v) == 2 and isinstance(v[0], tuple)
+              and any(r() is None for r in v[0])]:
+        del cache[k]
+    cache[key] = (tuple(weakref.ref(t) for t in tables), value)
+
+
 def _divider_blocks(ctx: SearchContext, box: Box, em: EmitterBounds, A: RoleTable, B: RoleTable, tally, ret_range, tmin,
                     cache: dict | None):
     """Blocks of dividers that pass the bounds; kept in ``cache`` (when not too many) so that the
     bands of a search form them once."""
     key = ("dividers", id(ctx), id(A), id(B), ret_range, tmin)
-    if cache is not None and key in cache:
-        yield from cache[key]
+    got = _cached(cache, key, (ctx, A, B))
+    if got is not None:
+        yield from got
         return
     p = ctx.problem
     keep: list | None = [] if cache is not None else None
@@ -140,7 +166,7 @@ def _divider_blocks(ctx: SearchContext, box: Box, em: EmitterBounds, A: RoleTabl
             keep = keep + [block] if total <= DIVIDER_CACHE else None
         yield block
     if keep is not None:
-        cache[key] = keep
+        _store(cache, key, (ctx, A, B), keep)
         cache["dividers kept"] = total
 
 
@@ -237,13 +263,11 @@ def _emitter_pairs(ctx, box, em, T, ia, ib, L, U, re_lo, re_hi, re_ok, kcap, ban
     if band is not None:
         nlo, nhi = band.ret(p.supply, T[ctx.ra].v[ia], T[ctx.rb].v[ib])
     if SumIndex.fits(RE, RE2):
-        key = (id(RE), id(RE2))
-        if cache is None or key not in cache:
+        key = ("sums", id(RE), id(RE2))
+        sums = _cached(cache, key, (RE, RE2))
+        if sums is None:
             sums = SumIndex(RE, RE2)
-            if cache is not None:
-                cache[key] = sums
-        else:
-            sums = cache[key]
+            _store(cache, key, (RE, RE2), sums)
         t = min(box.tmin(RE), box.tmin(RE2))
         w_lo = L / (1.0 - t)
         w_hi = U / (1.0 + t)
@@ -424,9 +448,10 @@ def role_ranges(ctx: SearchContext) -> dict[str, tuple[float, float]]:
 
 
 def candidate_sets(ctx: SearchContext, T: Mapping[str, RoleTable], tally: list | None = None, band: Band | None = None,
-                   cache: dict | None = None) -> Iterator[dict[str, np.ndarray]]:
+                   cache: dict | None = None, collector: bool = True) -> Iterator[dict[str, np.ndarray]]:
     """Chunks of resistor sets {role: index into T[role]} that pass every bound above (and, with
-    ``band``, the nominal windows of D < band.d).
+    ``band``, the nominal windows of D < band.d).  ``collector`` False: the (divider, emitter) sets
+    before RC is joined; RC's table may then be absent (``windows.narrow_ranges``).
 
     With ``tally`` (a one-element list), the work done is added to ``tally[0]`` (partial sets
     formed on the way: dividers, divider–emitter pairs, and ten per set whose collector is
@@ -439,7 +464,7 @@ def candidate_sets(ctx: SearchContext, T: Mapping[str, RoleTable], tally: list |
     box = Box(ctx)
     em = EmitterBounds(ctx, box)
     A, B = T[ctx.ra], T[ctx.rb]
-    if not (len(A) and len(B)) or any(not len(T[r]) for r in ctx.res_roles):
+    if not (len(A) and len(B)) or any(not len(T[r]) for r in ctx.res_roles if r in T):
         return
     if em.nothing():
         return
@@ -454,7 +479,7 @@ def candidate_sets(ctx: SearchContext, T: Mapping[str, RoleTable], tally: list |
     tmin = min(box.tmin(RE), box.tmin(T["RE2"])) if has2 else box.tmin(RE)
     kcap = np.inf
     if has2 and p.targets.gain_min is not None:
-        rc_cap = float(box.hi(T["RC"]).max())
+        rc_cap = float(box.hi(T["RC"]).max()) if "RC" in T else np.inf
         if np.isfinite(p.rl):
             rc_cap = min(rc_cap, p.rl)
         if p.targets.rout_max is not None:
@@ -466,7 +491,7 @@ def candidate_sets(ctx: SearchContext, T: Mapping[str, RoleTable], tally: list |
         chunks = _sets_dividers_first(ctx, box, em, T, band, re_ok, re_top, ret_range, tmin, kcap, tally, cache)
     for idx in chunks:
         idx = _hot_ok(ctx, box, T, idx)
-        if "RC" in T:
+        if "RC" in T and collector:
             for c0 in range(0, len(idx["RE"]), CHUNK):
                 part = {r: a[c0:c0 + CHUNK] for r, a in idx.items()}
                 if tally is not None:

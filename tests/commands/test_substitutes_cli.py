@@ -86,8 +86,18 @@ def test_cautions_for_mains_equipment_and_high_supplies(tmp_path, change):
 def test_no_high_voltage_caution_on_a_low_supply(tmp_path):
     spec, stock = write_case(tmp_path)
     data = json.loads(run("match", "npn", "--stock", stock, "--in", spec, "--json").stdout)
-    assert "high-voltage" not in [c["key"] for c in data["cautions"]]
-    assert "general" in [c["key"] for c in data["cautions"]]
+    keys = [c["key"] for c in data["cautions"]]
+    assert "high-voltage" not in keys and "general" in keys
+    assert "pin-order" in keys  # every substitution: lead orders differ between types
+
+
+def test_a_high_vceo_asked_without_a_stage_brings_the_high_voltage_caution(samples):
+    lab = samples / "teaching_lab.csv"
+    high = json.loads(run("match", "npn", "--stock", lab, "--vceo", "200V", "--json").stdout)
+    low = json.loads(run("match", "npn", "--stock", lab, "--vceo", "30V", "--json").stdout)
+    assert "high-voltage" in [c["key"] for c in high["cautions"]]  # above about 50 V (docs/cautions.md)
+    assert "high-voltage" not in [c["key"] for c in low["cautions"]]
+    assert [x["label"] for x in high["substitutes"]] == ["LabNPN-H1"]  # the one 300 V line of the drawer
 
 
 @pytest.mark.parametrize("args,fragment", [

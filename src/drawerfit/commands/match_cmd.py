@@ -1,9 +1,10 @@
-"""`drawerfit match`: substitutes for one value from the drawer."""
+"""`drawerfit match`: substitutes for one value from the drawer, and (`match npn|pnp`) for a transistor."""
 
 from __future__ import annotations
 
 import click
 
+from ..parts import pin_order_text
 from ..values import Quantity, format_code, format_si
 from .common import emit_json, rating_text, report_problems, stock_summary
 
@@ -191,6 +192,10 @@ def substitute_lines(result) -> list[str]:
     asks = req.asks_hfe
     header = ["#", "transistor", "bin", "on hand", "VCEO", "IC max", "PD", "hFE", "hFE D", "inside"]
     align = "><<>>>><><"
+    pins = any(s.line.pins for s in result.substitutes)
+    if pins:
+        header.append("pins")
+        align += "<"
     if spec is not None:
         header.append("in the stage")
         align += "<"
@@ -201,6 +206,8 @@ def substitute_lines(result) -> list[str]:
             row = [s.rank, _name(s), s.line.location or f"row {s.line.source.row}", s.line.qty]
             row += [_rating_cell(s, *cell) for cell in _RATING_CELLS]
             row += _hfe_cells(s, asks)
+            if pins:
+                row.append(pin_order_text(s.line.pins) if s.line.pins else "?")
             if spec is not None:
                 row.append(_stage_word(s.stage, board_fails))
             got.append(row)
@@ -249,9 +256,6 @@ def substitute_lines(result) -> list[str]:
     out += [f"  {line}" for line in stock_summary(result.stock, "transistor")]
     out.append("")
     out.append("Cautions")
-    out.append("  * Check the substitute's pin order against the board before fitting it: lead orders differ "
-               "between types" + (" (the stock file gives it where listed)" if any(s.line.pins for s in
-                                                                                  result.substitutes) else "") + ".")
     for c in result.cautions:
         out.append(f"  * {c.text}")
     return out

@@ -344,7 +344,7 @@ def substitutes_for(stock, requirement: Requirement | None = None, *, spec=None,
     its limits).  ``top`` limits the lines each list of the result shows.
     """
     from ..analysis import analyse
-    from ..cautions import cautions_for, stage_cautions
+    from ..cautions import PIN_ORDER, cautions_for, stage_cautions
     from .in_stage import stage_verdicts, verdict_of
     from .result import SubstituteResult
 
@@ -362,13 +362,13 @@ def substitutes_for(stock, requirement: Requirement | None = None, *, spec=None,
         raise RequirementError("give the transistor's polarity (npn or pnp), or a stage spec")
     ranked = find_substitutes(lines, requirement)
     if stage is None:
-        cautions = stage_cautions(supply=requirement.vceo or 0.0)
+        cautions = [PIN_ORDER, *stage_cautions(supply=requirement.vceo or 0.0)]
         return SubstituteResult(requirement, ranked, cautions=tuple(cautions), stock=stock, top=top)
     own = (stage.transistor.label or "").strip().lower()
     verdicts = stage_verdicts(stage, [s.line for s in ranked], spec.conditions, spec.targets)
     ranked = tuple(replace(s, stage=verdicts.get(s.line.index),
                            same_as_board=bool(own) and (s.line.label or "").strip().lower() == own
                            and s.right_polarity) for s in ranked)
-    cautions = cautions_for(board, mains=spec.mains)
+    cautions = [PIN_ORDER, *cautions_for(board, mains=spec.mains)]
     return SubstituteResult(requirement, ranked, spec=spec, board=verdict_of(board), cautions=tuple(cautions),
                             stock=stock, top=top)

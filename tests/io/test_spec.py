@@ -250,7 +250,7 @@ def test_examples_in_the_docs_and_samples_load():
         spec = parse_spec(tomllib.loads(block), "docs/spec-format.md")
         assert spec.kind == "design" and spec.targets.ie_min == pytest.approx(22.5e-3)
         assert spec.transistor is None and spec.transistor_label == "LabNPN-S1"
-    for sample in ("follower_bench.toml",):
+    for sample in ("follower_bench.toml", "buffer_repair.toml"):
         assert load_spec(root / "inventory_samples" / sample).stage()
     # The PNP sample names its transistor by label: without a stock it says what it needs.
     with pytest.raises(SpecError, match="needs --stock"):

@@ -12,6 +12,7 @@ import json
 
 import pytest
 from click.testing import CliRunner
+from hypothesis import given, settings, strategies as st
 
 import drawerfit
 from drawerfit.cli import main
@@ -133,3 +134,16 @@ def test_resistor_matching_is_unchanged(samples):
     assert json.loads(res.stdout) == json.loads(json.dumps(drawerfit.match("4k7", lab, top=2).to_dict()))
     bad = run("match", "4k7k", "--stock", lab)
     assert bad.exit_code == 2 and "4k7k" in bad.output
+
+
+@settings(max_examples=60, deadline=None, derandomize=True)
+@given(option=st.sampled_from(["--vceo", "--ic-max", "--power", "--hfe", "--hfe-min", "--hfe-max", "--vce-sat"]),
+       text=st.text(min_size=1, max_size=12).filter(lambda t: not t.startswith("-")),
+       word=st.sampled_from(["npn", "PNP", " npn"]))
+def test_no_traceback_on_any_option_text(option, text, word):
+    # property (docs/repair.md, "bad input"): whatever is typed, success or exit 2, never a traceback
+    res = CliRunner().invoke(main, ["match", word, "--stock", "inventory_samples/repair_bench.csv", option, text])
+    assert res.exit_code in (0, 2), (option, text, res.output, res.exception)
+    assert "Traceback" not in res.output
+    if res.exit_code == 2:
+        assert res.stderr.strip()

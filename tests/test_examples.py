@@ -19,7 +19,9 @@ EXAMPLES = sorted((ROOT / "examples").glob("*.py"))
 SAYS = {"01_stock_and_match.py": ("<Stock from", "<MatchResult 3k3"),
         "02_analyse_a_stage.py": ("<Analysis emitter-follower",),
         "03_design_from_the_drawer.py": ("<DesignResult optimal", "<Analysis emitter-follower"),
-        "04_kit_and_take.py": ("<KitResult", "<TakeResult take for 5 unit(s)", "dry run>", "<TakeResult undo of")}
+        "04_kit_and_take.py": ("<KitResult", "<TakeResult take for 5 unit(s)", "dry run>", "<TakeResult undo of"),
+        "05_transistor_substitutes.py": ("<SubstituteResult NPN; VCEO at least 45 V",
+                                         "<SubstituteResult NPN; VCEO at least 40 V", "in spec unchanged: LabNPN-S2")}
 
 
 def _run(code_or_path, tmp_path) -> str:

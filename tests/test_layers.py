@@ -25,7 +25,7 @@ LAYERS: list[tuple[str, tuple[str, ...]]] = [
     ("stages", ("drawerfit.stages",)),
     ("analysis", ("drawerfit.analysis", "drawerfit.cautions")),
     ("allocation", ("drawerfit.allocation",)),
-    ("search", ("drawerfit.search", "drawerfit.kits", "drawerfit.results")),
+    ("search", ("drawerfit.search", "drawerfit.kits", "drawerfit.results", "drawerfit.repair")),
     ("files", ("drawerfit.io",)),
     ("report", ("drawerfit.report",)),
     ("api", ("drawerfit.api",)),

@@ -18,8 +18,8 @@ import os
 from pathlib import Path
 from typing import Any, Callable
 
-__all__ = ["load_stock", "load_spec", "analyse", "analyze", "match", "design", "mend", "save_design", "load_design",
-           "kit", "load_parts_list", "save_kit", "take", "undo", "history"]
+__all__ = ["load_stock", "load_spec", "analyse", "analyze", "match", "substitutes", "design", "mend", "save_design",
+           "load_design", "kit", "load_parts_list", "save_kit", "take", "undo", "history"]
 
 PathLike = str | os.PathLike
 
@@ -124,6 +124,100 @@ def _quantity(value, expect, parse_quantity, implied_unit, Quantity):
     return q
 
 
+def substitutes(polarity: Any = None, stock: Any = None, *, spec: Any = None, vceo: Any = None, ic_max: Any = None,
+                power: Any = None, hfe: Any = None, hfe_min: Any = None, hfe_max: Any = None, vce_sat: Any = None,
+                units: int = 1, top: int | None = None, strict: bool = False):
+    """Transistor substitutes from the drawer: a ``repair.result.SubstituteResult``.
+
+    ``polarity`` 'npn' or 'pnp'; ``vceo`` (V), ``ic_max`` (A), ``power`` (PD, W): the lowest
+    ratings a substitute must have; ``vce_sat`` (V) the highest saturation voltage; ``hfe`` the
+    hFE range the stage was built for ('100-300', (100, 300) or one figure), or ``hfe_min`` /
+    ``hfe_max``.  Values are numbers (SI) or text ('45 V', '150m').  With ``spec`` (a stage spec
+    with [parts], or its path) each candidate is analysed in the stage, and whatever is not given
+    defaults to the stage's own transistor (docs/repair.md).  ``top`` limits each list shown.
+    """
+    from .repair.substitutes import Requirement, RequirementError, substitutes_for
+
+    if stock is None:
+        raise RequirementError("substitutes: give the stock (a Stock or a stock file's path)")
+    given: dict[str, Any] = {}
+    for name, raw, unit in (("vceo", vceo, "V"), ("ic_max", ic_max, "A"), ("pd", power, "W"),
+                            ("vce_sat", vce_sat, "V")):
+        if raw is not None:
+            given[name] = _requirement_value(name, raw, unit, RequirementError)
+    given.update(_hfe_range(hfe, hfe_min, hfe_max, RequirementError))
+    if polarity is not None:
+        if not isinstance(polarity, str) or polarity.strip().lower() not in ("npn", "pnp"):
+            raise RequirementError(f"unknown transistor polarity {polarity!r}: expected npn or pnp")
+        given["polarity"] = polarity.strip().lower()
+    if isinstance(units, bool) or not isinstance(units, int) or units < 1:
+        raise RequirementError(f"the number needed must be a whole number of at least 1, not {units!r}")
+    stock = load_stock(stock, strict=strict)
+    if spec is None:
+        if polarity is None:
+            raise RequirementError("substitutes: give the polarity (npn or pnp), or a stage spec")
+        origin = tuple((k, "given") for k in given)
+        return substitutes_for(stock, Requirement(units=units, origin=origin, **given), top=top)
+    if not _is_path(spec):
+        spec_obj = load_spec(spec)
+    else:
+        from .io.spec import load_spec as _load
+
+        spec_obj = _load(spec, stock=stock, label_may_be_absent=True)
+    return substitutes_for(stock, spec=spec_obj, given=given, units=units, top=top)
+
+
+def _requirement_value(name: str, raw: Any, unit: str, error) -> float:
+    """A rating of a requirement as a positive SI float, from a number, text or ``Quantity``."""
+    import math
+
+    from .values import Quantity, ValueParseError, format_si, implied_unit, parse_quantity
+
+    words = {"vceo": "VCEO", "ic_max": "IC max", "pd": "power (PD)", "vce_sat": "VCE(sat)"}[name]
+    try:
+        q = _quantity(raw, unit, parse_quantity, implied_unit, Quantity)
+    except ValueParseError as exc:
+        raise error(f"{words}: {exc}") from None
+    if q.unit not in (None, unit):
+        raise error(f"{words}: {format_si(q.value, q.unit)} is not in {unit}")
+    if not (math.isfinite(q.value) and q.value > 0):
+        raise error(f"{words}: {raw!r} must be positive")
+    if not (_SMALLEST <= q.value <= _LARGEST):
+        raise error(f"{words}: {raw!r} is outside the range of real parts; check the prefix")
+    return q.value
+
+
+def _hfe_range(hfe: Any, lo: Any, hi: Any, error) -> dict:
+    """``hfe_min``/``hfe_max`` from '100-300', '100..300', (100, 300), one figure, or the two ends."""
+    import re
+
+    if hfe is not None and (lo is not None or hi is not None):
+        raise error("hFE: give a range (hfe) or its ends (hfe_min, hfe_max), not both")
+    out: dict = {}
+    if hfe is not None:
+        if isinstance(hfe, (tuple, list)) and len(hfe) == 2:
+            lo, hi = hfe
+        elif isinstance(hfe, str):
+            m = re.fullmatch(r"\s*([0-9.]+)\s*(?:-|–|—|\.\.\.?|…|to)\s*([0-9.]+)\s*", hfe)
+            lo, hi = (m.group(1), m.group(2)) if m else (hfe, hfe)
+        else:
+            lo = hi = hfe
+    for name, raw in (("hfe_min", lo), ("hfe_max", hi)):
+        if raw is None:
+            continue
+        try:
+            v = float(raw) if not isinstance(raw, bool) else None
+        except (TypeError, ValueError):
+            v = None
+        if v is None:
+            shown = hfe if hfe is not None else raw
+            raise error(f"hFE: {shown!r} is not a range such as 100-300 (plain numbers, no unit)")
+        out[name] = v
+    if "hfe_min" in out and "hfe_max" in out and out["hfe_min"] > out["hfe_max"]:
+        raise error(f"hFE range {out['hfe_min']:g}–{out['hfe_max']:g}: the lowest is above the highest")
+    return out
+
+
 def design(spec: Any, stock: Any, *, units: int = 1, max_parts: int = 2, guarantee: str = "worst-case",
            prefer: str = "fewest-parts", top: int = 1, exhaustive: bool = False, budget: float = 1.0,
            on_step: Callable[..., None] | None = None):
@@ -151,10 +245,13 @@ def mend(spec: Any, stock: Any, *, fixed=(), broken=(), units: int = 1, max_part
     from the drawer: a ``mend.RepairNote`` (changes, the stage before and after, cautions).
 
     ``fixed`` roles never change, ``broken`` ones always do (``"Q1"`` names the transistor)."""
-    from .mend import mend as _mend
+    from .repair.mend import mend as _mend
 
     stock = load_stock(stock)
-    spec = load_spec(spec, stock)
+    if _is_path(spec):
+        from .io.spec import load_spec as _load
+
+        spec = _load(spec, stock=stock, label_may_be_absent=True)  # the board's Q1 need not be in the drawer
     return _mend(spec, stock, fixed=fixed, broken=broken, units=units, max_parts=max_parts, guarantee=guarantee,
                  prefer=prefer, top=top, exhaustive=exhaustive, budget=budget)
 

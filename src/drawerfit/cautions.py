@@ -9,7 +9,7 @@ from dataclasses import dataclass
 
 from .constants import HIGH_VOLTAGE_CAUTION, POWER_DERATING
 
-__all__ = ["Caution", "stage_cautions", "cautions_for", "GENERAL"]
+__all__ = ["Caution", "stage_cautions", "cautions_for", "GENERAL", "PIN_ORDER"]
 
 
 @dataclass(frozen=True)
@@ -39,6 +39,11 @@ HOT = Caution(
     "hot-parts",
     "Parts working near their power rating run hot enough to burn skin and scorch boards: "
     "keep them clear of the board and of wiring, and let them cool before handling.",
+)
+PIN_ORDER = Caution(
+    "pin-order",
+    "Check a substitute transistor's pin order against the board before fitting it: lead orders differ "
+    "between types, and one fitted the wrong way round does not work and can fail.",
 )
 GENERAL = Caution(
     "general",

@@ -13,7 +13,7 @@ import sys
 
 import click
 
-from .parts import DrawerfitError
+from .parts import DrawerfitError, SpecError
 from .values import ValueParseError, parse_quantity
 
 EXIT_BAD_INPUT = 2
@@ -94,12 +94,16 @@ def stock(file: str, as_json: bool, strict: bool) -> None:
     run_stock(file, as_json=as_json, strict=strict)
 
 
+TRANSISTOR_WORDS = ("npn", "pnp")
+
+
 @main.command()
-@click.argument("value", type=ValueType())
+@click.argument("value", metavar="VALUE|npn|pnp")
 @click.option("--stock", "stock_file", required=True, type=click.Path(dir_okay=False), help="Stock file.")
 @click.option("--within", type=FractionType(), default=None, help="Window around VALUE, e.g. 1% or 0.01.")
 @click.option("--max-parts", type=click.IntRange(1, 3), default=2, show_default=True)
-@click.option("--power", type=ValueType("W"), default=None, help="Power rating the substitute must offer (resistors).")
+@click.option("--power", type=ValueType("W"), default=None,
+              help="Power rating the substitute must offer (resistors; a transistor's PD).")
 @click.option("--voltage", type=ValueType("V"), default=None, help="Voltage rating the substitute must offer (capacitors).")
 @click.option("--units", type=click.IntRange(1), default=1, show_default=True, help="How many are needed.")
 @click.option("--top", type=click.IntRange(1), default=10, show_default=True)
@@ -107,13 +111,51 @@ def stock(file: str, as_json: bool, strict: bool) -> None:
 @click.option("--allow-polarized-series", is_flag=True,
               help="Also offer chains with electrolytics in series (they need balancing resistors).")
 @click.option("--strict", is_flag=True, help="Fail (exit 2) if any stock line cannot be read.")
+@click.option("--vceo", default=None, metavar="V", help="Transistors: the lowest VCEO, e.g. 45V.")
+@click.option("--ic-max", "ic_max", default=None, metavar="A", help="Transistors: the lowest IC max, e.g. 150mA.")
+@click.option("--hfe", default=None, metavar="MIN-MAX", help="Transistors: the hFE range the stage was built for.")
+@click.option("--hfe-min", "hfe_min", default=None, metavar="N", help="Transistors: the low end of the hFE range.")
+@click.option("--hfe-max", "hfe_max", default=None, metavar="N", help="Transistors: the high end of the hFE range.")
+@click.option("--vce-sat", "vce_sat", default=None, metavar="V", help="Transistors: the highest VCE(sat), e.g. 0.3V.")
+@click.option("--in", "spec_file", default=None, type=click.Path(dir_okay=False), metavar="SPEC.toml",
+              help="Transistors: the stage (spec with [parts]) each substitute is tried in; what is not "
+                   "given defaults to its own transistor.")
+@click.pass_context
 @user_errors
-def match(value, stock_file, within, max_parts, power, voltage, units, top, as_json, allow_polarized_series,
-          strict) -> None:
-    """Find what in the drawer makes VALUE: single parts, series or parallel pairs, triples."""
+def match(ctx, value, stock_file, within, max_parts, power, voltage, units, top, as_json, allow_polarized_series,
+          strict, vceo, ic_max, hfe, hfe_min, hfe_max, vce_sat, spec_file) -> None:
+    """Find what in the drawer makes VALUE: single parts, series or parallel pairs, triples.
+
+    With npn or pnp instead of a value: the transistors in the drawer that can replace one, with
+    their margins, best first; with --in SPEC.toml, each tried in the stage.
+    """
+    transistor_opts = {"--vceo": vceo, "--ic-max": ic_max, "--hfe": hfe, "--hfe-min": hfe_min,
+                       "--hfe-max": hfe_max, "--vce-sat": vce_sat, "--in": spec_file}
+    if value.strip().lower() in TRANSISTOR_WORDS:
+        from click.core import ParameterSource
+
+        passive = {"--within": within is not None, "--voltage": voltage is not None,
+                   "--allow-polarized-series": allow_polarized_series,
+                   "--max-parts": ctx.get_parameter_source("max_parts") != ParameterSource.DEFAULT}
+        wrong = [name for name, given in passive.items() if given]
+        if wrong:
+            raise SpecError(f"match {value}: {wrong[0]} applies to resistors and capacitors, not to transistors")
+        from .commands.match_cmd import run_substitutes
+
+        run_substitutes(value.strip().lower(), stock_file, vceo=vceo, ic_max=ic_max, power=power, hfe=hfe,
+                        hfe_min=hfe_min, hfe_max=hfe_max, vce_sat=vce_sat, spec_file=spec_file, units=units,
+                        top=top, as_json=as_json, strict=strict)
+        return
+    wrong = [name for name, v in transistor_opts.items() if v is not None]
+    if wrong:
+        raise SpecError(f"match {value}: {wrong[0]} applies to transistors (match npn or match pnp)")
+    if value.strip().isalpha():
+        raise SpecError(f"match: {value!r} is neither a value (such as 4k7 or 68n) nor a transistor polarity "
+                        "(npn or pnp)")
+    quantity = ValueType().convert(value, ctx.command.params[0], ctx)
     from .commands.match_cmd import run_match
 
-    run_match(value, stock_file, within=within, max_parts=max_parts, power=power, voltage=voltage,
+    run_match(quantity, stock_file, within=within, max_parts=max_parts, power=power, voltage=voltage,
               units=units, top=top, as_json=as_json, strict=strict,
               allow_polarized_series=allow_polarized_series)
 

@@ -13,15 +13,10 @@ import click
 
 from ..parts import NoDesignError, SearchLimitError, SpecError
 from ..values import format_si
+from ..repair.mend import FIGURES, figure_rows, not_met
 from .common import emit_json
 
-__all__ = ["run_keep", "repair_dict", "FIGURES"]
-
-# (figure, label, unit, which worst-case end matters: "both", "low" or "high")
-FIGURES = (("ie", "IE", "A", "both"), ("vce", "VCE", "V", "both"), ("gain", "gain", "", "both"),
-           ("rin", "input", "Ω", "low"), ("rout", "output", "Ω", "high"), ("f_low", "low corner", "Hz", "high"),
-           ("swing_peak", "swing", "V", "low"))
-
+__all__ = ["run_keep", "check_keep_options"]
 
 def _roles_arg(text: str | None) -> tuple[str, ...]:
     if not text:
@@ -39,7 +34,9 @@ def run_keep(spec_file: str, stock_file: str, *, fixed: str | None, broken: str 
     stock = api.load_stock(stock_file, strict=strict)
     if not quiet:
         report_problems(stock)
-    spec = api.load_spec(spec_file, stock)
+    from ..io.spec import load_spec
+
+    spec = load_spec(spec_file, stock=stock, label_may_be_absent=True)  # the board's Q1 need not be in the drawer
     note = api.mend(spec, stock, fixed=_roles_arg(fixed), broken=_roles_arg(broken), units=units,
                     max_parts=max_parts, guarantee=guarantee, prefer=prefer, top=top, exhaustive=exhaustive,
                     budget=budget)
@@ -60,15 +57,6 @@ def _fmt(x, unit: str) -> str:
     if x is None or not math.isfinite(float(x)):
         return "-"
     return format_si(float(x), unit, 4) if unit else f"{float(x):.4g}"
-
-
-def figure_rows(analysis) -> dict:
-    """{figure: (nominal, worst low, worst high)} of an analysis (SI units)."""
-    out = {}
-    for name, _, _, _ in FIGURES:
-        nom = float(getattr(analysis.nominal, name))
-        out[name] = (nom, float(analysis.worst.low.get(name, math.nan)), float(analysis.worst.high.get(name, math.nan)))
-    return out
 
 
 def _range(row, unit: str, end: str) -> str:
@@ -154,57 +142,6 @@ def _cautions(note) -> None:
     click.echo("Cautions:")
     for c in note.cautions:
         click.echo(f"  * {c.text}")
-
-
-def repair_dict(note) -> dict:
-    """The `design --keep --json` shape (SI units)."""
-    from ..results import _role_dict
-
-    r = note.result
-    out = {"feasible": r.feasible, "proven_fewest": r.proven, "searches": r.searches, "fixed": list(r.fixed),
-           "broken": list(r.broken), "changes": [], "kept": [], "before": None, "after": None,
-           "cautions": [c.to_dict() for c in note.cautions], "notes": list(r.notes)}
-    if note.before is not None:
-        out["before"] = _figures_dict(note.before)
-    if not r.feasible:
-        out["tried_up_to"] = r.tried_up_to
-        if note.design_result is not None:
-            out["afresh"] = note.design_result.to_dict()
-        return out
-    best, changed = r.best, r.changed[0]
-    parts = _role_dict(best)
-    for role in (*r.problem.roles[0], *r.problem.roles[1], "Q1"):
-        if role in changed:
-            entry = {"role": role, "from": note.was(role), "to": note.now(role)}
-            if role == "Q1":
-                entry["transistor"] = {"label": best.transistor.label, "location": best.transistor.location,
-                                       "row": best.transistor.source.row}
-            else:
-                entry["part"] = parts.get(role)
-            out["changes"].append(entry)
-        else:
-            out["kept"].append(role)
-    out["after"] = _figures_dict(note.after)
-    out["margins"] = {k: (m if math.isfinite(m) else None) for k, m in best.target_margins.items()}
-    out["others"] = [{"changes": ch, "key": None} for ch in r.changed[1:]]
-    return out
-
-
-def _figures_dict(analysis) -> dict:
-    rows = figure_rows(analysis)
-    return {"figures": {k: {"nominal": _num(a), "worst_low": _num(b), "worst_high": _num(c)}
-                        for k, (a, b, c) in rows.items()},
-            "checks_not_met": not_met(analysis),
-            "advice": [c.message for c in analysis.checks if c.ok is False and c.kind == "advice"]}
-
-
-def not_met(analysis) -> list[str]:
-    """The checks a stage fails (targets, ratings, state, polarity; advice apart)."""
-    return [c.name for c in analysis.checks if c.ok is False and c.kind != "advice"]
-
-
-def _num(x: float):
-    return x if math.isfinite(x) else None
 
 
 def check_keep_options(save, report) -> None:

@@ -161,8 +161,12 @@ class _Reader:
         return raw
 
 
-def load_spec(path: str | Path, stock=None) -> Spec:
-    """Read a spec file; ``stock`` (a ``parts.Stock``) resolves ``[transistor] label``."""
+def load_spec(path: str | Path, stock=None, *, label_may_be_absent: bool = False) -> Spec:
+    """Read a spec file; ``stock`` (a ``parts.Stock``) resolves ``[transistor] label``.
+
+    ``label_may_be_absent``: a label the stock does not hold is no error when [transistor] gives
+    the hFE itself (a repair: the board's transistor is the one missing from the drawer).
+    """
     import tomllib
 
     from ..constants import MAX_TEXT_INPUT_BYTES
@@ -175,10 +179,10 @@ def load_spec(path: str | Path, stock=None) -> Spec:
         raise SpecError(f"{p}: not a text file (UTF-8 expected)") from None
     except tomllib.TOMLDecodeError as exc:
         raise SpecError(f"{p}: not valid TOML: {exc}") from None
-    return parse_spec(data, str(p), stock)
+    return parse_spec(data, str(p), stock, label_may_be_absent=label_may_be_absent)
 
 
-def parse_spec(data: Mapping[str, Any], path: str = "<spec>", stock=None) -> Spec:
+def parse_spec(data: Mapping[str, Any], path: str = "<spec>", stock=None, *, label_may_be_absent: bool = False) -> Spec:
     """Build a ``Spec`` from an already-parsed TOML tree (see ``load_spec``)."""
     from ..analysis.targets import IE_WINDOW, Targets
     from ..stages import Conditions
@@ -215,7 +219,8 @@ def parse_spec(data: Mapping[str, Any], path: str = "<spec>", stock=None) -> Spe
     if not isinstance(title, str):
         raise r.fail("title", title, "expected text")
 
-    transistor, label = _transistor(r, data, polarity, stock, design="parts" not in data)
+    transistor, label = _transistor(r, data, polarity, stock, design="parts" not in data,
+                                    label_may_be_absent=label_may_be_absent)
     parts = _parts(r, data, topology)
     targets = _targets(r, data, Targets, IE_WINDOW)
     conditions = _limits(r, data, Conditions)
@@ -228,7 +233,7 @@ def parse_spec(data: Mapping[str, Any], path: str = "<spec>", stock=None) -> Spe
                 pairs=pairs, bypass=bypass, title=title, assumptions=tuple(r.assumptions), notes=tuple(notes))
 
 
-def _transistor(r: _Reader, data, polarity, stock, design: bool = False):
+def _transistor(r: _Reader, data, polarity, stock, design: bool = False, label_may_be_absent: bool = False):
     from ..constants import VBE_DEFAULT, VCE_SAT_DEFAULT
     from ..stages import TransistorModel
 
@@ -239,10 +244,12 @@ def _transistor(r: _Reader, data, polarity, stock, design: bool = False):
     if label is not None and (not isinstance(label, str) or not label.strip()):
         raise r.fail("transistor.label", label, "expected the label of a transistor line in the stock")
     fields: dict[str, Any] = {}
-    own_hfe = "hfe" in t or "hfe_min" in t
-    if label is not None and stock is not None and (not own_hfe or _in_stock(stock, label.strip())):
-        # a label the stock lacks is fine when the spec gives the figures (a board's own transistor)
-        line = _stock_transistor(r, stock, label.strip(), polarity)
+    if label is not None and stock is not None and label_may_be_absent and ("hfe" in t or "hfe_min" in t):
+        if not any((ln.label or "").strip().lower() == label.strip().lower() for ln in stock.transistors()):
+            stock = None  # not in the drawer: the spec's own figures describe it
+            r.assumptions.append(f"Q1 {label.strip()!r} is not in the stock: its figures are the spec's")
+    if label is not None and stock is not None:
+        line = _stock_transistor(r, stock, label.strip(), polarity, label_may_be_absent)
         for name in ("hfe_min", "hfe_max", "vceo", "ic_max", "pd", "vbe", "vce_sat"):
             v = getattr(line, name, None)
             if v is not None:
@@ -298,15 +305,13 @@ def _transistor(r: _Reader, data, polarity, stock, design: bool = False):
     return model, (label.strip() if label else None)
 
 
-def _in_stock(stock, label: str) -> bool:
-    return any((ln.label or "").strip().lower() == label.lower() for ln in stock.transistors())
-
-
-def _stock_transistor(r: _Reader, stock, label: str, polarity: str):
+def _stock_transistor(r: _Reader, stock, label: str, polarity: str, label_may_be_absent: bool = False):
     lines = [ln for ln in stock.transistors() if (ln.label or "").strip().lower() == label.lower()]
     if not lines:
         known = sorted({ln.label for ln in stock.transistors() if ln.label})
         hint = f"; the stock has {', '.join(known)}" if known else "; the stock has no transistors"
+        if label_may_be_absent:
+            hint += " (give its hfe_min and hfe_max, and its ratings, in [transistor])"
         raise r.fail("transistor.label", label, f"no transistor with this label in the stock{hint}")
     line = lines[0]
     if line.polarity and line.polarity.lower() != polarity:

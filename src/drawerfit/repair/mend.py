@@ -10,14 +10,20 @@ what to buy, the transistor included).
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass, field
 
-__all__ = ["RepairNote", "mend", "repair_caution"]
+__all__ = ["RepairNote", "mend", "repair_caution", "repair_dict", "figure_rows", "not_met", "FIGURES"]
+
+# (figure, label, unit, which worst-case end matters: "both", "low" or "high")
+FIGURES = (("ie", "IE", "A", "both"), ("vce", "VCE", "V", "both"), ("gain", "gain", "", "both"),
+           ("rin", "input", "Ω", "low"), ("rout", "output", "Ω", "high"), ("f_low", "low corner", "Hz", "high"),
+           ("swing_peak", "swing", "V", "low"))
 
 
 def repair_caution():
     """The caution every repair note carries first."""
-    from .cautions import Caution
+    from ..cautions import Caution
 
     return Caution(
         "repair",
@@ -40,7 +46,7 @@ class RepairNote:
 
     def was(self, role: str) -> str:
         """What the board has in ``role``, in words."""
-        from .values import format_percent, format_si
+        from ..values import format_percent, format_si
 
         if role == "Q1":
             t = self.spec.transistor
@@ -53,7 +59,7 @@ class RepairNote:
 
     def now(self, role: str) -> str:
         """What the repair puts in ``role`` and where it is in the drawer."""
-        from .values import format_percent
+        from ..values import format_percent
 
         best = self.result.best
         if role == "Q1":
@@ -65,8 +71,6 @@ class RepairNote:
         return f"{eq.describe()} {format_percent(c.tolerance)}  [{where}]"
 
     def to_dict(self) -> dict:
-        from .commands.repair_note import repair_dict
-
         return repair_dict(self)
 
 
@@ -74,12 +78,12 @@ def mend(spec, stock, *, fixed=(), broken=(), units: int = 1, max_parts: int = 2
          prefer: str = "fewest-parts", top: int = 1, exhaustive: bool = False, budget: float = 1.0,
          suggest: bool = True) -> RepairNote:
     """The repair of the board ``spec`` describes from ``stock`` (see the module docstring)."""
-    from .analysis import analyse
-    from .cautions import cautions_for, stage_cautions
-    from .parts import SpecError
-    from .search.changes import fewest_changes
-    from .search.design import _budget
-    from .search.problem import problem_from_spec
+    from ..analysis import analyse
+    from ..cautions import cautions_for, stage_cautions
+    from ..parts import SpecError
+    from ..search.changes import fewest_changes
+    from ..search.design import _budget
+    from ..search.problem import problem_from_spec
 
     problem = problem_from_spec(spec, units=units, max_parts=max_parts, guarantee=guarantee, prefer=prefer,
                                 keep=True)
@@ -99,13 +103,76 @@ def mend(spec, stock, *, fixed=(), broken=(), units: int = 1, max_parts: int = 2
         if suggest:
             from dataclasses import replace
 
-            from . import api
+            from ..search.design import design
 
             # the same targets with every part open (the board's transistor is not in the drawer)
             afresh = replace(spec, parts={}, transistor=None, transistor_label=None,
                              bypass=spec.bypass or "CE" in spec.parts)
-            note.design_result = api.design(afresh, stock, units=units, max_parts=max_parts, guarantee=guarantee,
-                                            prefer=prefer, budget=budget)
+            fresh = problem_from_spec(afresh, units=units, max_parts=max_parts, guarantee=guarantee, prefer=prefer)
+            note.design_result = design(fresh, stock, budget=budget)
+            note.design_result.spec, note.design_result.stock = afresh, stock
     # the repair caution first, then the stage's own (high voltage, electrolytics, hot parts, general)
     note.cautions = [repair_caution()] + list(base)
     return note
+
+
+def figure_rows(analysis) -> dict:
+    """{figure: (nominal, worst low, worst high)} of an analysis (SI units)."""
+    out = {}
+    for name, _, _, _ in FIGURES:
+        nom = float(getattr(analysis.nominal, name))
+        out[name] = (nom, float(analysis.worst.low.get(name, math.nan)), float(analysis.worst.high.get(name, math.nan)))
+    return out
+
+
+
+def repair_dict(note) -> dict:
+    """The `design --keep --json` shape (SI units)."""
+    from ..results import _role_dict
+
+    r = note.result
+    out = {"feasible": r.feasible, "proven_fewest": r.proven, "searches": r.searches, "fixed": list(r.fixed),
+           "broken": list(r.broken), "changes": [], "kept": [], "before": None, "after": None,
+           "cautions": [c.to_dict() for c in note.cautions], "notes": list(r.notes)}
+    if note.before is not None:
+        out["before"] = _figures_dict(note.before)
+    if not r.feasible:
+        out["tried_up_to"] = r.tried_up_to
+        if note.design_result is not None:
+            out["afresh"] = note.design_result.to_dict()
+        return out
+    best, changed = r.best, r.changed[0]
+    parts = _role_dict(best)
+    for role in (*r.problem.roles[0], *r.problem.roles[1], "Q1"):
+        if role in changed:
+            entry = {"role": role, "from": note.was(role), "to": note.now(role)}
+            if role == "Q1":
+                entry["transistor"] = {"label": best.transistor.label, "location": best.transistor.location,
+                                       "row": best.transistor.source.row}
+            else:
+                entry["part"] = parts.get(role)
+            out["changes"].append(entry)
+        else:
+            out["kept"].append(role)
+    out["after"] = _figures_dict(note.after)
+    out["margins"] = {k: (m if math.isfinite(m) else None) for k, m in best.target_margins.items()}
+    out["others"] = [{"changes": ch, "key": None} for ch in r.changed[1:]]
+    return out
+
+
+def _figures_dict(analysis) -> dict:
+    rows = figure_rows(analysis)
+    return {"figures": {k: {"nominal": _num(a), "worst_low": _num(b), "worst_high": _num(c)}
+                        for k, (a, b, c) in rows.items()},
+            "checks_not_met": not_met(analysis),
+            "advice": [c.message for c in analysis.checks if c.ok is False and c.kind == "advice"]}
+
+
+def not_met(analysis) -> list[str]:
+    """The checks a stage fails (targets, ratings, state, polarity; advice apart)."""
+    return [c.name for c in analysis.checks if c.ok is False and c.kind != "advice"]
+
+
+def _num(x: float):
+    return x if math.isfinite(x) else None
+

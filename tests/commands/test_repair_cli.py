@@ -112,3 +112,13 @@ def test_marks_without_keep_and_bad_marks_exit_2(tmp_path):
     r = CliRunner().invoke(main, ["design", spec, "--stock", stock, "--keep", "--save", str(tmp_path / "d.toml")])
     assert r.exit_code == 2 and "not" in r.output
     assert "Traceback" not in r.output
+
+
+def test_the_sample_board_is_mended_and_meets_every_check(samples):
+    # the bundled invented board (inventory_samples/preamp_repair.toml) and repair drawer
+    r = CliRunner().invoke(main, ["design", str(samples / "preamp_repair.toml"), "--stock",
+                                  str(samples / "repair_bench.csv"), "--keep", "--broken", "Q1", "--json"])
+    assert r.exit_code == 0, r.output
+    d = json.loads(r.stdout)
+    assert "Q1" in [c["role"] for c in d["changes"]]
+    assert d["after"]["checks_not_met"] == [] and d["proven_fewest"]

@@ -25,7 +25,8 @@ __version__ = "0.1.0"
 # name -> module that defines it; loaded when first asked for (PEP 562)
 _LAZY = {
     **{name: "drawerfit.api" for name in (
-        "load_stock", "load_spec", "analyse", "analyze", "match", "substitutes", "design", "save_design", "load_design", "kit",
+        "load_stock", "load_spec", "analyse", "analyze", "match", "substitutes", "design", "mend", "save_design",
+        "load_design", "kit",
         "load_parts_list", "save_kit", "take", "undo", "history")},
 }
 # (no lazy name may equal a subpackage's: importing ``drawerfit.x`` binds ``drawerfit.x`` to the module)

@@ -142,3 +142,17 @@ def test_no_function_of_the_package_is_shadowed_by_a_module():
     assert not clash
     importlib.import_module("drawerfit.kits.fill")
     assert callable(drawerfit.kit)
+
+
+def test_mend_is_the_command_and_has_tables():
+    # one source: api.mend(...).to_dict() is what `design --keep --json` prints
+    board, bench = SAMPLES / "preamp_repair.toml", SAMPLES / "repair_bench.csv"
+    note = drawerfit.mend(board, bench, broken=("Q1",))
+    cli = _cli_json(["design", str(board), "--stock", str(bench), "--keep", "--broken", "Q1", "--json"])
+    assert _plain(note.to_dict()) == cli
+    assert repr(note).startswith("<RepairNote: change ") and len(repr(note)) < 200
+    changes = note.to_pandas()
+    assert list(changes.loc[changes["changed"], "role"]) == [c["role"] for c in cli["changes"]]
+    figs = note.to_pandas("figures")
+    after_ie = figs[(figs["when"] == "after") & (figs["figure"] == "ie")].iloc[0]
+    assert after_ie["nominal"] == pytest.approx(cli["after"]["figures"]["ie"]["nominal"])

@@ -70,6 +70,38 @@ class RepairNote:
         where = ", ".join(f"{m.location or '-'} row {m.source.row}" for m in eq.members)
         return f"{eq.describe()} {format_percent(c.tolerance)}  [{where}]"
 
+    def __repr__(self) -> str:
+        r = self.result
+        if not r.feasible:
+            return f"<RepairNote: no repair from the drawer (up to {r.tried_up_to} changes searched)>"
+        proven = "proven fewest" if r.proven else "not proven fewest"
+        return f"<RepairNote: change {', '.join(r.changed[0]) or 'nothing'} ({proven}; {r.searches} searches)>"
+
+    def to_pandas(self, table: str = "changes"):
+        """A DataFrame: ``table`` "changes" (role, from, to; kept roles too) or "figures" (each figure
+        before and after, nominal and at the worst-case ends, SI units)."""
+        import pandas as pd
+
+        if table == "figures":
+            rows = []
+            for when, a in (("before", self.before), ("after", self.after)):
+                if a is None:
+                    continue
+                for name, (nom, lo, hi) in figure_rows(a).items():
+                    rows.append({"when": when, "figure": name, "nominal": nom, "worst_low": lo, "worst_high": hi})
+            return pd.DataFrame(rows, columns=["when", "figure", "nominal", "worst_low", "worst_high"])
+        if table != "changes":
+            raise ValueError(f"table must be 'changes' or 'figures', not {table!r}")
+        r = self.result
+        rows = []
+        if r.feasible:
+            res, caps = r.problem.roles
+            for role in (*res, *caps, "Q1"):
+                changed = role in r.changed[0]
+                rows.append({"role": role, "changed": changed, "from": self.was(role),
+                             "to": self.now(role) if changed else self.was(role)})
+        return pd.DataFrame(rows, columns=["role", "changed", "from", "to"])
+
     def to_dict(self) -> dict:
         return repair_dict(self)
 
@@ -156,7 +188,8 @@ def repair_dict(note) -> dict:
             out["kept"].append(role)
     out["after"] = _figures_dict(note.after)
     out["margins"] = {k: (m if math.isfinite(m) else None) for k, m in best.target_margins.items()}
-    out["others"] = [{"changes": ch, "key": None} for ch in r.changed[1:]]
+    out["others"] = [{"changes": ch, "parts": _role_dict(d), "transistor": d.transistor.label}
+                     for d, ch in zip(r.designs[1:], r.changed[1:])]
     return out
 
 

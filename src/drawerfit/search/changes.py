@@ -169,8 +169,8 @@ def _defaulted(on_board: dict) -> tuple[dict, list]:
         (new,), said = with_default_ratings([ln])
         out[r] = new
         if said:
-            what = "power" if new.kind == "resistor" else "voltage"
-            notes.append(f"[parts] {r}: no rating or tolerance given; the search assumes "
-                         f"{what} {new.rating:g}, tolerance {new.tolerance:g}")
+            unit = "W" if new.kind == "resistor" else "V"
+            notes.append(f"[parts] {r}: no rating given; the search takes the documented default "
+                         f"{new.rating:g} {unit} for it")
     return out, notes
 

@@ -6,6 +6,7 @@ import numpy as np
 
 from ..constants import STIFF_DIVIDER_FACTOR
 from ..values import format_si
+from ..stages.topologies import topology_module
 from .core import ACTIVE, CAP_FIGURE, CUTOFF, POWER_FIGURE, SATURATED
 from .result import Check
 from .targets import Targets, target_margins
@@ -19,7 +20,7 @@ def _ends(stage, role: str) -> tuple[str, str]:
     if role == "C1":
         return "the base", "the source"
     if role == "C2":
-        return ("the emitter" if stage.topology == "emitter-follower" else "the collector"), "the load"
+        return topology_module(stage.topology).OUTPUT_END, "the load"
     rail = "ground" if stage.polarity == "npn" else "the supply"
     return "the RE/RE2 junction", rail
 

@@ -7,7 +7,9 @@ Units are SI base units: ohm, farad, volt, ampere, watt, hertz, and °C for temp
 Conventions:
 
 * ``rl = np.inf`` means no load; ``rs = 0`` an ideal source; ``re2 = 0`` no second emitter
-  resistor; ``ce = 0`` no bypass capacitor.  ``rc`` and ``re2`` are ignored by the follower.
+  resistor; ``ce = 0`` no bypass capacitor.  A circuit without them (its module's ``dc_inputs``)
+  ignores ``rc`` and ``re2``.  The circuit's module supplies the parts of the kernel particular
+  to it (small signal, swing, the collector node); this module the divider and the DC solution.
 * Node voltages (``vb``, ``ve``, ``vc``) are to ground for both polarities.  Currents (``ie``,
   ``ic``, ``ib``) and ``vce`` are magnitudes (``vce`` is VEC for a PNP stage), positive when the
   transistor conducts.  The PNP stage is the mirror image on the same positive supply: it is
@@ -40,6 +42,8 @@ from typing import Mapping
 import numpy as np
 
 from ..constants import NOMINAL_TEMP_C, VBE_DEFAULT, VBE_TEMPCO, VCE_SAT_DEFAULT, thermal_voltage
+from ..stages.kernels import parallel
+from ..stages.topologies import CIRCUITS, TOPOLOGIES, topology_module
 
 __all__ = ["ACTIVE", "SATURATED", "CUTOFF", "STATE_NAMES", "LIMIT_NONE", "LIMIT_CUTOFF", "LIMIT_SATURATION",
            "LIMIT_NAMES", "TOPOLOGIES", "POLARITIES", "DCFigures", "evaluate_dc", "parallel", "POWER_FIGURE",
@@ -49,19 +53,11 @@ ACTIVE, SATURATED, CUTOFF = 0, 1, 2
 STATE_NAMES = {ACTIVE: "active", SATURATED: "saturated", CUTOFF: "cut-off"}
 LIMIT_NONE, LIMIT_CUTOFF, LIMIT_SATURATION = -1, 0, 1
 LIMIT_NAMES = {LIMIT_NONE: "none", LIMIT_CUTOFF: "cut-off", LIMIT_SATURATION: "saturation"}
-TOPOLOGIES = ("emitter-follower", "common-emitter")
 POLARITIES = ("npn", "pnp")
-# The figure of each role: the power a resistor dissipates, the DC voltage across a capacitor.
-POWER_FIGURE = {"R1": "p_r1", "R2": "p_r2", "RE": "p_re", "RC": "p_rc", "RE2": "p_re2"}
-CAP_FIGURE = {"C1": "v_c1", "C2": "v_c2", "CE": "v_ce"}
-
-
-
-def parallel(a, b):
-    """a ∥ b for positive resistances, with inf meaning open and 0 meaning short."""
-    with np.errstate(divide="ignore", invalid="ignore"):
-        out = 1.0 / (1.0 / a + 1.0 / b)
-    return np.where(np.isinf(a), b, np.where(np.isinf(b), a, out))
+# The figure of each role over every circuit (each circuit module holds its own): the power a
+# resistor dissipates, the DC voltage across a capacitor.
+POWER_FIGURE = {r: a for m in CIRCUITS for r, a in m.POWER_FIGURE.items()}
+CAP_FIGURE = {r: a for m in CIRCUITS for r, a in m.CAP_FIGURE.items()}
 
 
 @dataclass(frozen=True)
@@ -157,7 +153,7 @@ def evaluate_dc(
     is given); ``temp_c`` the ambient in °C.  See the module docstring for conventions.
     """
     _check_names(topology, polarity)
-    follower = topology == "emitter-follower"
+    circuit = topology_module(topology)
     arrs = np.broadcast_arrays(
         *(np.asarray(x, dtype=float) for x in (
             supply, r1, r2, re, rc, re2, rs, rl, hfe, vbe, vce_sat, temp_c, vbe_tempco,
@@ -166,10 +162,7 @@ def evaluate_dc(
         np.asarray(bypassed, dtype=bool),
     )
     vcc, r1, r2, re, rc, re2, rs, rl, beta, vbe0, vces, temp, tempco, isat, byp = arrs
-    if follower:
-        rc = np.zeros_like(rc)
-        re2 = np.zeros_like(re2)
-        byp = np.zeros_like(byp)
+    rc, re2, byp = circuit.dc_inputs(rc, re2, byp)
     # PNP: the NPN stage in voltages measured down from the supply; the divider's roles swap.
     ra, rb = (r1, r2) if polarity == "npn" else (r2, r1)
 
@@ -215,33 +208,18 @@ def evaluate_dc(
     with np.errstate(divide="ignore"):
         re_s = np.where(ie > 0, vt / np.where(ie > 0, ie, 1.0), np.inf)
     rbias = parallel(ra, rb)
-    re_ac = np.where(byp, re, re + re2) if not follower else re
-    if follower:
-        rload_e = parallel(re, rl)
-        zb = (beta + 1.0) * (re_s + rload_e)
-        gain_base = rload_e / (re_s + rload_e)
-        rs_b = parallel(rs, rbias)
-        rout = parallel(re, re_s + rs_b / (beta + 1.0))
-    else:
-        rload_c = parallel(rc, rl)
-        zb = (beta + 1.0) * (re_s + re_ac)
-        gain_base = -alpha * rload_c / (re_s + re_ac)
-        rout = rc.copy()
+    q = dict(vcc=vcc, re=re, re2=re2, rc=rc, rs=rs, rl=rl, rbias=rbias, byp=byp, beta=beta,
+             alpha=alpha, re_s=re_s, ie=ie, ic=ic, vce=vce, vces=vces, vem=vem, polarity=polarity)
+    re_ac, zb, gain_base, rout = circuit.small_signal(q)
     rin_act = parallel(rbias, zb)
     rin = np.where(active, rin_act, rbias)
     gain = np.where(active, gain_base * rin / (rs + rin), 0.0)
     gain_base = np.where(active, gain_base, 0.0)
 
     # Swing, in mirrored coordinates: "up" is away from the emitter rail.
-    if follower:
-        up = vcc - vces - vem  # emitter rises until VCE = VCE(sat)
-        down = ie * parallel(re, rl)  # emitter current falls to zero (cut-off)
-        limit = np.where(up < down, LIMIT_SATURATION, LIMIT_CUTOFF)
-    else:
-        rload_c = parallel(rc, rl)
-        up = ic * rload_c  # collector current falls to zero (cut-off)
-        down = (vce - vces) * rload_c / (rload_c + re_ac / alpha)  # VCE falls to VCE(sat)
-        limit = np.where(down < up, LIMIT_SATURATION, LIMIT_CUTOFF)
+    q["re_ac"] = re_ac
+    up, down, saturation_binds = circuit.swing(q)
+    limit = np.where(saturation_binds, LIMIT_SATURATION, LIMIT_CUTOFF)
     peak = np.where(active, np.maximum(np.minimum(up, down), 0.0), 0.0)
     limit = np.where(active, limit, LIMIT_NONE).astype(np.int8)
 
@@ -254,9 +232,7 @@ def evaluate_dc(
         vb, ve, vc = vcc - vbm, vcc - vem, vcc - vcm
         vn = vcc - ie * re2
         v_ce = vn - vcc
-    if follower:
-        vc = vcc.copy() if polarity == "npn" else np.zeros_like(vcc)
-        v_ce = np.zeros_like(v_ce)
+    vc, v_ce, v_c2 = circuit.dc_nodes(dict(q, vc=vc, ve=ve, v_ce=v_ce))
     p_r1 = (vcc - vb) ** 2 / r1
     p_r2 = vb**2 / r2
     p_q = vce * ic + np.abs(vb - ve) * ib
@@ -265,7 +241,7 @@ def evaluate_dc(
         re_small=re_s, rin=rin, rout=rout, gain=gain, gain_base=gain_base,
         swing_peak=peak, swing_up=up, swing_down=down, swing_limit=limit,
         p_r1=p_r1, p_r2=p_r2, p_re=ie**2 * re, p_rc=ic**2 * rc, p_re2=ie**2 * re2, p_q=p_q,
-        v_c1=vb.copy(), v_c2=(ve if follower else vc).copy(), v_ce=v_ce,
+        v_c1=vb.copy(), v_c2=v_c2, v_ce=v_ce,
         inputs=dict(
             topology=topology, polarity=polarity, rs=rs, rbias=rbias, re=re, re2=re2, rc=rc,
             rl=rl, beta=beta, bypassed=byp,

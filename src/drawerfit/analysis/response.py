@@ -11,7 +11,9 @@ from dataclasses import dataclass, fields
 
 import numpy as np
 
-from .dc import ACTIVE, DCFigures, evaluate_dc, parallel
+from ..stages.kernels import load_conductance
+from ..stages.topologies import topology_module
+from .dc import ACTIVE, DCFigures, evaluate_dc
 
 __all__ = ["Corners", "Figures", "NUMERIC_FIELDS", "low_corner", "meets_corner", "evaluate", "transfer",
            "CAP_KEYS"]
@@ -55,12 +57,14 @@ class _Kernel:
 
     The transfer is found by impedance reduction, exact for the small-signal model (hybrid-π
     without Early effect: the collector is an ideal current source β·ib).  The load enters as a
-    conductance (0 for no load) so that no infinities reach the complex arithmetic.
+    conductance (0 for no load) so that no infinities reach the complex arithmetic.  The circuit's
+    module adds its own constants (``kernel_constants``) and its part of the network
+    (``stage_transfer``); the source, divider, C1, C2 and load are shared.
     """
 
     def __init__(self, dc: DCFigures, c1, c2, ce):
         inp = dc.inputs
-        self.follower = inp["topology"] == "emitter-follower"
+        self.circuit = topology_module(inp["topology"])
         self.active = dc.state == ACTIVE
         beta = inp["beta"]
         self.bp1 = beta + 1.0
@@ -68,16 +72,12 @@ class _Kernel:
         self.rpi = np.where(self.active, (beta + 1.0) * dc.re_small, 1.0)
         self.rs = inp["rs"]
         self.gb = 1.0 / inp["rbias"]
-        rl = inp["rl"]
-        self.gl = np.where(np.isfinite(rl), 1.0 / np.where(np.isfinite(rl), rl, 1.0), 0.0)
+        self.gl = load_conductance(inp["rl"])
         self.c1 = np.asarray(c1, float)
         self.c2 = np.asarray(c2, float)
         self.gre = 1.0 / inp["re"]
-        if not self.follower:
-            self.re = inp["re"]
-            self.re2 = inp["re2"]
-            self.ce = np.asarray(ce, float)
-            self.grc = 1.0 / inp["rc"]
+        for name, val in self.circuit.kernel_constants(inp, ce).items():
+            setattr(self, name, val)
 
     def subset(self, shape, take) -> "_Kernel":
         """The same kernel on the flat indices ``take`` of the broadcast ``shape`` only."""
@@ -93,14 +93,7 @@ class _Kernel:
         sc2 = s * self.c2
         y_out = sc2 * self.gl / (self.gl + sc2)  # admittance of C2 in series with the load
         div_out = sc2 / (self.gl + sc2)  # load voltage over stage-node voltage
-        if self.follower:
-            ye = self.gre + y_out
-            zb = self.rpi + self.bp1 / ye
-            to_out = self.bp1 / (ye * self.rpi + self.bp1)  # ve / vb
-        else:
-            ze = self.re + self.re2 / (1.0 + s * self.ce * self.re2)
-            zb = self.rpi + self.bp1 * ze
-            to_out = -self.beta / (zb * (self.grc + y_out))  # vc / vb
+        zb, to_out = self.circuit.stage_transfer(self, s, y_out)  # base impedance, output / vb
         zin_b = 1.0 / (self.gb + 1.0 / zb)
         h = zin_b / (self.rs + 1.0 / (s * self.c1) + zin_b) * to_out * div_out
         return np.where(self.active, h, 0j)
@@ -117,11 +110,8 @@ def _own_corners(dc: DCFigures, c1, c2, ce):
     with np.errstate(divide="ignore", invalid="ignore"):
         f_c1 = 1.0 / (_TWO_PI * c1 * (inp["rs"] + dc.rin))
         f_c2 = np.where(np.isfinite(inp["rl"]), 1.0 / (_TWO_PI * c2 * (dc.rout + inp["rl"])), 0.0)
-        if inp["topology"] == "common-emitter":
-            rs_b = parallel(inp["rs"], inp["rbias"])
-            r_seen = parallel(inp["re2"], inp["re"] + dc.re_small + rs_b / (inp["beta"] + 1.0))
-            f_ce = np.where((ce > 0) & (inp["re2"] > 0), 1.0 / (_TWO_PI * ce * r_seen), 0.0)
-        else:
+        f_ce = topology_module(inp["topology"]).bypass_corner(inp, dc, ce)
+        if f_ce is None:
             f_ce = np.zeros(np.broadcast_shapes(np.shape(c1), dc.shape))
     shape = np.broadcast_shapes(np.shape(c1), np.shape(c2), np.shape(ce), dc.shape)
     return (np.broadcast_to(f_c1, shape), np.broadcast_to(f_c2, shape),
@@ -131,10 +121,11 @@ def _own_corners(dc: DCFigures, c1, c2, ce):
 class _Magnitude:
     """|H(f)|² of the stage as a ratio of real polynomials in x = ω², factored, per candidate.
 
-    From the same circuit as ``_Kernel``, multiplied through by the capacitor admittances:
+    From the same circuit as ``_Kernel``, multiplied through by the capacitor admittances; the
+    circuit's module gives its factors (``magnitude_constants``, ``magnitude``), e.g.
 
-    follower:        H = (β+1)·C1·C2·s² / (q0 + q1·s + q2·s²)
-    common emitter:  H = −β·C1·C2·s²·(1 + s·CE·RE2) / ((p0 + p1·s + p2·s²)·(o0 + o1·s))
+    output at the emitter:    H = (β+1)·C1·C2·s² / (q0 + q1·s + q2·s²)
+    output at the collector:  H = −β·C1·C2·s²·(1 + s·CE·RE2) / ((p0 + p1·s + p2·s²)·(o0 + o1·s))
 
     so |H|² = N(x)/D(x) with N, D products of small real factors (no complex arithmetic, and
     no expanded polynomial whose terms could cancel).  Used by the corner search, which
@@ -143,7 +134,7 @@ class _Magnitude:
 
     def __init__(self, dc: DCFigures, c1, c2, ce, take=None, shape=None):
         inp = dc.inputs
-        self.follower = inp["topology"] == "emitter-follower"
+        self.circuit = topology_module(inp["topology"])
 
         def arr(x):
             x = np.asarray(x, float)
@@ -155,35 +146,15 @@ class _Magnitude:
         c1, c2 = arr(c1), arr(c2)
         rpi = (beta + 1.0) * arr(dc.re_small)
         gb = 1.0 / rbias
-        gl = np.where(np.isfinite(rl), 1.0 / np.where(np.isfinite(rl), rl, 1.0), 0.0)
-        if self.follower:
-            gre = 1.0 / re
-            a0, a1 = gre * gl, c2 * (gre + gl)  # (emitter admittance)·(gl + s·C2)
-            d0, d1 = rpi * a0 + (beta + 1.0) * gl, rpi * a1 + (beta + 1.0) * c2
-            e0, e1 = gb * d0 + a0, gb * d1 + a1
-            self.q0 = e0
-            self.q1 = c1 * d0 + e1 + c1 * rs * e0
-            self.q2 = c1 * d1 + c1 * rs * e1
-            self.k = ((beta + 1.0) * c1 * c2) ** 2
-        else:
-            re2, grc, ce = arr(inp["re2"]), 1.0 / arr(inp["rc"]), arr(ce)
-            tau = ce * re2  # CE·RE2 (0 without bypass)
-            b0 = rpi + (beta + 1.0) * (re + re2)
-            b1 = tau * (rpi + (beta + 1.0) * re)
-            u0, u1 = gb * b0 + 1.0, gb * b1 + tau
-            self.q0 = u0
-            self.q1 = c1 * b0 + u1 + c1 * rs * u0
-            self.q2 = c1 * b1 + c1 * rs * u1
-            self.o0, self.o1 = grc * gl, c2 * (grc + gl)
-            self.tau2 = tau**2
-            self.k = (beta * c1 * c2) ** 2
+        gl = load_conductance(rl)
+        shared = dict(beta=beta, rs=rs, re=re, c1=c1, c2=c2, rpi=rpi, gb=gb, gl=gl)
+        for name, val in self.circuit.magnitude_constants(shared, arr, inp, ce).items():
+            setattr(self, name, val)
 
     def __call__(self, x):
         """|H|² at x = ω² (rad²/s²)."""
         den = (self.q0 - self.q2 * x) ** 2 + self.q1**2 * x
-        if self.follower:
-            return self.k * x * x / den
-        return self.k * x * x * (1.0 + self.tau2 * x) / (den * (self.o0**2 + self.o1**2 * x))
+        return self.circuit.magnitude(self, x, den)
 
 
 def low_corner(dc: DCFigures, *, c1, c2, ce=0.0, rtol: float = 1e-7) -> Corners:

@@ -263,7 +263,7 @@ def design_tree(result, stock_file: str | None = None) -> dict:
            "source_resistance": V(problem.source_resistance, "ohm")}
     if problem.load is not None:
         doc["load"] = V(problem.load, "ohm")
-    if problem.topology == "common-emitter":
+    if problem.circuit.HAS_BYPASS:
         doc["bypass"] = problem.bypass
     if spec is not None and spec.mains:
         doc["mains"] = True

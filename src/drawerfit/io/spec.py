@@ -15,7 +15,7 @@ from typing import Any, Mapping
 
 from ..constants import TOL_CERAMIC, TOL_ELECTROLYTIC, TOL_RESISTOR
 from ..parts import SpecError
-from ..stages.topologies import TOPOLOGY_ROLES
+from ..stages.topologies import CIRCUITS, TOPOLOGY_ROLES, topology_module
 from ..values import ValueParseError, parse_tolerance, parse_value, parse_value_and_tolerance
 
 __all__ = ["Spec", "load_spec", "parse_spec", "POLARIZED_FROM"]
@@ -213,8 +213,9 @@ def parse_spec(data: Mapping[str, Any], path: str = "<spec>", stock=None, *, lab
     bypass = data.get("bypass", False)
     if not isinstance(bypass, bool):
         raise r.fail("bypass", bypass, "expected true or false")
-    if bypass and topology != "common-emitter":
-        raise r.fail("bypass", bypass, "only the common-emitter stage has a bypassed RE2")
+    if bypass and not topology_module(topology).HAS_BYPASS:
+        with_bypass = " and the ".join(m.TITLE for m in CIRCUITS if m.HAS_BYPASS)
+        raise r.fail("bypass", bypass, f"only the {with_bypass} has a bypassed RE2")
     title = data.get("title", "")
     if not isinstance(title, str):
         raise r.fail("title", title, "expected text")

@@ -15,10 +15,10 @@ from typing import Callable
 from ..progress import NO_PROGRESS
 from ..values import format_si
 from ..io.saved_design import DesignFile, load_design
+from ..stages.topologies import topology_module
 
 __all__ = ["write_report", "render_report", "inline_svg"]
 
-_STAGE_NAMES = {"emitter-follower": "emitter follower", "common-emitter": "common-emitter stage"}
 
 
 def inline_svg(svg: str, prefix: str, label: str) -> str:
@@ -106,7 +106,7 @@ def render_report(design: DesignFile, *, monte_carlo: int = 2000, seed: int = 0,
 
     checks = [c for c in figs.checks if c.kind != "advice" and not c.instruction]
     failed = [c for c in checks if c.ok is False]
-    name = _STAGE_NAMES.get(stage.topology, stage.topology)
+    name = topology_module(stage.topology).TITLE
     title = f"{stage.polarity.upper()} {name}, {format_si(stage.supply, 'V', 3)} supply"
     if getattr(design.spec, "title", ""):
         title = f"{design.spec.title}: {title}"

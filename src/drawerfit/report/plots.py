@@ -123,27 +123,11 @@ def load_line_data(design, nominal) -> dict:
 
     For a PNP stage VCE and IC are magnitudes (VEC, and current out of the collector).
     """
+    from ..stages import topology_module
+
     stage = design.stage
-    beta = stage.transistor.hfe
-    alpha = beta / (beta + 1.0)
     vcc = stage.supply
-    re, re2 = stage.value("RE"), stage.value("RE2")
-    rl = math.inf if stage.load is None else stage.load
-
-    def par(a, b):
-        return a if math.isinf(b) else b if math.isinf(a) else a * b / (a + b)
-
-    if stage.topology == "emitter-follower":
-        r_dc = re / alpha
-        r_ac = par(re, rl) / alpha
-        out_per_vce = 1.0  # the emitter moves as much as VCE does
-    else:
-        rc = stage.value("RC")
-        re_ac = re if stage.bypassed else re + re2
-        r_dc = rc + (re + re2) / alpha
-        rload = par(rc, rl)
-        r_ac = rload + re_ac / alpha
-        out_per_vce = rload / r_ac
+    r_dc, r_ac, out_per_vce = topology_module(stage.topology).load_line(stage)
     vce_q, ic_q = float(nominal.vce), float(nominal.ic)
     vce_sat = stage.transistor.vce_sat
     swing_vce = float(nominal.swing_peak) / out_per_vce

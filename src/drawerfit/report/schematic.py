@@ -11,6 +11,7 @@ import re
 from typing import Mapping, Sequence
 
 from ..parts import pin_order_text
+from ..stages.topologies import topology_module
 from ..values import format_code, format_si
 
 __all__ = ["schematic_svg", "value_label"]
@@ -87,7 +88,9 @@ def schematic_svg(design, nominal, *, members: Mapping[str, Sequence] | None = N
 
     stage = design.stage
     npn = stage.polarity == "npn"
-    ce = stage.topology == "common-emitter"
+    # the output at the collector: RC above it, the emitter stack below (one circuit or the other
+    # today; a circuit with a drawing of its own would bring it in its module)
+    ce = topology_module(stage.topology).OUTPUT_NODE == "c"
     parts = stage.parts
     members = {r: list(m) for r, m in (members or {}).items() if len(m) > 1 and r in parts}
     length = {r: _footprint(members.get(r, ()))[0] for r in parts}

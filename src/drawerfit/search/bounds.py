@@ -137,7 +137,8 @@ class EmitterBounds:
         p, tr = ctx.problem, ctx.tr
         t = p.targets
         rl = p.rl
-        follower = p.topology == "emitter-follower"
+        # the output at the emitter: the load is in parallel with RE (swing and base impedance)
+        follower = p.circuit.OUTPUT_NODE == "e"
         self.follower = follower
         self.rl = rl
         self.re_lo_min, self.re_hi_max = 0.0, np.inf

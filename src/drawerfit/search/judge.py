@@ -16,7 +16,7 @@ from typing import Mapping
 import numpy as np
 
 from ..analysis import core
-from ..constants import NOMINAL_TEMP_C, thermal_voltage
+from ..constants import NOMINAL_TEMP_C
 from ..stages import TransistorModel
 from .problem import DesignProblem
 
@@ -82,7 +82,7 @@ class SearchContext:
         p, tr = self.problem, self.tr
         kw = dict(topology=p.topology, polarity=p.polarity, supply=p.supply,
                   rs=p.source_resistance, rl=p.rl, vce_sat=tr.vce_sat, vbe=tr.vbe,
-                  vbe_tempco=tr.vbe_tempco, bypassed=p.bypass and p.topology == "common-emitter")
+                  vbe_tempco=tr.vbe_tempco, bypassed=p.bypass and p.circuit.HAS_BYPASS)
         for role in self.res_roles:
             kw[role.lower()] = values[role]
         return kw
@@ -302,18 +302,7 @@ def nominal_figures(ctx: SearchContext, v: Mapping[str, np.ndarray]) -> dict[str
     ret = np.asarray(v["RE"], float) + (np.asarray(v["RE2"], float) if "RE2" in v else 0.0)
     ie = np.maximum(vth - vbe, 0.0) / (ret + rth / (beta + 1.0))
     out = {"ie": ie}
-    if p.topology == "common-emitter":
-        re_ac = np.asarray(v["RE"], float) + (0.0 if p.bypass or "RE2" not in v else np.asarray(v["RE2"], float))
-        with np.errstate(divide="ignore", invalid="ignore"):
-            re_s = np.where(ie > 0, thermal_voltage(t) / np.where(ie > 0, ie, 1.0), np.inf)
-            zb = (beta + 1.0) * (re_s + re_ac)
-            rin = rth * zb / (rth + zb)
-            rin = np.where(np.isinf(zb), rth, rin)
-            load = np.asarray(v["RC"], float)
-            if np.isfinite(p.rl):
-                load = load * p.rl / (load + p.rl)
-            g = beta / (beta + 1.0) * load / (re_s + re_ac) * rin / (p.source_resistance + rin)
-        out["gain"] = np.where(ie > 0, g, 0.0)
+    out.update(p.circuit.nominal_extras(v, ie, rth, beta, t, p))  # e.g. the gain, where targets name one
     return out
 
 

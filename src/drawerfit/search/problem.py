@@ -14,22 +14,18 @@ from dataclasses import dataclass, field, replace
 from ..parts import SpecError
 from ..analysis.targets import Targets
 from ..stages import Conditions
+from ..stages.topologies import CIRCUITS, TOPOLOGIES, topology_module
 
 __all__ = ["DesignTargets", "ShiftedTargets", "DesignProblem", "GUARANTEES", "PREFERENCES", "roles_of", "problem_from_spec"]
 
 GUARANTEES = ("worst-case", "nominal")
 PREFERENCES = ("fewest-parts", "closest")
 
-_RESISTORS = {"emitter-follower": ("R1", "R2", "RE"), "common-emitter": ("R1", "R2", "RE", "RC")}
-_CAPACITORS = {"emitter-follower": ("C1", "C2"), "common-emitter": ("C1", "C2")}
 
 
 def roles_of(topology: str, bypass: bool) -> tuple[tuple[str, ...], tuple[str, ...]]:
-    """(resistor roles, capacitor roles) of a topology; ``bypass`` adds RE2 and CE (common emitter)."""
-    res, caps = _RESISTORS[topology], _CAPACITORS[topology]
-    if bypass and topology == "common-emitter":
-        return res + ("RE2",), caps + ("CE",)
-    return res, caps
+    """(resistor roles, capacitor roles) the search chooses; ``bypass`` adds the circuit's bypass roles."""
+    return topology_module(topology).design_roles(bypass)
 
 
 @dataclass(frozen=True)
@@ -88,8 +84,8 @@ class DesignProblem:
     prefer: str = "fewest-parts"
 
     def __post_init__(self) -> None:
-        if self.topology not in _RESISTORS:
-            raise SpecError(f"topology must be emitter-follower or common-emitter, not {self.topology!r}")
+        if self.topology not in TOPOLOGIES:
+            raise SpecError(f"topology must be {' or '.join(TOPOLOGIES)}, not {self.topology!r}")
         if self.polarity not in ("npn", "pnp"):
             raise SpecError(f"polarity must be npn or pnp, not {self.polarity!r}")
         if not (self.supply > 0 and math.isfinite(self.supply)):
@@ -105,13 +101,19 @@ class DesignProblem:
         if self.targets.f_low is None:
             raise SpecError("[targets]: f_low is needed to choose the capacitors")
         gain_given = self.targets.gain_min is not None or self.targets.gain_max is not None
-        if gain_given and self.topology == "emitter-follower":
-            raise SpecError("[targets]: gain_min/gain_max apply to the common-emitter stage")
+        if gain_given and not self.circuit.HAS_GAIN_TARGET:
+            with_gain = " or the ".join(m.TITLE for m in CIRCUITS if m.HAS_GAIN_TARGET)
+            raise SpecError(f"[targets]: gain_min/gain_max apply to the {with_gain}")
         res, caps = self.roles
         if self.pairs is not None:
             bad = sorted(set(self.pairs) - set(res) - set(caps))
             if bad:
                 raise SpecError(f"[design] pairs: this stage has no role {', '.join(bad)}")
+
+    @property
+    def circuit(self):
+        """The module of the problem's circuit (``stages.topology_module``)."""
+        return topology_module(self.topology)
 
     @property
     def roles(self) -> tuple[tuple[str, ...], tuple[str, ...]]:

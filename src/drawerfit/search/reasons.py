@@ -59,17 +59,17 @@ def hard_limits(problem, transistors) -> list[Limit]:
     out: list[Limit] = []
     t, c = problem.targets, problem.conditions
     vcc, rl = problem.supply, problem.rl
-    follower = problem.topology == "emitter-follower"
+    circuit = problem.circuit
     s = t.swing or 0.0
     sats = [transistor_model(ln).vce_sat for ln in transistors] or [0.0]
     vsat = min(sats)
     if s > 0:
-        ceiling = _swing_ceiling(follower, vcc - vsat, t.ie_max, rl)
+        ceiling = circuit.swing_ceiling(vcc - vsat, t.ie_max, rl)
         if s > ceiling * (1 + 1e-9):
             where = f" into {_fmt(rl, 'Ω')}" if math.isfinite(rl) else ""
             out.append(Limit("swing", "", f"the output can swing at most {_fmt(ceiling, 'V')} peak{where} from "
                                           f"{_fmt(vcc, 'V')} at IE up to {_fmt(t.ie_max, 'A')} "
-                                          f"({'follower' if follower else 'common emitter'}); {_fmt(s, 'V')} "
+                                          f"({circuit.SHORT_NAME}); {_fmt(s, 'V')} "
                                           "is asked", ceiling, s))
     vt = float(thermal_voltage(max(c.ambient_min, c.ambient_max)))
     for ln in transistors:
@@ -92,48 +92,13 @@ def hard_limits(problem, transistors) -> list[Limit]:
                                                    f"{_fmt(m.vce_sat + s, 'V')} it dissipates "
                                                    f"{_fmt(p, 'W')} or more", allowed, p))
         if t.rin_min is not None:
-            z = _base_ceiling(problem, m, vt)
+            z = circuit.base_ceiling(problem, m, vt)
             if z is not None and t.rin_min >= z:
                 out.append(Limit("rin_min", name, f"with {name} (hFE at least {m.hfe_min:g}) the input "
                                                   f"resistance stays below (hFE_min + 1)·(re + "
-                                                  f"{'RE‖RL' if follower else 'RE'}) <= {_fmt(z, 'Ω')}; "
+                                                  f"{circuit.BASE_LOAD_WORDS}) <= {_fmt(z, 'Ω')}; "
                                                   f"{_fmt(t.rin_min, 'Ω')} is asked", z, t.rin_min))
     return out
-
-
-def _swing_ceiling(follower: bool, room: float, ie_max: float, rl: float) -> float:
-    """The largest symmetric peak the stage can give (module docstring)."""
-    if room <= 0:
-        return 0.0
-    if not follower:
-        return min(room / 2.0, ie_max * rl)
-    if not math.isfinite(rl):
-        return room / 2.0
-    # up = room − VE falls and down = VE/(1 + VE/K) rises with VE (K = ie_max·RL): the best is where
-    # they meet, x² − (room − 2K)·x − room·K = 0
-    k = ie_max * rl
-    x = 0.5 * ((room - 2.0 * k) + math.sqrt((room - 2.0 * k) ** 2 + 4.0 * room * k))
-    return room - x
-
-
-def _base_ceiling(problem, model, vt: float) -> float | None:
-    """(hFE_min + 1)·(re_max + X_max): the most the base can show, or None when unbounded."""
-    t = problem.targets
-    rl = problem.rl
-    re_max = vt / t.ie_min
-    b1 = model.hfe_min + 1.0
-    if problem.topology == "emitter-follower":
-        if not math.isfinite(rl):
-            return None
-        x = rl
-        s = t.swing or 0.0
-        if s > 0:
-            h = rl * (problem.supply - model.vce_sat - 2.0 * s) / s
-            x = 0.0 if h <= 0 else h * rl / (h + rl)
-        return b1 * (re_max + x)
-    if t.gain_min is None or not math.isfinite(rl):
-        return None
-    return b1 * (re_max + rl / t.gain_min)
 
 
 def limits_text(limits: list[Limit], n_transistors: int) -> str | None:

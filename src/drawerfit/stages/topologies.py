@@ -1,4 +1,8 @@
-"""The topologies drawerfit models, each a module that knows its roles and circuit elements."""
+"""The registry of circuits: the only place that maps a topology's name to its module.
+
+Every other module dispatches through the module (``circuit = topology_module(stage.topology)``)
+and never compares a topology's name; ``tests/test_circuit_interface.py`` holds both to that.
+"""
 
 from __future__ import annotations
 
@@ -6,11 +10,32 @@ from types import ModuleType
 
 from . import common_emitter, follower
 
-__all__ = ["TOPOLOGIES", "TOPOLOGY_ROLES", "topology_module"]
+__all__ = ["TOPOLOGIES", "TOPOLOGY_ROLES", "INTERFACE", "CIRCUITS", "topology_module"]
 
-TOPOLOGIES = (follower.NAME, common_emitter.NAME)
-_MODULES = {follower.NAME: follower, common_emitter.NAME: common_emitter}
+CIRCUITS: tuple[ModuleType, ...] = (follower, common_emitter)
+TOPOLOGIES = tuple(m.NAME for m in CIRCUITS)
+_MODULES = {m.NAME: m for m in CIRCUITS}
 TOPOLOGY_ROLES = {name: module.ROLES for name, module in _MODULES.items()}
+
+# What every circuit module provides (DEVELOPERS.md, "Adding a circuit", says what each is for).
+INTERFACE = (
+    # names and words
+    "NAME", "TITLE", "SHORT_NAME", "OUTPUT_END", "BASE_LOAD_WORDS",
+    # roles, their kinds and the spec's rules
+    "ROLES", "REQUIRED", "OPTIONAL", "TRANSISTORS", "OUTPUT_NODE", "HAS_BYPASS", "HAS_GAIN_TARGET",
+    "validate_roles", "elements",
+    # ratings: the figure of each role
+    "POWER_FIGURE", "CAP_FIGURE",
+    # the vectorised DC and small-signal kernel
+    "dc_inputs", "small_signal", "swing", "dc_nodes",
+    # the low-frequency response
+    "kernel_constants", "stage_transfer", "bypass_corner", "magnitude_constants", "magnitude",
+    # the search
+    "DESIGN_RESISTORS", "DESIGN_CAPACITORS", "BYPASS_ROLES", "design_roles", "nominal_extras",
+    "swing_ceiling", "base_ceiling",
+    # the report
+    "load_line",
+)
 
 
 def topology_module(topology: str) -> ModuleType:

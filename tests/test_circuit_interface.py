@@ -1,0 +1,121 @@
+"""One circuit interface: only the circuit modules and their registry know a topology's name, and
+every registered circuit module provides the whole interface.
+
+Expected values: the project's own rule (DEVELOPERS.md, "Adding a circuit"): a circuit is one module
+under ``stages/``, listed in ``stages/topologies.py``, and everything else dispatches through it.
+String constants and comparisons are read from the source with Python's ``ast`` module.
+"""
+
+from __future__ import annotations
+
+import ast
+import subprocess
+import sys
+from pathlib import Path
+
+import pytest
+
+from drawerfit.analysis.dc import DCFigures
+from drawerfit.stages import topologies
+from drawerfit.stages.base import CAPACITOR_ROLES, RESISTOR_ROLES
+
+ROOT = Path(__file__).resolve().parent.parent
+PACKAGE = ROOT / "src" / "drawerfit"
+CIRCUIT_FILES = {PACKAGE / "stages" / f"{m.__name__.rsplit('.', 1)[1]}.py" for m in topologies.CIRCUITS}
+REGISTRY = PACKAGE / "stages" / "topologies.py"
+
+# The interface, written out here on its own so that a name dropped from the registry's list
+# (or from a module) fails; DEVELOPERS.md, "Adding a circuit", describes each.
+CONSTANTS = ("NAME", "TITLE", "SHORT_NAME", "OUTPUT_END", "BASE_LOAD_WORDS", "ROLES", "REQUIRED",
+             "OPTIONAL", "TRANSISTORS", "OUTPUT_NODE", "HAS_BYPASS", "HAS_GAIN_TARGET", "POWER_FIGURE",
+             "CAP_FIGURE", "DESIGN_RESISTORS", "DESIGN_CAPACITORS", "BYPASS_ROLES")
+FUNCTIONS = ("validate_roles", "elements", "dc_inputs", "small_signal", "swing", "dc_nodes",
+             "kernel_constants", "stage_transfer", "bypass_corner", "magnitude_constants", "magnitude",
+             "design_roles", "nominal_extras", "swing_ceiling", "base_ceiling", "load_line")
+
+
+def topology_name_uses(path: Path, names) -> list[str]:
+    """'file:line: what' for each string constant equal to a topology name and each comparison
+    for equality with a ``.topology`` attribute in the file."""
+    out = []
+    tree = ast.parse(path.read_text(encoding="utf-8"))
+    for node in ast.walk(tree):
+        if isinstance(node, ast.Constant) and isinstance(node.value, str) and node.value.strip() in names:
+            out.append(f"{path.name}:{node.lineno}: the string {node.value!r}")
+        elif isinstance(node, ast.Compare) and any(isinstance(op, (ast.Eq, ast.NotEq, ast.Is, ast.IsNot))
+                                                   for op in node.ops):
+            # membership in the registry (``in TOPOLOGIES``) is fine; equality picks one circuit out
+            sides = [node.left, *node.comparators]
+            if any(isinstance(x, ast.Attribute) and x.attr == "topology" for x in sides):
+                out.append(f"{path.name}:{node.lineno}: a comparison with .topology")
+    return out
+
+
+def test_no_topology_name_outside_the_circuit_modules():
+    names = set(topologies.TOPOLOGIES)
+    found = []
+    for path in sorted(PACKAGE.rglob("*.py")):
+        if path in CIRCUIT_FILES or path == REGISTRY:
+            continue
+        found += topology_name_uses(path, names)
+    assert found == []
+
+
+def test_the_walker_finds_a_planted_name(tmp_path):
+    # the check above can fail: a planted literal and a planted comparison are both found
+    name = topologies.TOPOLOGIES[0]
+    f = tmp_path / "planted.py"
+    f.write_text(f"def f(stage):\n    x = {name!r}\n    return stage.topology == x\n", encoding="utf-8")
+    assert topology_name_uses(f, {name}) == [f"planted.py:2: the string {name!r}",
+                                             "planted.py:3: a comparison with .topology"]
+
+
+def test_registry_lists_every_circuit_module_once():
+    assert len(topologies.CIRCUITS) >= 2
+    assert all(path.exists() for path in CIRCUIT_FILES)
+    assert len(set(topologies.TOPOLOGIES)) == len(topologies.CIRCUITS)
+    for m in topologies.CIRCUITS:
+        assert topologies.topology_module(m.NAME) is m
+
+
+def test_registry_interface_is_the_documented_one():
+    assert set(topologies.INTERFACE) == set(CONSTANTS) | set(FUNCTIONS)
+    developers = (ROOT / "DEVELOPERS.md").read_text(encoding="utf-8")
+    section = developers.split("## Adding a circuit", 1)[1].split("\n## ", 1)[0]
+    missing = [n for n in topologies.INTERFACE if f"`{n}`" not in section]
+    assert missing == []
+
+
+@pytest.mark.parametrize("circuit", topologies.CIRCUITS, ids=lambda m: m.NAME)
+def test_circuit_module_provides_the_interface(circuit):
+    missing = [n for n in CONSTANTS + FUNCTIONS if not hasattr(circuit, n)]
+    assert missing == []
+    assert all(callable(getattr(circuit, n)) for n in FUNCTIONS)
+    # roles: every required and optional role is listed once, each of a kind the stage knows
+    assert set(circuit.REQUIRED) | set(circuit.OPTIONAL) == set(circuit.ROLES)
+    assert len(set(circuit.ROLES)) == len(circuit.ROLES)
+    assert set(circuit.ROLES) <= set(RESISTOR_ROLES) | set(CAPACITOR_ROLES)
+    # ratings: a figure for every resistor and capacitor role, each a field of the DC figures
+    assert set(circuit.POWER_FIGURE) == set(circuit.ROLES) & set(RESISTOR_ROLES)
+    assert set(circuit.CAP_FIGURE) == set(circuit.ROLES) & set(CAPACITOR_ROLES)
+    fields = set(DCFigures.__dataclass_fields__)
+    assert set(circuit.POWER_FIGURE.values()) | set(circuit.CAP_FIGURE.values()) <= fields
+    # the search's roles: required ones without a bypass, the bypass roles only where there is one
+    res, caps = circuit.design_roles(False)
+    assert set(res) | set(caps) == set(circuit.REQUIRED)
+    res_b, caps_b = circuit.design_roles(True)
+    added = (set(res_b) | set(caps_b)) - set(res) - set(caps)
+    assert added == (set(circuit.OPTIONAL) if circuit.HAS_BYPASS else set())
+    # the netlist: one element per required role and per transistor, on the output node
+    elements = circuit.elements("npn", dict.fromkeys(circuit.REQUIRED))
+    assert {e[0] for e in elements} == set(circuit.REQUIRED) | set(circuit.TRANSISTORS)
+    assert any(circuit.OUTPUT_NODE in e[1:3] and e[0] == "C2" for e in elements)
+
+
+def test_circuit_modules_import_without_numpy():
+    # `drawerfit --help` stays fast: the registry and its modules import numpy only inside kernels
+    code = ("import sys, drawerfit.stages.topologies as t; "
+            "print(sorted(m for m in ('numpy', 'scipy', 'pandas') if m in sys.modules))")
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True,
+                         env={"PYTHONPATH": str(ROOT / "src")}).stdout.strip()
+    assert out == "[]"

@@ -14,7 +14,8 @@ from .parts_list import KitLine
 __all__ = ["Candidates", "candidates_for", "label_key", "PPM", "TRIPLES_PER_LINE"]
 
 PPM = 1_000_000
-TRIPLES_PER_LINE = 200  # triples of a list line's window at most (max_parts=3); beyond, those nearest the value
+TRIPLES_PER_LINE = 200  # triples of a list line's window built first (max_parts=3): those nearest the value
+WINDOW_STEPS = 8  # bisection steps in log half-width for the window of nearest triples (to about 5 %)
 
 
 @dataclass(frozen=True)
@@ -27,10 +28,18 @@ class Candidates:
     counts: np.ndarray  # (n, 3) parts of each member
     equivalent: object  # callable i -> Equivalent (for the report)
     in_window: int  # equivalents in the window before dominance pruning
-    truncated: bool = False  # True when the window held more triples than were taken
+    # least error (ppm) of the triples in the window that were not built (beyond the nearest ones
+    # taken), or None when every one was
+    unbuilt_error: int | None = None
+    triple_limit: int = 0  # the count of nearest triples this table was built for (0: no cut)
 
     def __len__(self) -> int:
         return len(self.part_count)
+
+    @property
+    def truncated(self) -> bool:
+        """True when the window holds triples that were not built."""
+        return self.unbuilt_error is not None
 
 
 def _empty(in_window: int = 0) -> Candidates:
@@ -52,7 +61,7 @@ class _Transistor:
 
 
 def candidates_for(line: KitLine, stock: Stock, max_parts: int = 2,
-                   indexes: dict | None = None) -> Candidates:
+                   indexes: dict | None = None, triple_limit: int | None = None) -> Candidates:
     """Equivalents for one list line: inside its window and rating, minus those surely never best.
 
     An equivalent of several parts that contains a smaller equivalent in the window (a single
@@ -61,6 +70,8 @@ def candidates_for(line: KitLine, stock: Stock, max_parts: int = 2,
     the stock, so the dropped one is never in a lexicographic optimum.
 
     ``indexes`` (kind -> EquivalentIndex) lets many list lines share one set of pair tables.
+    ``triple_limit`` (default TRIPLES_PER_LINE) is how many of the nearest triples are built when
+    the window holds more.
     """
     if line.kind == "transistor":
         want = label_key(line.label)
@@ -85,11 +96,13 @@ def candidates_for(line: KitLine, stock: Stock, max_parts: int = 2,
     parts = 1 if line.single else max_parts
     table = index.window(line.lo, line.hi, max_parts=min(parts, 2), min_rating=line.min_rating)
     tables = [table]
-    truncated = False
+    unbuilt = None
+    limit = TRIPLES_PER_LINE if triple_limit is None else triple_limit
     if parts >= 3:
         # Triples are built by value window (triples.py), never all: every triple in the line's
-        # window when it holds at most TRIPLES_PER_LINE, else the window of that many around the
-        # target (then the result is marked as not proven optimal).
+        # window when it holds at most ``limit``, else the window of about that many around the
+        # target; the ones beyond are at least as far from it, which the allocation uses to show
+        # that they cannot do better (or says it has not).
         from ..triples import TripleSpace
 
         key = ("triples", line.kind)
@@ -97,9 +110,9 @@ def candidates_for(line: KitLine, stock: Stock, max_parts: int = 2,
             indexes[key] = TripleSpace(index.pool, 1, {r: index.pairs(r) for r in (False, True)})
         space = indexes[key]
         lo, hi = line.lo, line.hi
-        if space.count(lo, hi) > TRIPLES_PER_LINE:
-            lo, hi = space.around(line.value, TRIPLES_PER_LINE, lo, hi)
-            truncated = True
+        if space.count(lo, hi) > limit:
+            lo, hi = _window_around(space, line.value, limit, line.lo, line.hi)
+            unbuilt = _error_beyond(line, lo, hi)
         tables.append(_TripleTable(space, space.build(lo, hi), line.min_rating))
     sizes = [len(t) for t in tables]
     n = sum(sizes)
@@ -136,7 +149,34 @@ def candidates_for(line: KitLine, stock: Stock, max_parts: int = 2,
     keep = singles | (best_sub > err)
     idx = np.nonzero(keep)[0]
     return Candidates(pc[idx], err[idx], members[idx], counts[idx],
-                      lambda i, _idx=idx: equivalent(int(_idx[i])), n, truncated)
+                      lambda i, _idx=idx: equivalent(int(_idx[i])), n, unbuilt, limit if unbuilt is not None else 0)
+
+
+def _window_around(space, target: float, k: int, lo: float, hi: float) -> tuple[float, float]:
+    """A window [target - d, target + d] inside [lo, hi] counted to hold at least ``k`` triples, d
+    found by bisection of log d between a millionth of the widest and the widest (about how many are
+    built matters, not the exact count: those left out are described by ``unbuilt_error``)."""
+    widest = max(target - lo, hi - target)
+    a, b = np.log(widest * 1e-6), np.log(widest)  # a window of half-width exp(b) always counts >= k
+    for _ in range(WINDOW_STEPS):
+        mid = 0.5 * (a + b)
+        d = float(np.exp(mid))
+        if space.count(max(lo, target - d), min(hi, target + d)) >= k:
+            b = mid
+        else:
+            a = mid
+    d = float(np.exp(b))
+    return max(lo, target - d), min(hi, target + d)
+
+
+def _error_beyond(line: KitLine, lo: float, hi: float) -> int | None:
+    """A lower bound (ppm) on the error of any equivalent in the line's window outside [lo, hi]:
+    one ppm under the distance to the nearer cut edge (so rounding cannot overstate it)."""
+    cut = [line.value - lo] if lo > line.lo else []
+    cut += [hi - line.value] if hi < line.hi else []
+    if not cut:
+        return None
+    return max(0, int(np.floor(min(cut) / line.value * PPM)) - 1)
 
 
 class _TripleTable:

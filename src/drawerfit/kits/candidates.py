@@ -11,10 +11,12 @@ import numpy as np
 from ..parts import Stock
 from .parts_list import KitLine
 
-__all__ = ["Candidates", "candidates_for", "label_key", "PPM", "TRIPLES_PER_LINE"]
+__all__ = ["Candidates", "candidates_for", "label_key", "PPM", "TRIPLES_PER_LINE", "TRIPLES_MAX", "TRIPLES_TOTAL"]
 
 PPM = 1_000_000
 TRIPLES_PER_LINE = 200  # triples of a list line's window built first (max_parts=3): those nearest the value
+TRIPLES_MAX = 204_800  # the most counted for one line when the allocation asks for more (4x, 16x ... at a time)
+TRIPLES_TOTAL = 1_000_000  # the most counted for all lines of a list together (about 100 MB built at most)
 WINDOW_STEPS = 8  # bisection steps in log half-width for the window of nearest triples (to about 5 %)
 
 

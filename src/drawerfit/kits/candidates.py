@@ -67,9 +67,11 @@ def candidates_for(line: KitLine, stock: Stock, max_parts: int = 2,
     """Equivalents for one list line: inside its window and rating, minus those surely never best.
 
     An equivalent of several parts that contains a smaller equivalent in the window (a single
-    part of one of its lines, or for a triple a pair of its parts) with no more error is dropped:
+    part of one of its lines, or for a triple a pair of its parts) is dropped, whatever the errors:
     swapping in the smaller one keeps every designator filled with fewer parts and uses a subset of
-    the stock, so the dropped one is never in a lexicographic optimum.
+    the stock, so the dropped one is never in a lexicographic optimum (fewest parts comes before
+    least error).  Of equivalents made of the very same parts (a + (b ∥ c) and b + (a ∥ c)) only
+    the one with least error is kept.
 
     ``indexes`` (kind -> EquivalentIndex) lets many list lines share one set of pair tables.
     ``triple_limit`` (default TRIPLES_PER_LINE) is how many of the nearest triples are built when
@@ -138,17 +140,7 @@ def candidates_for(line: KitLine, stock: Stock, max_parts: int = 2,
         t = int(np.searchsorted(offsets, i, side="right")) - 1
         return tables[t].equivalent(int(i - offsets[t]))
 
-    # best single error per stock line index (inf where that line is not a single candidate)
-    top = max(len(stock.lines), int(members.max()) + 1)
-    single_err = np.full(top + 1, np.iinfo(np.int64).max, dtype=np.int64)
-    singles = pc == 1
-    np.minimum.at(single_err, members[singles, 0], err[singles])
-    safe = np.where(members >= 0, members, top)  # index 'top' holds +inf
-    best_sub = single_err[safe].min(axis=1)
-    triples = np.nonzero(pc == 3)[0]
-    if len(triples):
-        best_sub[triples] = np.minimum(best_sub[triples], _best_pair_inside(members, counts, pc, err, triples, top))
-    keep = singles | (best_sub > err)
+    keep = ~_dominated(pc, err, members, counts, max(len(stock.lines), int(members.max()) + 1))
     idx = np.nonzero(keep)[0]
     return Candidates(pc[idx], err[idx], members[idx], counts[idx],
                       lambda i, _idx=idx: equivalent(int(_idx[i])), n, unbuilt, limit if unbuilt is not None else 0)
@@ -207,40 +199,39 @@ class _TripleTable:
                       b.form[j].astype(np.int64), b.pol_series[j]).equivalent(0)
 
 
-def _pair_key(a: np.ndarray, b: np.ndarray, top: int) -> np.ndarray:
-    lo, hi = np.minimum(a, b), np.maximum(a, b)
-    return lo * (top + 1) + hi
+def _dominated(pc, err, members, counts, top: int) -> np.ndarray:
+    """Candidates of one line that another of its candidates makes needless: one whose parts are a
+    part of its own parts (fewer parts from a subset of the same stock: better whatever the error),
+    or one with the same parts and no less error (the first of equals is kept)."""
+    n = len(pc)
+    parts = np.full((n, 3), top, dtype=np.int64)  # the stock line of each part, 'top' where none
+    pos = np.zeros(n, dtype=np.int64)
+    rows = np.arange(n)
+    for j in range(3):
+        for r in range(3):
+            has = (members[:, j] >= 0) & (counts[:, j] > r)
+            parts[rows[has], pos[has]] = members[has, j]
+            pos[has] += 1
+    parts.sort(axis=1)
+    base = top + 1
 
+    def key(p):
+        return (p[:, 0] * base + p[:, 1]) * base + p[:, 2]
 
-def _best_pair_inside(members, counts, pc, err, triples, top) -> np.ndarray:
-    """For each triple, the least error of a pair in the table that uses only parts the triple uses."""
-    big = np.iinfo(np.int64).max
-    pairs = np.nonzero(pc == 2)[0]
-    if len(pairs) == 0:
-        return np.full(len(triples), big, dtype=np.int64)
-    pm = members[pairs]
-    # a pair is two distinct lines (1 + 1) or one line twice (count 2)
-    b = np.where(pm[:, 1] >= 0, pm[:, 1], pm[:, 0])
-    keys = _pair_key(pm[:, 0], b, top)
-    order = np.argsort(keys, kind="stable")
-    keys, perr = keys[order], err[pairs][order]
-    uniq, start = np.unique(keys, return_index=True)
-    best = np.minimum.reduceat(perr, start)
-    tm, tc = members[triples], counts[triples]
-    out = np.full(len(triples), big, dtype=np.int64)
-
-    def look(k, ok):
-        pos = np.clip(np.searchsorted(uniq, k), 0, len(uniq) - 1)
-        hit = ok & (uniq[pos] == k)
-        return np.where(hit, best[pos], big)
-
-    for i, j in ((0, 1), (0, 2), (1, 2)):  # two distinct lines of the triple
-        ok = (tm[:, i] >= 0) & (tm[:, j] >= 0)
-        out = np.minimum(out, look(_pair_key(tm[:, i], tm[:, j], top), ok))
-    for i in range(3):  # one line the triple uses at least twice
-        ok = (tm[:, i] >= 0) & (tc[:, i] >= 2)
-        out = np.minimum(out, look(_pair_key(tm[:, i], tm[:, i], top), ok))
-    return out
+    own = key(parts)
+    score = pc.astype(np.int64) * (int(err.max()) + 1) + err
+    order = np.lexsort((rows, score, own))  # by parts used, then (parts, error), then index
+    first = order[np.r_[True, own[order][1:] != own[order][:-1]]]
+    uniq = own[first]
+    drop = np.ones(n, dtype=bool)
+    drop[first] = False  # one of each set of parts: the best
+    for mask in ((1, 1, 0), (1, 0, 1), (0, 1, 1), (1, 0, 0), (0, 1, 0), (0, 0, 1)):
+        sub = np.where(np.array(mask, dtype=bool), parts, top)
+        sub.sort(axis=1)
+        k = key(sub)
+        at = np.clip(np.searchsorted(uniq, k), 0, len(uniq) - 1)
+        drop |= (k != own) & (uniq[at] == k)  # a proper part of its parts is a candidate too
+    return drop
 
 
 def label_key(text: str) -> str:

@@ -43,12 +43,11 @@ from typing import Callable
 
 import numpy as np
 
-__all__ = ["Allocation", "allocate", "alone_capacity", "FIRST_TAKE", "MAX_ROUNDS", "ROUND_SHARE"]
+__all__ = ["Allocation", "allocate", "alone_capacity", "FIRST_TAKE", "GROWTH", "WIDEN"]
 
 FIRST_TAKE = 16  # candidates of each line in the first model (more where its rest variable is used)
-GROWTH = 4  # a line whose rest variable is used takes 4, then 16, 64... times as many candidates
-MAX_ROUNDS = 8  # models solved before every line takes all of its candidates
-ROUND_SHARE = 0.1  # of the time limit (at least 1 s): a round not proven by then ends the growing
+GROWTH = 4  # a line whose rest variable is used takes at least this many times as many candidates
+WIDEN = 16  # and where it stands for triples never built, this many times as many are built
 
 
 @dataclass(frozen=True)
@@ -74,7 +73,6 @@ class _Line:
     take: int
     unbuilt: int | None  # least error (ppm) of the three-part candidates never built, or None
     cap: int  # slots the line may fill
-    hits: int = 0  # rounds in which its rest variable was used
 
     def rest_key(self) -> tuple[int, int] | None:
         """(parts, error) that the rest variable stands for, or None when nothing is left out."""
@@ -277,60 +275,59 @@ def _real(lines: list[_Line], sol: list[dict], rest: list[int], units: int, whol
     return out, ((slots // units if whole else slots), -parts, -err if whole else 0)
 
 
+def _enough(ln: _Line, wanted: int, qty: np.ndarray, at_least: int) -> int:
+    """How many candidates the line takes next: ``at_least``, and enough more that those added could
+    fill twice the ``wanted`` slots its rest variable took (as far as their own stock goes)."""
+    c, more = ln.cand, ln.order[ln.take:]
+    ub = np.full(len(more), ln.cap, dtype=np.int64)
+    for j in range(3):
+        mem, cnt = c.members[more, j], c.counts[more, j]
+        has = mem >= 0
+        ub[has] = np.minimum(ub[has], qty[mem[has]] // np.maximum(cnt[has], 1))
+    n = int(np.searchsorted(np.cumsum(ub), 2 * wanted)) + 1
+    return _grow_to(ln, max(ln.take + n, at_least))
+
+
 def _solve(cp_model, lines: list[_Line], needs, qty, units, *, whole: bool, method: str, deadline: float,
-           workers: int, widen: Callable | None, budget: float):
+           workers: int, widen: Callable | None):
     """Solve, taking more candidates where rest variables are used, until none is; (solution per
-    line, proven, open lines, rounds).  A round that cannot prove its optimum within ``budget``
-    seconds ends the growing: every line then takes all the candidates built, nothing more is
-    built, and the time left goes to that model.  Out of time, the answer is the best real
-    allocation seen (``_real`` of each round's solution)."""
+    line, proven, open lines, rounds).  Out of time, the answer is the best real allocation seen
+    (``_real`` of each round's solution)."""
     open_lines: set[int] = set()
     hint = None
     best = None  # (value, solution) of the best real allocation so far
     rounds = 0
-    whole_tables = False
     while True:
         rounds += 1
         mm = _build(cp_model, lines, needs, qty, units, whole)
         objectives = _objectives(cp_model, mm, lines, needs, units, method, whole)
-        until = deadline if whole_tables else min(deadline, time.monotonic() + budget)
-        proven, sol, rest = _stages(cp_model, mm, objectives, until, workers, hint)
+        proven, sol, rest = _stages(cp_model, mm, objectives, deadline, workers, hint)
         used = [li for li, n in enumerate(rest) if n > 0]
         real, value = _real(lines, sol, rest, units, whole)
         if best is None or value > best[0]:
             best = (value, real)
-        out_of_time = time.monotonic() >= deadline
-        if not proven and (whole_tables or out_of_time):
+        if not proven or (used and time.monotonic() >= deadline):
             return best[1], False, sorted(open_lines), rounds
-        hint = (sol, rest)
-        if not proven:
-            whole_tables = True  # a hard model: solve the whole one rather than prove many parts of it
-            for ln in lines:
-                ln.take = len(ln.order)
-            continue
         if not used:
             return real, not open_lines, sorted(open_lines), rounds
-        if out_of_time:
-            return best[1], False, sorted(open_lines), rounds
+        hint = (sol, rest)
         for li in used:
             ln = lines[li]
-            ln.hits += 1
-            grown = GROWTH ** ln.hits * max(ln.take, 1) if rounds < MAX_ROUNDS else len(ln.order)
             untaken = ln.take < len(ln.order)
             nxt = ((int(ln.cand.part_count[ln.order[ln.take]]), int(ln.cand.err_ppm[ln.order[ln.take]]))
                    if untaken else None)
             if ln.unbuilt is not None and (nxt is None or (3, ln.unbuilt) <= nxt):
-                # a hard model builds no more: its next round is over the candidates built
-                more = widen(li, GROWTH ** ln.hits) if widen is not None and not whole_tables else None
+                more = widen(li, WIDEN) if widen is not None else None
                 if more is not None:  # more triples built: the candidates are numbered anew
-                    lines[li] = _line(more, ln.cap, grown, getattr(more, "unbuilt_error", None))
-                    lines[li].hits = ln.hits
+                    new = _line(more, ln.cap, ln.take, getattr(more, "unbuilt_error", None))
+                    new.take = _enough(new, rest[li], qty, GROWTH * ln.take)
+                    lines[li] = new
                     sol[li] = {}
                     continue
                 ln.unbuilt = None  # nothing more can be built: the best over those built, not proven
                 open_lines.add(li)
             if untaken:
-                ln.take = _grow_to(ln, grown)
+                ln.take = _enough(ln, rest[li], qty, GROWTH * ln.take)
 
 
 def allocate(needs: list[int], cands: list, qty: np.ndarray, units: int, *,
@@ -352,9 +349,8 @@ def allocate(needs: list[int], cands: list, qty: np.ndarray, units: int, *,
     if not any(len(ln.order) or ln.unbuilt is not None for ln in lines):
         zero = [[0] * len(c) for c in cands]
         return Allocation(zero, [0] * len(cands), zero, True, (0, 0, 0), cands)
-    budget = max(1.0, ROUND_SHARE * time_limit)
     sol, proven, open_lines, rounds = _solve(cp_model, lines, needs, qty, units, whole=True, method=method,
-                                             deadline=deadline, workers=workers, widen=widen, budget=budget)
+                                             deadline=deadline, workers=workers, widen=widen)
     cands = [ln.cand for ln in lines]
     slots = [[0] * len(c) for c in cands]
     for row, s in zip(slots, sol):
@@ -382,7 +378,7 @@ def allocate(needs: list[int], cands: list, qty: np.ndarray, units: int, *,
         lines2 = [_line(c, cap, FIRST_TAKE if cap else 0, None) for c, cap in zip(cands, caps)]
         sol2, proven2, _open, r2 = _solve(cp_model, lines2, needs, left, units, whole=False, method=method,
                                           deadline=max(deadline, time.monotonic() + 1.0), workers=workers,
-                                          widen=None, budget=budget)
+                                          widen=None)
         rounds += r2
         for row, s in zip(partial, sol2):
             for k, n in s.items():

@@ -14,6 +14,7 @@ import itertools
 import json
 import tempfile
 from pathlib import Path
+from unittest.mock import patch
 
 import pytest
 from click.testing import CliRunner
@@ -171,16 +172,8 @@ def _brute_force(lines, stock, units, max_parts=2):
     return best[0]
 
 
-@settings(max_examples=120, deadline=None, suppress_health_check=[HealthCheck.filter_too_much])
-@given(stock=st.lists(st.tuples(st.sampled_from(E12_K), st.integers(0, 3)), min_size=1, max_size=4),
-       lines=st.lists(st.tuples(st.sampled_from(E12_K + [2 * v for v in E12_K] + [v / 2 for v in E12_K]),
-                                st.sampled_from([0.02, 0.05, 0.1, 0.2]), st.integers(1, 2)),
-                      min_size=1, max_size=3),
-       units=st.integers(1, 3), method=st.sampled_from(["auto", "stages"]), max_parts=st.sampled_from([2, 2, 3]))
-def test_allocation_matches_brute_force(stock, lines, units, method, max_parts):
-    # both ways of solving the lexicographic objective: one weighted objective, and three stages;
-    # with triples, small drawers hold fewer equivalents than the per-line limit, so all are seen
-    assume(not any(_oracle_candidates(t, tol, stock, max_parts)[1] for t, tol, _n in lines))
+def _kit_on(stock, lines, units, max_parts, method):
+    """run_kit on a drawer of (value, qty) and a list of (target, window, designators), as files."""
     with tempfile.TemporaryDirectory() as d:
         folder = Path(d)
         sp = _stock(folder / "drawer.csv", [(str(v), q, f"B{i}") for i, (v, q) in enumerate(stock)])
@@ -190,12 +183,33 @@ def test_allocation_matches_brute_force(stock, lines, units, method, max_parts):
             rows.append([", ".join(f"R{k + j}" for j in range(n)), f"{t:g}", f"{tol * 100:g}%"])
             k += n
         lp = _write(folder / "list.csv", rows)
-        r = run_kit(str(lp), str(sp), units=units, max_parts=max_parts, method=method)
+        return run_kit(str(lp), str(sp), units=units, max_parts=max_parts, method=method)
+
+
+def _parts_and_error(r):
+    parts = sum(b.units * b.equivalent.part_count for f in r.filled for b in f.builds)
+    err = sum(b.units * abs(b.equivalent.value - f.line.value) / f.line.value for f in r.filled for b in f.builds)
+    return parts, err
+
+
+SMALL_STOCK = st.lists(st.tuples(st.sampled_from(E12_K), st.integers(0, 3)), min_size=1, max_size=4)
+SMALL_LISTS = st.lists(st.tuples(st.sampled_from(E12_K + [2 * v for v in E12_K] + [v / 2 for v in E12_K]),
+                                 st.sampled_from([0.02, 0.05, 0.1, 0.2]), st.integers(1, 2)),
+                       min_size=1, max_size=3)
+
+
+@settings(max_examples=120, deadline=None, suppress_health_check=[HealthCheck.filter_too_much])
+@given(stock=SMALL_STOCK, lines=SMALL_LISTS,
+       units=st.integers(1, 3), method=st.sampled_from(["auto", "stages"]), max_parts=st.sampled_from([2, 2, 3]))
+def test_allocation_matches_brute_force(stock, lines, units, method, max_parts):
+    # both ways of solving the lexicographic objective: one weighted objective, and three stages;
+    # with triples, small drawers hold fewer equivalents than the per-line limit, so all are seen
+    assume(not any(_oracle_candidates(t, tol, stock, max_parts)[1] for t, tol, _n in lines))
+    r = _kit_on(stock, lines, units, max_parts, method)
     filled, neg_parts, neg_err = _brute_force(lines, stock, units, max_parts)
     assert r.optimal
     assert len(r.filled) == filled
-    parts = sum(b.units * b.equivalent.part_count for f in r.filled for b in f.builds)
-    err = sum(b.units * abs(b.equivalent.value - f.line.value) / f.line.value for f in r.filled for b in f.builds)
+    parts, err = _parts_and_error(r)
     assert parts == -neg_parts
     slots = sum(n for _t, _tol, n in lines) * units
     assert err == pytest.approx(-neg_err, abs=slots * 1e-6)  # errors are compared in whole ppm
@@ -211,6 +225,34 @@ def test_allocation_matches_brute_force(stock, lines, units, method, max_parts):
     assert shown == {p["source"]["row"]: p["count"] for p in r.pick}
     # every designator is either filled or listed unfilled, once
     assert len(r.filled) + len(r.unfilled) == slots // units
+
+
+@settings(max_examples=120, deadline=None, suppress_health_check=[HealthCheck.filter_too_much])
+@given(stock=SMALL_STOCK, lines=SMALL_LISTS, units=st.integers(1, 3), method=st.sampled_from(["auto", "stages"]))
+def test_allocation_from_a_few_candidates_at_a_time_matches_brute_force(stock, lines, units, method):
+    # The allocation solves a model with each line's best few candidates and one rest variable for
+    # all the others (and for the triples never built), and takes more where that variable is used.
+    # Here it starts from one candidate per line, builds about 3 triples per window (counted) and at
+    # most 12, so every step of that is taken on small drawers: whatever it calls proven optimal
+    # must be the brute-force optimum over every triple, and otherwise it says why and its answer
+    # is a real allocation no better than that optimum.
+    assume(not any(_oracle_candidates(t, tol, stock, 3)[1] for t, tol, _n in lines))
+    with patch.multiple("drawerfit.allocation.parts_lists", FIRST_TAKE=1, GROWTH=2), \
+            patch("drawerfit.kits.candidates.TRIPLES_PER_LINE", 3), patch("drawerfit.kits.fill.TRIPLES_MAX", 12):
+        r = _kit_on(stock, lines, units, 3, method)
+    filled, neg_parts, neg_err = _brute_force(lines, stock, units, 3)
+    parts, err = _parts_and_error(r)
+    slots = sum(n for _t, _tol, n in lines) * units
+    for p in r.pick:
+        assert p["count"] <= stock[p["source"]["row"] - 2][1]
+    if r.optimal:
+        assert (len(r.filled), parts) == (filled, -neg_parts)
+        assert err == pytest.approx(-neg_err, abs=slots * 1e-6)
+    else:
+        assert any("triples" in n for n in r.notes)
+        assert (len(r.filled), -parts) <= (filled, neg_parts)
+        if (len(r.filled), parts) == (filled, -neg_parts):
+            assert err >= -neg_err - slots * 1e-6
 
 
 # --- shopping list -----------------------------------------------------------------------------------
@@ -382,9 +424,11 @@ def test_kind_from_how_the_value_is_written(tmp_path):
     assert (p.row, p.column) == (5, "value") and "kind" in p.message
 
 
-def test_triples_limited_per_line_are_reported_as_not_proven(tmp_path):
+def test_triples_beyond_the_window_ruled_out_by_a_nearer_build(tmp_path):
     # 24 E24 values (IEC 60063, eseries package) from 1k to 9k1: a ±20 % window around 3k3 holds far
-    # more than the TRIPLES_PER_LINE closest equivalents, so the answer cannot claim a proof
+    # more than the TRIPLES_PER_LINE nearest triples, so not all are built; but the drawer's own 3k3
+    # (one part, no error: nothing can do better) fills R1 and leaves its stock to no one else, so
+    # the triples never built cannot matter and the answer is proven
     import eseries
 
     from drawerfit.kits.candidates import TRIPLES_PER_LINE, candidates_for
@@ -393,12 +437,28 @@ def test_triples_limited_per_line_are_reported_as_not_proven(tmp_path):
     values = [v for v in eseries.erange(eseries.E24, 1000, 9999)]
     stock = _stock(tmp_path / "drawer.csv", [(f"{v:g}", 5, f"B{i}") for i, v in enumerate(values)])
     lst = _write(tmp_path / "list.csv", [["designators", "value", "tolerance"], ["R1", "3k3", "20%"]])
-    r = run_kit(str(lst), str(stock), units=1, max_parts=3)
-    assert not r.optimal and any("triples" in n for n in r.notes)
-    assert len(r.filled) == 1  # the single 3k3 still fills it
     (line,) = read_kit_list(str(lst)).lines
     c = candidates_for(line, load_stock(str(stock)), 3)
     assert c.truncated and int((c.part_count == 3).sum()) <= TRIPLES_PER_LINE
+    r = run_kit(str(lst), str(stock), units=1, max_parts=3)
+    assert r.optimal and not any("triples" in n for n in r.notes)
+    (f,) = r.filled
+    assert f.builds[0].equivalent.part_count == 1 and f.builds[0].equivalent.value == pytest.approx(3300)
+
+
+def test_triples_limited_per_line_are_reported_as_not_proven(tmp_path, monkeypatch):
+    # The same window, one part of each value and 20 designators: the drawer cannot fill them all,
+    # and triples beyond those built might fill one more; with no more triples allowed to be built
+    # than at first, the answer cannot claim a proof and says why
+    import eseries
+
+    monkeypatch.setattr("drawerfit.kits.fill.TRIPLES_MAX", 200)
+    values = [v for v in eseries.erange(eseries.E24, 1000, 9999)]
+    stock = _stock(tmp_path / "drawer.csv", [(f"{v:g}", 1, f"B{i}") for i, v in enumerate(values)])
+    lst = _write(tmp_path / "list.csv", [["designators", "value", "tolerance"], ["R1-R20", "3k3", "20%"]])
+    r = run_kit(str(lst), str(stock), units=1, max_parts=3)
+    assert not r.optimal and any("triples" in n and "R1" in n for n in r.notes)
+    assert 5 <= len(r.filled) < 20  # at least the five singles in the window (2k7 3k 3k3 3k6 3k9, E24)
     # with pairs only the same list is proven optimal
     assert run_kit(str(lst), str(stock), units=1, max_parts=2).optimal
 

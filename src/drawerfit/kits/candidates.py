@@ -11,10 +11,13 @@ import numpy as np
 from ..parts import Stock
 from .parts_list import KitLine
 
-__all__ = ["Candidates", "candidates_for", "label_key", "PPM", "TRIPLES_PER_LINE"]
+__all__ = ["Candidates", "candidates_for", "label_key", "PPM", "TRIPLES_PER_LINE", "TRIPLES_MAX", "TRIPLES_TOTAL"]
 
 PPM = 1_000_000
-TRIPLES_PER_LINE = 200  # triples of a list line's window at most (max_parts=3); beyond, those nearest the value
+TRIPLES_PER_LINE = 200  # triples of a list line's window built first (max_parts=3): those nearest the value
+TRIPLES_MAX = 204_800  # the most counted for one line when the allocation asks for more (4x, 16x ... at a time)
+TRIPLES_TOTAL = 1_000_000  # the most counted for all lines of a list together (about 100 MB built at most)
+WINDOW_STEPS = 8  # bisection steps in log half-width for the window of nearest triples (to about 5 %)
 
 
 @dataclass(frozen=True)
@@ -27,10 +30,18 @@ class Candidates:
     counts: np.ndarray  # (n, 3) parts of each member
     equivalent: object  # callable i -> Equivalent (for the report)
     in_window: int  # equivalents in the window before dominance pruning
-    truncated: bool = False  # True when the window held more triples than were taken
+    # least error (ppm) of the triples in the window that were not built (beyond the nearest ones
+    # taken), or None when every one was
+    unbuilt_error: int | None = None
+    triple_limit: int = 0  # the count of nearest triples this table was built for (0: no cut)
 
     def __len__(self) -> int:
         return len(self.part_count)
+
+    @property
+    def truncated(self) -> bool:
+        """True when the window holds triples that were not built."""
+        return self.unbuilt_error is not None
 
 
 def _empty(in_window: int = 0) -> Candidates:
@@ -52,15 +63,19 @@ class _Transistor:
 
 
 def candidates_for(line: KitLine, stock: Stock, max_parts: int = 2,
-                   indexes: dict | None = None) -> Candidates:
+                   indexes: dict | None = None, triple_limit: int | None = None) -> Candidates:
     """Equivalents for one list line: inside its window and rating, minus those surely never best.
 
     An equivalent of several parts that contains a smaller equivalent in the window (a single
-    part of one of its lines, or for a triple a pair of its parts) with no more error is dropped:
+    part of one of its lines, or for a triple a pair of its parts) is dropped, whatever the errors:
     swapping in the smaller one keeps every designator filled with fewer parts and uses a subset of
-    the stock, so the dropped one is never in a lexicographic optimum.
+    the stock, so the dropped one is never in a lexicographic optimum (fewest parts comes before
+    least error).  Of equivalents made of the very same parts (a + (b ∥ c) and b + (a ∥ c)) only
+    the one with least error is kept.
 
     ``indexes`` (kind -> EquivalentIndex) lets many list lines share one set of pair tables.
+    ``triple_limit`` (default TRIPLES_PER_LINE) is how many of the nearest triples are built when
+    the window holds more.
     """
     if line.kind == "transistor":
         want = label_key(line.label)
@@ -85,11 +100,13 @@ def candidates_for(line: KitLine, stock: Stock, max_parts: int = 2,
     parts = 1 if line.single else max_parts
     table = index.window(line.lo, line.hi, max_parts=min(parts, 2), min_rating=line.min_rating)
     tables = [table]
-    truncated = False
+    unbuilt = None
+    limit = TRIPLES_PER_LINE if triple_limit is None else triple_limit
     if parts >= 3:
         # Triples are built by value window (triples.py), never all: every triple in the line's
-        # window when it holds at most TRIPLES_PER_LINE, else the window of that many around the
-        # target (then the result is marked as not proven optimal).
+        # window when it holds at most ``limit``, else the window of about that many around the
+        # target; the ones beyond are at least as far from it, which the allocation uses to show
+        # that they cannot do better (or says it has not).
         from ..triples import TripleSpace
 
         key = ("triples", line.kind)
@@ -97,9 +114,9 @@ def candidates_for(line: KitLine, stock: Stock, max_parts: int = 2,
             indexes[key] = TripleSpace(index.pool, 1, {r: index.pairs(r) for r in (False, True)})
         space = indexes[key]
         lo, hi = line.lo, line.hi
-        if space.count(lo, hi) > TRIPLES_PER_LINE:
-            lo, hi = space.around(line.value, TRIPLES_PER_LINE, lo, hi)
-            truncated = True
+        if space.count(lo, hi) > limit:
+            lo, hi = _window_around(space, line.value, limit, line.lo, line.hi)
+            unbuilt = _error_beyond(line, lo, hi)
         tables.append(_TripleTable(space, space.build(lo, hi), line.min_rating))
     sizes = [len(t) for t in tables]
     n = sum(sizes)
@@ -123,20 +140,37 @@ def candidates_for(line: KitLine, stock: Stock, max_parts: int = 2,
         t = int(np.searchsorted(offsets, i, side="right")) - 1
         return tables[t].equivalent(int(i - offsets[t]))
 
-    # best single error per stock line index (inf where that line is not a single candidate)
-    top = max(len(stock.lines), int(members.max()) + 1)
-    single_err = np.full(top + 1, np.iinfo(np.int64).max, dtype=np.int64)
-    singles = pc == 1
-    np.minimum.at(single_err, members[singles, 0], err[singles])
-    safe = np.where(members >= 0, members, top)  # index 'top' holds +inf
-    best_sub = single_err[safe].min(axis=1)
-    triples = np.nonzero(pc == 3)[0]
-    if len(triples):
-        best_sub[triples] = np.minimum(best_sub[triples], _best_pair_inside(members, counts, pc, err, triples, top))
-    keep = singles | (best_sub > err)
+    keep = ~_dominated(pc, err, members, counts, max(len(stock.lines), int(members.max()) + 1))
     idx = np.nonzero(keep)[0]
     return Candidates(pc[idx], err[idx], members[idx], counts[idx],
-                      lambda i, _idx=idx: equivalent(int(_idx[i])), n, truncated)
+                      lambda i, _idx=idx: equivalent(int(_idx[i])), n, unbuilt, limit if unbuilt is not None else 0)
+
+
+def _window_around(space, target: float, k: int, lo: float, hi: float) -> tuple[float, float]:
+    """A window [target - d, target + d] inside [lo, hi] counted to hold at least ``k`` triples, d
+    found by bisection of log d between a millionth of the widest and the widest (about how many are
+    built matters, not the exact count: those left out are described by ``unbuilt_error``)."""
+    widest = max(target - lo, hi - target)
+    a, b = np.log(widest * 1e-6), np.log(widest)  # a window of half-width exp(b) always counts >= k
+    for _ in range(WINDOW_STEPS):
+        mid = 0.5 * (a + b)
+        d = float(np.exp(mid))
+        if space.count(max(lo, target - d), min(hi, target + d)) >= k:
+            b = mid
+        else:
+            a = mid
+    d = float(np.exp(b))
+    return max(lo, target - d), min(hi, target + d)
+
+
+def _error_beyond(line: KitLine, lo: float, hi: float) -> int | None:
+    """A lower bound (ppm) on the error of any equivalent in the line's window outside [lo, hi]:
+    one ppm under the distance to the nearer cut edge (so rounding cannot overstate it)."""
+    cut = [line.value - lo] if lo > line.lo else []
+    cut += [hi - line.value] if hi < line.hi else []
+    if not cut:
+        return None
+    return max(0, int(np.floor(min(cut) / line.value * PPM)) - 1)
 
 
 class _TripleTable:
@@ -165,40 +199,39 @@ class _TripleTable:
                       b.form[j].astype(np.int64), b.pol_series[j]).equivalent(0)
 
 
-def _pair_key(a: np.ndarray, b: np.ndarray, top: int) -> np.ndarray:
-    lo, hi = np.minimum(a, b), np.maximum(a, b)
-    return lo * (top + 1) + hi
+def _dominated(pc, err, members, counts, top: int) -> np.ndarray:
+    """Candidates of one line that another of its candidates makes needless: one whose parts are a
+    part of its own parts (fewer parts from a subset of the same stock: better whatever the error),
+    or one with the same parts and no less error (the first of equals is kept)."""
+    n = len(pc)
+    parts = np.full((n, 3), top, dtype=np.int64)  # the stock line of each part, 'top' where none
+    pos = np.zeros(n, dtype=np.int64)
+    rows = np.arange(n)
+    for j in range(3):
+        for r in range(3):
+            has = (members[:, j] >= 0) & (counts[:, j] > r)
+            parts[rows[has], pos[has]] = members[has, j]
+            pos[has] += 1
+    parts.sort(axis=1)
+    base = top + 1
 
+    def key(p):
+        return (p[:, 0] * base + p[:, 1]) * base + p[:, 2]
 
-def _best_pair_inside(members, counts, pc, err, triples, top) -> np.ndarray:
-    """For each triple, the least error of a pair in the table that uses only parts the triple uses."""
-    big = np.iinfo(np.int64).max
-    pairs = np.nonzero(pc == 2)[0]
-    if len(pairs) == 0:
-        return np.full(len(triples), big, dtype=np.int64)
-    pm = members[pairs]
-    # a pair is two distinct lines (1 + 1) or one line twice (count 2)
-    b = np.where(pm[:, 1] >= 0, pm[:, 1], pm[:, 0])
-    keys = _pair_key(pm[:, 0], b, top)
-    order = np.argsort(keys, kind="stable")
-    keys, perr = keys[order], err[pairs][order]
-    uniq, start = np.unique(keys, return_index=True)
-    best = np.minimum.reduceat(perr, start)
-    tm, tc = members[triples], counts[triples]
-    out = np.full(len(triples), big, dtype=np.int64)
-
-    def look(k, ok):
-        pos = np.clip(np.searchsorted(uniq, k), 0, len(uniq) - 1)
-        hit = ok & (uniq[pos] == k)
-        return np.where(hit, best[pos], big)
-
-    for i, j in ((0, 1), (0, 2), (1, 2)):  # two distinct lines of the triple
-        ok = (tm[:, i] >= 0) & (tm[:, j] >= 0)
-        out = np.minimum(out, look(_pair_key(tm[:, i], tm[:, j], top), ok))
-    for i in range(3):  # one line the triple uses at least twice
-        ok = (tm[:, i] >= 0) & (tc[:, i] >= 2)
-        out = np.minimum(out, look(_pair_key(tm[:, i], tm[:, i], top), ok))
-    return out
+    own = key(parts)
+    score = pc.astype(np.int64) * (int(err.max()) + 1) + err
+    order = np.lexsort((rows, score, own))  # by parts used, then (parts, error), then index
+    first = order[np.r_[True, own[order][1:] != own[order][:-1]]]
+    uniq = own[first]
+    drop = np.ones(n, dtype=bool)
+    drop[first] = False  # one of each set of parts: the best
+    for mask in ((1, 1, 0), (1, 0, 1), (0, 1, 1), (1, 0, 0), (0, 1, 0), (0, 0, 1)):
+        sub = np.where(np.array(mask, dtype=bool), parts, top)
+        sub.sort(axis=1)
+        k = key(sub)
+        at = np.clip(np.searchsorted(uniq, k), 0, len(uniq) - 1)
+        drop |= (k != own) & (uniq[at] == k)  # a proper part of its parts is a candidate too
+    return drop
 
 
 def label_key(text: str) -> str:

@@ -16,7 +16,7 @@ import numpy as np
 from ..allocation.parts_lists import allocate, alone_capacity
 from ..parts import SpecError, Stock, UNIT_OF_KIND
 from ..values import format_si
-from .candidates import TRIPLES_PER_LINE, Candidates, candidates_for, label_key
+from .candidates import TRIPLES_MAX, TRIPLES_TOTAL, Candidates, candidates_for, label_key
 from .parts_list import KitLine, KitList, read_kit_list
 from .result import RATING_UNIT, Build, Buy, Filled, KitResult, Unfilled, kit_cautions, pick_list
 
@@ -69,15 +69,33 @@ def run_kit(list_file: str, stock_file: str, *, units: int = 1, max_parts: int =
         qty[s.index] = max(0, s.qty)
     cache: dict[tuple, Candidates] = {}
     indexes: dict = {}
-    cands = []
+
+    def key_of(ln: KitLine) -> tuple:
+        return (ln.kind, ln.value, ln.lo, ln.hi, ln.min_rating, ln.single, label_key(ln.label))
+
+    def widen(i: int, factor: int) -> Candidates | None:
+        """More of line i's nearest triples (``factor`` times as many), within TRIPLES_MAX for the
+        line and TRIPLES_TOTAL for the list (both as TripleSpace counts them: at least what is built)."""
+        c, key = cands[i], key_of(lines[i])
+        widest = cache[key]  # lines with the same window and rating share one table
+        if widest is not c and (not widest.truncated or widest.triple_limit > c.triple_limit):
+            cands[i] = widest
+            return widest
+        limit = min(factor * c.triple_limit, TRIPLES_MAX)
+        counted = sum(t.triple_limit for t in cache.values())
+        if not c.truncated or limit <= c.triple_limit or counted - c.triple_limit + limit > TRIPLES_TOTAL:
+            return None
+        cands[i] = cache[key] = candidates_for(lines[i], stock, max_parts, indexes, limit)
+        return cands[i]
+
     for ln in lines:
-        key = (ln.kind, ln.value, ln.lo, ln.hi, ln.min_rating, ln.single, label_key(ln.label))
-        if key not in cache:
-            cache[key] = candidates_for(ln, stock, max_parts, indexes)
-        cands.append(cache[key])
+        if key_of(ln) not in cache:
+            cache[key_of(ln)] = candidates_for(ln, stock, max_parts, indexes)
+    cands = [cache[key_of(ln)] for ln in lines]
     needs = [ln.per_unit for ln in lines]
-    sol, filled_n, partial, optimal, values = allocate(needs, cands, qty, units, time_limit=time_limit,
-                                                        method=method)
+    alloc = allocate(needs, cands, qty, units, time_limit=time_limit, method=method, widen=widen)
+    cands = alloc.cands
+    sol, filled_n, partial, optimal, values = alloc.slots, alloc.filled, alloc.partial, alloc.proven, alloc.values
 
     filled: list[Filled] = []
     unfilled: list[Unfilled] = []
@@ -107,12 +125,14 @@ def run_kit(list_file: str, stock_file: str, *, units: int = 1, max_parts: int =
                 for k, v in sorted(buys.items(), key=lambda kv: (kv[0][0], kv[0][1] or 0, kv[0][2])) if v[1] > 0)
     pick = pick_list(filled, unfilled, units)  # every entry names the designators and units it serves
     notes = []
-    cut = [ln.designators[0] for ln, c in zip(lines, cands) if c.truncated]
+    cut = [lines[i].designators[0] for i in alloc.open_lines]
     if cut:
         optimal = False
+        most = max(cands[i].triple_limit for i in alloc.open_lines)
         notes.append(f"the windows of {len(cut)} line(s) ({', '.join(cut[:4])}{' …' if len(cut) > 4 else ''}) hold"
-                     f" more than {TRIPLES_PER_LINE} triples; only the closest were considered, so the answer"
-                     " is the best among those, not proven optimal over every triple")
+                     f" more triples than were built (the {most} nearest the value), and those further away"
+                     " could not be ruled out; the answer is the best among those built, not proven optimal"
+                     " over every triple")
     if not optimal and not cut:
         notes.append(f"the solver stopped at its time limit ({time_limit:g} s): the best allocation found is"
                      " shown, not proven optimal; a longer --time-limit may do better")

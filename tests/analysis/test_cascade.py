@@ -11,7 +11,7 @@ import math
 import numpy as np
 import pytest
 from hypothesis import given, settings, strategies as st
-from scipy import signal
+from scipy import optimize, signal
 
 from drawerfit.analysis import core
 from drawerfit.analysis.cascade import (
@@ -353,18 +353,28 @@ def test_capacitor_voltages_follow_the_nodes():
        rl=st.floats(8, 1e4))
 def test_swing_is_the_nearest_of_the_four_limits(coupling, rc, re3, rl):
     """Property of the model (docs/method.md): the symmetric peak is the smallest of stage 1's
-    saturation and cut-off and stage 2's cut-off and saturation limits, each reflected to the
-    load; stage 2's cut-off is IE2·(RE3∥RL) (common practice, design notes); the binding stage and
-    limit are named."""
+    saturation and cut-off and stage 2's cut-off and saturation limits, stage 1's passed to the
+    load one to one by the follower (VBE fixed, less its rise at a cut-off peak); stage 2's cut-off is IE2·(RE3∥RL) (common
+    practice, design notes); the binding stage and limit are named."""
     fig = evaluate_cascade_dc(**_dc(_base(coupling, rc=rc, re3=re3, rl=rl)), bypassed=True)
     if not bool(fig.active):
         assert float(fig.swing_peak) == 0 and int(fig.swing_stage) == 0
         return
-    a2 = float(fig.gain2)
-    zl1 = 1 / (1 / rc + 1 / float(fig.rin2))
+    # large signal, VBE fixed: the follower passes collector 1's excursion one to one
+    rin2 = 101 * (1 / (1 / re3 + 1 / rl))
+    if coupling == "capacitor":
+        rin2 = 1 / (1 / rin2 + 1 / 22e3 + 1 / 33e3)
+    zl1 = 1 / (1 / rc + 1 / rin2)
+    rsrc = rc if coupling == "direct" else 1 / (1 / rc + 1 / 22e3 + 1 / 33e3)
+    # stage 1's cut-off: Q2's VBE rises by VT·ln(i/IE2) at the peak (diode law), a share
+    # zl1/rsrc of it off the output; the root found by scipy.optimize.brentq
+    d2 = float(fig.ie2) / (1 / re3 + 1 / rl)
+    rise = float(fig.ic1) * zl1
+    vt = thermal_voltage(25.0)
+    cut1 = optimize.brentq(lambda x: x - rise + zl1 / rsrc * vt * math.log1p(x / d2), 0.0, rise, xtol=1e-15)
     limits = {
-        (1, LIMIT_CUTOFF): float(fig.ic1) * zl1 * a2,
-        (1, LIMIT_SATURATION): (float(fig.vce1) - 0.2) * zl1 / (zl1 + 220 * 151 / 150) * a2,
+        (1, LIMIT_CUTOFF): cut1,
+        (1, LIMIT_SATURATION): (float(fig.vce1) - 0.2) * zl1 / (zl1 + 220 * 151 / 150),
         (2, LIMIT_CUTOFF): float(fig.ie2) / (1 / re3 + 1 / rl),
         (2, LIMIT_SATURATION): float(fig.vce2) - 0.2,
     }

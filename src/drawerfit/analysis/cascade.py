@@ -208,12 +208,27 @@ def evaluate_cascade_dc(*, coupling: str, polarity: str = "npn", supply, r1, r2,
     gain = gain1 * gain2 * rin / (rs + rin)
     rout = np.where(active, parallel(re3, re2_s + parallel(rc, rbias2) / (b2 + 1.0)), re3)
 
-    # Swing into the load (mirrored: "up" away from Q2's emitter rail).  Stage 1's limits reach
-    # the load through the follower's gain; the follower is non-inverting.
+    # Swing into the load (mirrored: "up" away from Q2's emitter rail).  A clipping level is a
+    # large-signal figure: as in the single stages it takes VBE fixed, so the follower passes
+    # collector 1's excursion one to one and loads it with (β2+1)·(RE3∥RL) (∥ R3∥R4), not
+    # through re2 (which would understate the level by the follower's small-signal gain).
+    zl1_ls = parallel(rc, parallel(rbias2, (b2 + 1.0) * rload_e2))
     up2 = vce2 - vces2  # Q2's emitter rises until VCE2 = VCE(sat)
     down2 = ie2 * rload_e2  # Q2's emitter current falls to zero
-    up1 = ic1 * zl1 * gain2  # Q1's collector current falls to zero: its collector rises
-    down1 = (vce1 - vces1) * zl1 / (zl1 + re_ac * (b1 + 1.0) / b1) * gain2  # VCE1 falls to VCE(sat)
+    # Q1's collector current falls to zero: with VBE fixed the output rises by IC1·Z, Z = RC ∥
+    # R3∥R4 ∥ (β2+1)·(RE3∥RL).  At that peak Q2 carries IE2·(1 + x/down2) for an output rise x,
+    # so its VBE has risen by VT·ln of that ratio (diode law), of which the share Z/Rsrc (Rsrc =
+    # RC ∥ R3∥R4, the base's source) is taken off the output: x = IC1·Z − (Z/Rsrc)·VT·ln(1 +
+    # x/down2), tens of mV into a heavy load.  Newton on [0, IC1·Z] (residual increasing, concave).
+    rise = ic1 * zl1_ls
+    share = zl1_ls / parallel(rc, rbias2)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        d2 = np.where(down2 > 0, down2, np.inf)
+        up1 = rise.copy()
+        for _ in range(30):
+            resid = up1 - rise + share * vt * np.log1p(up1 / d2)
+            up1 = np.clip(up1 - resid / (1.0 + share * vt / (d2 + up1)), 0.0, rise)
+    down1 = (vce1 - vces1) * zl1_ls / (zl1_ls + re_ac * (b1 + 1.0) / b1)  # VCE1 falls to VCE(sat)
     limits = np.stack(np.broadcast_arrays(down1, up1, down2, up2))  # stage 1 sat, cut; stage 2 cut, sat
     which = np.argmin(limits, axis=0)
     up = np.minimum(up1, up2)

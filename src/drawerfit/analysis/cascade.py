@@ -22,6 +22,7 @@ from typing import Mapping
 import numpy as np
 
 from ..constants import NOMINAL_TEMP_C, VBE_DEFAULT, VBE_TEMPCO, VCE_SAT_DEFAULT, thermal_voltage
+from ..stages import common_emitter, follower
 from .dc import ACTIVE, CUTOFF, LIMIT_CUTOFF, LIMIT_NONE, LIMIT_SATURATION, SATURATED, evaluate_dc, parallel
 from .response import TWO_PI, _illinois
 
@@ -157,9 +158,9 @@ def evaluate_cascade_dc(*, coupling: str, polarity: str = "npn", supply, r1, r2,
     ret = re + re2
     if not direct:
         common = dict(polarity=polarity, supply=vcc, temp_c=temp, rs=rs)
-        s1 = evaluate_dc(topology="common-emitter", r1=r1, r2=r2, re=re, rc=rc, re2=re2, bypassed=byp,
+        s1 = evaluate_dc(topology=common_emitter.NAME, r1=r1, r2=r2, re=re, rc=rc, re2=re2, bypassed=byp,
                          hfe=b1, vbe=vbe1, vce_sat=vces1, vbe_tempco=tc1, **common)
-        s2 = evaluate_dc(topology="emitter-follower", r1=r3, r2=r4, re=re3, rl=rl, hfe=b2, vbe=vbe2,
+        s2 = evaluate_dc(topology=follower.NAME, r1=r3, r2=r4, re=re3, rl=rl, hfe=b2, vbe=vbe2,
                          vce_sat=vces2, vbe_tempco=tc2, **common)
         vb1, ve1, vc1, ie1, ic1, ib1, vce1, state1 = (s1.vb, s1.ve, s1.vc, s1.ie, s1.ic, s1.ib, s1.vce, s1.state)
         vb2, ve2, ie2, ic2, ib2, vce2, state2 = (s2.vb, s2.ve, s2.ie, s2.ic, s2.ib, s2.vce, s2.state)

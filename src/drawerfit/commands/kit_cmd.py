@@ -58,7 +58,7 @@ def format_kit(r) -> str:
     pick list with the designators each line is for."""
     total = len(r.filled) + len(r.unfilled)
     out = [f"{len(r.filled)} of {total} designators filled from the drawer for {r.units} unit(s)"
-           f" ({'proven optimal' if r.optimal else 'best found before the time limit, not proven optimal'})"]
+           f" ({'proven optimal' if r.optimal else 'best found, not proven optimal: see the notes for why'})"]
     if r.filled:
         out += ["", "from the drawer:"]
         rows = []

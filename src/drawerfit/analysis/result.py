@@ -8,15 +8,18 @@ from typing import Any, Mapping
 
 from .core import LIMIT_NAMES, NUMERIC_FIELDS, POWER_FIGURE, STATE_NAMES
 
-__all__ = ["Check", "Analysis"]
+__all__ = ["Check", "Analysis", "json_float"]
 
 
-def _num(x) -> float | None:
+def json_float(x) -> float | None:
     """A JSON-safe float: NaN and infinities become None."""
     if x is None:
         return None
     x = float(x)
     return x if math.isfinite(x) else None
+
+
+_num = json_float
 
 
 @dataclass(frozen=True)

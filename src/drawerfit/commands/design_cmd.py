@@ -13,7 +13,7 @@ from ..results import code as _code, pick_list, swing_headroom
 from ..values import format_percent, format_si
 from .common import emit_json, rating_text
 
-__all__ = ["run_design", "run_demo"]
+__all__ = ["run_design", "run_demo", "margin_lines"]
 
 
 # --- text for people ----------------------------------------------------------------------------
@@ -50,9 +50,8 @@ def _print_choice(result, spec, analysis, cautions, quiet: bool) -> None:
             click.echo(f"       polarized: {how}")
     click.echo("")
     click.echo("Worst-case margins (the search puts the smallest in the highest class the drawer allows: 0, 1, 2, 3, 5, 7, 10, 15, 20, 30, 50 %):")
-    for name, m in sorted(best.target_margins.items(), key=lambda kv: kv[1]):
-        if math.isfinite(m):
-            click.echo(f"  {name}: {m:+.1%}")
+    for line in margin_lines(best.target_margins):
+        click.echo(line)
     ratings = sorted((m, k) for k, m in best.rating_margins.items() if math.isfinite(m))[:2]
     if ratings:
         click.echo("  ratings, the closest: " + ", ".join(f"{k} {m:+.1%}" for m, k in ratings))
@@ -83,6 +82,11 @@ def _print_choice(result, spec, analysis, cautions, quiet: bool) -> None:
             click.echo(f"  {i}. {d.part_count} parts, D={d.distance:.4f}, {d.transistor.label}: {vals}")
     for n in result.notes:
         click.echo(f"note: {n}", err=True)
+
+
+def margin_lines(margins: dict) -> list[str]:
+    """'  ie_min: +6.1%', smallest margin first (infinite ones, targets not asked, left out)."""
+    return [f"  {name}: {m:+.1%}" for name, m in sorted(margins.items(), key=lambda kv: kv[1]) if math.isfinite(m)]
 
 
 def _print_infeasible(result) -> None:

@@ -122,9 +122,10 @@ def _print(note) -> None:
         click.echo(f"  advice after: {a}")
     click.echo("")
     click.echo("Worst-case margins after the repair:")
-    for name, m in sorted(best.target_margins.items(), key=lambda kv: kv[1]):
-        if math.isfinite(m):
-            click.echo(f"  {name}: {m:+.1%}")
+    from .design_cmd import margin_lines
+
+    for line in margin_lines(best.target_margins):
+        click.echo(line)
     if len(r.designs) > 1:
         click.echo("")
         click.echo("Other repairs:")

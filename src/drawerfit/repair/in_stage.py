@@ -12,10 +12,10 @@ reported but does not fail a candidate.
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass, field
 from typing import Any, Sequence
 
+from ..analysis.result import json_float as _num
 from ..parts import StockLine
 
 __all__ = ["Break", "StageVerdict", "verdict_of", "stage_verdicts", "Q1_RATINGS", "LOWER_BOUNDS"]
@@ -23,13 +23,6 @@ __all__ = ["Break", "StageVerdict", "verdict_of", "stage_verdicts", "Q1_RATINGS"
 Q1_RATINGS = ("Q1 power", "Q1 VCEO", "Q1 IC max")  # the checks a candidate's own ratings decide
 # targets the worst case must reach from below (the rest must stay under their limit)
 LOWER_BOUNDS = ("target ie_min", "target swing", "target rin_min", "target gain_min")
-
-
-def _num(x) -> float | None:
-    if x is None:
-        return None
-    x = float(x)
-    return x if math.isfinite(x) else None
 
 
 @dataclass(frozen=True)

@@ -194,6 +194,8 @@ def repair_dict(note) -> dict:
 
 
 def _figures_dict(analysis) -> dict:
+    from ..analysis.result import json_float as _num
+
     rows = figure_rows(analysis)
     return {"figures": {k: {"nominal": _num(a), "worst_low": _num(b), "worst_high": _num(c)}
                         for k, (a, b, c) in rows.items()},
@@ -205,7 +207,4 @@ def not_met(analysis) -> list[str]:
     """The checks a stage fails (targets, ratings, state, polarity; advice apart)."""
     return [c.name for c in analysis.checks if c.ok is False and c.kind != "advice"]
 
-
-def _num(x: float):
-    return x if math.isfinite(x) else None
 

@@ -24,6 +24,18 @@ class StageError(SpecError):
     """A stage that cannot be analysed as given (a missing or impossible part)."""
 
 
+def check_surroundings(polarity: str, supply: float, source_resistance: float, load: float | None) -> None:
+    """The polarity, supply, source and load of a circuit are possible; StageError otherwise."""
+    if polarity not in ("npn", "pnp"):
+        raise StageError(f"polarity must be 'npn' or 'pnp', not {polarity!r}")
+    if not (math.isfinite(supply) and supply > 0):
+        raise StageError(f"the supply must be a positive voltage, not {supply!r}")
+    if source_resistance < 0:
+        raise StageError("the source resistance cannot be negative")
+    if load is not None and not load > 0:
+        raise StageError("the load must be a positive resistance (leave it out for no load)")
+
+
 def check_roles(parts, required, optional, stage_name: str) -> None:
     """Every required role present and no role the topology lacks; StageError otherwise."""
     missing = [r for r in required if r not in parts]
@@ -99,20 +111,13 @@ class Stage:
 
     def __post_init__(self) -> None:
         object.__setattr__(self, "parts", MappingProxyType(dict(self.parts)))
-        if self.polarity not in ("npn", "pnp"):
-            raise StageError(f"polarity must be 'npn' or 'pnp', not {self.polarity!r}")
+        check_surroundings(self.polarity, self.supply, self.source_resistance, self.load)
         module = topology_module(self.topology)
-        if not (math.isfinite(self.supply) and self.supply > 0):
-            raise StageError(f"the supply must be a positive voltage, not {self.supply!r}")
         if self.transistor.polarity != self.polarity:
             raise StageError(
                 f"the stage is {self.polarity.upper()} but the transistor "
                 f"{self.transistor.label or ''} is {self.transistor.polarity.upper()}".replace("  ", " ")
             )
-        if self.source_resistance < 0:
-            raise StageError("the source resistance cannot be negative")
-        if self.load is not None and not self.load > 0:
-            raise StageError("the load must be a positive resistance (leave it out for no load)")
         module.validate_roles(self.parts)
 
     def value(self, role: str, default: float = 0.0) -> float:

@@ -13,7 +13,6 @@ transistors to the operating point and calls ``netlist``.
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass
 from types import MappingProxyType
 from typing import Mapping
@@ -97,20 +96,13 @@ class TwoStage:
     load: float | None = None
 
     def __post_init__(self) -> None:
-        from .base import StageError
+        from .base import StageError, check_surroundings
 
         object.__setattr__(self, "parts", MappingProxyType(dict(self.parts)))
-        if self.polarity not in ("npn", "pnp"):
-            raise StageError(f"polarity must be 'npn' or 'pnp', not {self.polarity!r}")
-        if not (math.isfinite(self.supply) and self.supply > 0):
-            raise StageError(f"the supply must be a positive voltage, not {self.supply!r}")
+        check_surroundings(self.polarity, self.supply, self.source_resistance, self.load)
         for name, t in (("Q1", self.q1), ("Q2", self.q2)):
             if t.polarity != self.polarity:
                 raise StageError(f"the amplifier is {self.polarity.upper()} but {name} is {t.polarity.upper()}")
-        if self.source_resistance < 0:
-            raise StageError("the source resistance cannot be negative")
-        if self.load is not None and not self.load > 0:
-            raise StageError("the load must be a positive resistance (leave it out for no load)")
         validate_roles(self.parts, self.coupling)
 
     @property

@@ -36,6 +36,20 @@ def require_ngspice() -> str:
     return path
 
 
+def run_deck(text: str, workdir: Path, name: str) -> tuple[dict, subprocess.CompletedProcess]:
+    """Write ``text`` as ``name``.cir in ``workdir``, run ``ngspice -b`` on it: (the values it printed
+    as "name = value", the completed process)."""
+    exe = require_ngspice()
+    (workdir / f"{name}.cir").write_text(text, encoding="utf-8")
+    run = subprocess.run([exe, "-b", f"{name}.cir"], cwd=workdir, capture_output=True, text=True, timeout=60)
+    values = {}
+    for line in run.stdout.splitlines():
+        m = _PRINTED.match(line)
+        if m:
+            values[m.group(1)] = float(m.group(2))
+    return values, run
+
+
 @dataclass(frozen=True)
 class SimResult:
     vb: float
@@ -72,20 +86,11 @@ def simulate(stage, workdir: Path, temp_c: float = 25.0, sim_temp_c: float | Non
     """
     from drawerfit.report.netlist import stage_netlist
 
-    exe = require_ngspice()
-    deck = workdir / "stage.cir"
     control = _CONTROL if stage.topology == "common-emitter" else _CONTROL.replace(" v(c)", "")
     text = stage_netlist(stage, temp_c=temp_c, control=control)
     if sim_temp_c is not None:
         text = _at_temperature(text, temp_c, sim_temp_c)
-    deck.write_text(text)
-    run = subprocess.run([exe, "-b", deck.name], cwd=workdir, capture_output=True, text=True,
-                         timeout=60)
-    values = {}
-    for line in run.stdout.splitlines():
-        m = _PRINTED.match(line)
-        if m:
-            values[m.group(1)] = float(m.group(2))
+    values, run = run_deck(text, workdir, "stage")
     # ngspice -b exits 1 after a .control-only run ("no simulations run"), so the exit status
     # says nothing; the printed values and the data file do.
     needed = ("v(b)", "v(e)", "@q1[ic]", "@q1[ib]")

@@ -19,7 +19,6 @@ from __future__ import annotations
 import math
 import os
 import re
-import subprocess
 
 import numpy as np
 import pytest
@@ -28,7 +27,7 @@ from drawerfit.analysis.cascade import cascade_arguments, cascade_netlist, casca
 from drawerfit.stages import Part, TransistorModel
 from drawerfit.stages.two_stage import TwoStage
 
-from .spice_harness import require_ngspice
+from .spice_harness import run_deck
 
 pytestmark = pytest.mark.ngspice
 
@@ -36,7 +35,6 @@ SEED = int(os.environ.get("DRAWERFIT_SPICE_SEED", "20261203"))
 COUNT = 16
 F_START, F_STOP, PER_DECADE = 1e-3, 1e8, 200  # Hz; no junction capacitance: 1e8 Hz is mid-band
 _TIGHT = "option reltol=1e-7 abstol=1e-15 vntol=1e-9"  # the default 1e-3 shows in the device currents
-_PRINTED = re.compile(r"^\s*(?:\w+\.)?(\S+)\s*=\s*([-+0-9.eE]+)\s*$")
 
 
 def _log_uniform(rng, lo, hi):
@@ -98,15 +96,7 @@ AMPLIFIERS = _amplifiers()
 
 
 def _run(deck: str, workdir, name: str):
-    exe = require_ngspice()
-    (workdir / f"{name}.cir").write_text(deck)
-    run = subprocess.run([exe, "-b", f"{name}.cir"], cwd=workdir, capture_output=True, text=True, timeout=60)
-    values = {}
-    for line in run.stdout.splitlines():
-        m = _PRINTED.match(line)
-        if m:
-            values[m.group(1)] = float(m.group(2))
-    return values, run
+    return run_deck(deck, workdir, name)
 
 
 def simulate_cascade(amp: TwoStage, workdir) -> dict:

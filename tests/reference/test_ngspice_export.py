@@ -22,7 +22,7 @@ from drawerfit.cli import main
 from drawerfit.io.saved_design import load_design
 
 from ..report.helpers import CE_PNP, FOLLOWER, PLAIN, VARIANTS, with_networks, write_spec
-from .spice_harness import _corner, require_ngspice
+from .spice_harness import _corner, require_ngspice, run_deck
 
 pytestmark = pytest.mark.ngspice
 
@@ -34,22 +34,12 @@ ac dec 200 1e-3 1e6
 wrdata ac.txt vm(out) vr(out)
 .endc
 """
-_PRINTED = re.compile(r"^\s*(?:\w+\.)?(\S+)\s*=\s*([-+0-9.eE]+)\s*$")
 
 
 def _run(deck_text: str, workdir, control: str):
     """Run the deck as written, with ``control`` before its .end: (printed values, the output)."""
-    exe = require_ngspice()
-    deck = workdir / "run.cir"
     assert deck_text.rstrip().endswith(".end")
-    deck.write_text(deck_text.rstrip()[: -len(".end")] + control + ".end\n", encoding="utf-8")
-    run = subprocess.run([exe, "-b", deck.name], cwd=workdir, capture_output=True, text=True, timeout=60)
-    values = {}
-    for line in run.stdout.splitlines():
-        m = _PRINTED.match(line)
-        if m:
-            values[m.group(1)] = float(m.group(2))
-    return values, run
+    return run_deck(deck_text.rstrip()[: -len(".end")] + control + ".end\n", workdir, "run")
 
 
 def _simulate(deck_text: str, workdir) -> dict:

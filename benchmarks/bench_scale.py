@@ -103,7 +103,12 @@ def main() -> None:
     ap.add_argument("--sizes", default="e24,e96,e192,big")
     ap.add_argument("--max-parts", default="1,2,3")
     ap.add_argument("--quick", action="store_true", help="e96 only, pairs only")
+    ap.add_argument("--exhaustive-only", action="store_true", help="only --exhaustive against the search on 15 lines")
     a = ap.parse_args()
+    if a.exhaustive_only:
+        with tempfile.TemporaryDirectory() as tmp:
+            exhaustive_small(Path(tmp))
+        return
     sizes = ["e96"] if a.quick else a.sizes.split(",")
     counts = ["2"] if a.quick else a.max_parts.split(",")
     print(f"{os.cpu_count()} CPUs; each line a fresh process (start-up and reading included)")

@@ -39,6 +39,7 @@ from ..parts import StockLine
 from .capacitors import CapacitorSide, Completion, _bought
 from .judge import SearchContext, evaluate_resistors, mu_class, nominal_distance, tighten
 from .joins import candidate_sets, role_ranges
+from .naive_caps import SETS_PER_CALL, complete_many
 from .narrowing import narrow_ranges
 from .pools import Pools
 from .tables import RoleTable, TripleWindow
@@ -571,7 +572,8 @@ def _take_batch(b: ResistorBatch, sel: np.ndarray) -> ResistorBatch:
 def exhaustive_search(ctx: SearchContext, transistor: StockLine, rtables, ctables, lines, top: int,
                       *, virtual_ids=(), pools: Pools | None = None, **_ignored) -> list[FoundDesign]:
     """The naive enumeration (``--exhaustive``): every combination of one candidate per role, no
-    bounds, each resistor set completed with its best capacitors of any count; the ``top`` best."""
+    bounds, each resistor set completed with its best capacitors of any count (``naive_caps``, many
+    sets at once); the ``top`` best."""
     if pools is None:
         pools = Pools.build(lines, exclude=virtual_ids)
     virtual = np.zeros(len(pools.qty), np.int64)
@@ -579,10 +581,13 @@ def exhaustive_search(ctx: SearchContext, transistor: StockLine, rtables, ctable
     caps = CapacitorSide(ctx, ctables, pools, virtual)
     found = []
     for b in resistor_batches(ctx, rtables, pools, virtual, pruned=False):
-        for pos in range(len(b)):
-            comp = caps.complete_naive(b, pos)
-            if comp is None:
-                continue
-            found.append(_found(ctx, b, pos, comp, transistor, ctx.problem.prefer))
+        for p0 in range(0, len(b), SETS_PER_CALL):
+            positions = np.arange(p0, min(len(b), p0 + SETS_PER_CALL))
+            for pos, comp in zip(positions.tolist(), complete_many(caps, b, positions)):
+                if comp is not None:
+                    found.append(_found(ctx, b, pos, comp, transistor, ctx.problem.prefer))
+            if len(found) > 4 * top + 4096:  # only the ``top`` best are kept
+                found.sort(key=lambda f: f.key)
+                del found[top:]
     found.sort(key=lambda f: f.key)
     return found[:top]

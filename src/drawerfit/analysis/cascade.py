@@ -28,7 +28,7 @@ from .response import TWO_PI, _illinois
 
 __all__ = ["CascadeFigures", "evaluate_cascade_dc", "evaluate_cascade", "cascade_transfer",
            "cascade_low_corner", "cascade_worst_case", "cascade_monte_carlo", "cascade_arguments",
-           "cascade_netlist", "CASCADE_TOLERANCE_KEYS", "CASCADE_CAP_KEYS", "POWER_FIGURE", "CAP_FIGURE"]
+           "cascade_netlist", "cascade_vertices", "CASCADE_TOLERANCE_KEYS", "CASCADE_CAP_KEYS", "POWER_FIGURE", "CAP_FIGURE"]
 
 CASCADE_TOLERANCE_KEYS = ("r1", "r2", "rc", "re", "re2", "r3", "r4", "re3", "c1", "c2", "c3", "ce")
 CASCADE_CAP_KEYS = ("c1", "c2", "c3", "ce")
@@ -438,19 +438,10 @@ def _split(kw: dict):
     return kw, caps, bypassed
 
 
-def cascade_worst_case(*, tolerances: Mapping[str, object], hfe1_min, hfe1_max, hfe2_min, hfe2_max,
-                       temp_min=NOMINAL_TEMP_C, temp_max=NOMINAL_TEMP_C, corner: bool = True, **nominal):
-    """Lowest and highest figures over the tolerance box, as ``analysis.spread.WorstCase``.
-
-    The approach of ``spread.worst_case``: every resistor with a tolerance at both ends of its
-    band, both transistors' hFE at both ends of their ranges, the ambient at both ends, every
-    combination; the vertices are one extra leading axis of a single vectorised call.  The
-    capacitors are held at their low ends for the highest corners and at their high ends for
-    the lowest (every corner falls as capacitance grows).  Exact for figures monotone in each
-    parameter; for the others, the extremes over the vertices (see docs/method.md, Spread).
-    """
-    from .spread import WorstCase
-
+def cascade_vertices(*, tolerances: Mapping[str, object], hfe1_min, hfe1_max, hfe2_min, hfe2_max,
+                     temp_min=NOMINAL_TEMP_C, temp_max=NOMINAL_TEMP_C, **nominal):
+    """(DC figures at every vertex of the tolerance box, with the vertices as a leading axis; the
+    capacitors and ``bypassed`` split off the arguments): the box ``cascade_worst_case`` spans."""
     bad = set(tolerances) - set(CASCADE_TOLERANCE_KEYS)
     if bad:
         raise ValueError(f"no tolerance for {sorted(bad)}; use {CASCADE_TOLERANCE_KEYS}")
@@ -477,7 +468,26 @@ def cascade_worst_case(*, tolerances: Mapping[str, object], hfe1_min, hfe1_max, 
     bits = np.arange(n_vert).reshape((n_vert,) + (1,) * ndim)
     for i, (key, lo, hi) in enumerate(axes):
         base[key] = np.where((bits >> i) & 1, hi, lo)
-    fig = evaluate_cascade_dc(bypassed=bypassed, **base)
+    return evaluate_cascade_dc(bypassed=bypassed, **base), caps
+
+
+def cascade_worst_case(*, tolerances: Mapping[str, object], hfe1_min, hfe1_max, hfe2_min, hfe2_max,
+                       temp_min=NOMINAL_TEMP_C, temp_max=NOMINAL_TEMP_C, corner: bool = True, **nominal):
+    """Lowest and highest figures over the tolerance box, as ``analysis.spread.WorstCase``.
+
+    The approach of ``spread.worst_case``: every resistor with a tolerance at both ends of its
+    band, both transistors' hFE at both ends of their ranges, the ambient at both ends, every
+    combination; the vertices are one extra leading axis of a single vectorised call
+    (``cascade_vertices``).  The capacitors are held at their low ends for the highest corners
+    and at their high ends for the lowest (every corner falls as capacitance grows).  Exact for
+    figures monotone in each parameter; for the others, the extremes over the vertices (see
+    docs/method.md, Spread).
+    """
+    from .spread import WorstCase
+
+    fig, caps = cascade_vertices(tolerances=tolerances, hfe1_min=hfe1_min, hfe1_max=hfe1_max, hfe2_min=hfe2_min,
+                                 hfe2_max=hfe2_max, temp_min=temp_min, temp_max=temp_max, **nominal)
+    n_vert = fig.ie1.shape[0]
     values = {name: getattr(fig, name) for name in NUMERIC_FIELDS if getattr(fig, name) is not None}
     if corner:
         c_low = {k: np.asarray(c, float) * (1.0 - np.asarray(tolerances.get(k, 0.0), float)) for k, c in caps.items()}

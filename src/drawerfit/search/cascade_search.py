@@ -1,0 +1,608 @@
+"""The two-stage amplifier's design search: both stages chosen together from one drawer.
+
+What is searched: one candidate per role (stages.two_stage: R1, R2, RC, RE, [RE2, CE], C1, [C2,
+R3, R4], RE3, C3) and a transistor line for each of Q1 and Q2, all from one stock with the parts of
+every role and every unit drawn together.  A design passes when, at every vertex of the worst-case
+box (``analysis.cascade.cascade_worst_case``: every resistor at both tolerance ends, both hFE
+ranges, the ambient range), both transistors are active and every target and rating holds
+(``cascade_margins``).  The objective is the single stages' (docs/method.md, "Objective"): fewest
+parts, then the largest margin class, then the nominal distance to the windows' centres, then the
+most parts left, the least total capacitance, and a canonical key.
+
+How (docs/method.md, "Two-stage amplifier: the joint search"): resistor shapes (parts per role) in
+order of their part count; within a shape, the stage-1 bias (R1, R2, emitter resistance) is joined
+on the interval of emitter resistance its IE window allows, the same for the follower's bias when
+capacitor-coupled, Q1 must be active with its collector unloaded (necessary: the follower only
+draws more current through RC), and what remains is judged jointly, in chunks, over the whole box.
+Designs that pass are then given capacitors best-first by a lower bound of their key (capacitors add
+at least one part per role and can only lower the margin), so the search stops once no remaining
+design can beat the best.  The enumeration is bounded by a work budget: past it the answer is the
+best found and says it is not proven.  ``exhaustive=True`` drops the joins, the bounds and the
+best-first stop (the oracle of the tests, for small drawers).
+"""
+
+from __future__ import annotations
+
+import itertools
+import math
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from ..analysis.cascade import (CASCADE_CAP_KEYS, CAP_FIGURE, POWER_FIGURE, _Mag, _kernel_params,
+                                cascade_low_corner, cascade_vertices, cascade_worst_case)
+from ..parts import SpecError, StockLine
+from ..stages import Conditions
+from ..stages import two_stage
+from .judge import MU_CLASSES, cap_margin, mu_class
+from .pools import Pools
+from .tables import build_tables
+
+__all__ = ["CascadeTargets", "CascadeProblem", "CascadeDesign", "CascadeOutcome", "design_cascade",
+           "cascade_margins", "WORK_BUDGET"]
+
+WORK_BUDGET = 5_000_000  # resistor designs tried before the search stops unproven
+CHUNK = 2048  # designs tried at once (at 16 vertices, then the survivors at up to 2¹¹)
+BOX_CHUNK = 64  # designs judged over the whole box at once (times up to 2¹¹ vertices)
+CAP_COMBOS = 200_000  # capacitor combinations tried for one resistor design at most
+
+
+@dataclass(frozen=True)
+class CascadeTargets:
+    """The amplifier's targets: IE windows per stage (A; stage 1 required), the overall gain
+    magnitude window, f_low (Hz, required), the swing into the load (peak V), rin_min, rout_max."""
+
+    ie1_min: float
+    ie1_max: float
+    f_low: float
+    ie2_min: float | None = None
+    ie2_max: float | None = None
+    gain_min: float | None = None
+    gain_max: float | None = None
+    swing: float | None = None
+    rin_min: float | None = None
+    rout_max: float | None = None
+
+    def __post_init__(self) -> None:
+        if not (0 < self.ie1_min <= self.ie1_max < math.inf):
+            raise SpecError("[targets]: need 0 < ie1_min <= ie1_max")
+        if (self.ie2_min is None) != (self.ie2_max is None) or (
+                self.ie2_min is not None and not 0 < self.ie2_min <= self.ie2_max < math.inf):
+            raise SpecError("[targets]: give both ie2_min and ie2_max, with 0 < ie2_min <= ie2_max")
+        for name in ("f_low", "gain_min", "gain_max", "swing", "rin_min", "rout_max"):
+            v = getattr(self, name)
+            if v is not None and not (0 < v < math.inf):
+                raise SpecError(f"[targets]: {name} must be positive, not {v!r}")
+        if self.gain_min is not None and self.gain_max is not None and self.gain_min > self.gain_max:
+            raise SpecError("[targets]: gain_min is above gain_max")
+
+    def limits(self) -> dict:
+        """name -> (figure, +1 lower bound / −1 upper bound, value) of every target given."""
+        out = {"ie1_min": ("ie1", 1, self.ie1_min), "ie1_max": ("ie1", -1, self.ie1_max)}
+        for name, fig, side in (("ie2_min", "ie2", 1), ("ie2_max", "ie2", -1), ("gain_min", "gain_abs", 1),
+                                ("gain_max", "gain_abs", -1), ("swing", "swing_peak", 1), ("rin_min", "rin", 1),
+                                ("rout_max", "rout", -1)):
+            if getattr(self, name) is not None:
+                out[name] = (fig, side, getattr(self, name))
+        return out
+
+    def centres(self) -> dict:
+        """figure -> (centre, half width) of the two-sided windows (the distance D)."""
+        out = {"ie1": ((self.ie1_min + self.ie1_max) / 2, max((self.ie1_max - self.ie1_min) / 2, 1e-30))}
+        if self.ie2_min is not None:
+            out["ie2"] = ((self.ie2_min + self.ie2_max) / 2, max((self.ie2_max - self.ie2_min) / 2, 1e-30))
+        if self.gain_min is not None and self.gain_max is not None:
+            out["gain_abs"] = ((self.gain_min + self.gain_max) / 2, max((self.gain_max - self.gain_min) / 2, 1e-30))
+        return out
+
+
+@dataclass(frozen=True)
+class CascadeProblem:
+    """What the joint search needs, in SI units."""
+
+    polarity: str
+    supply: float
+    coupling: str
+    targets: CascadeTargets
+    conditions: Conditions = field(default_factory=Conditions)
+    source_resistance: float = 0.0
+    load: float | None = None
+    bypass: bool = False
+    max_parts: int = 2
+    units: int = 1
+
+    def __post_init__(self) -> None:
+        if self.polarity not in ("npn", "pnp"):
+            raise SpecError(f"polarity must be npn or pnp, not {self.polarity!r}")
+        if self.coupling not in two_stage.COUPLINGS:
+            raise SpecError(f"coupling must be one of {', '.join(two_stage.COUPLINGS)}, not {self.coupling!r}")
+        if not 1 <= self.max_parts <= 2:
+            raise SpecError("--max-parts: the two-stage search takes 1 or 2 parts per role (triples not yet)")
+        if self.units < 1:
+            raise SpecError("--units must be at least 1")
+
+    @property
+    def res_roles(self) -> tuple[str, ...]:
+        roles = ["R1", "R2", "RC", "RE"] + (["RE2"] if self.bypass else [])
+        roles += (["R3", "R4"] if self.coupling == "capacitor" else []) + ["RE3"]
+        return tuple(roles)
+
+    @property
+    def cap_roles(self) -> tuple[str, ...]:
+        return ("C1",) + (("C2",) if self.coupling == "capacitor" else ()) + ("C3",) + (("CE",) if self.bypass else ())
+
+    @property
+    def rl(self) -> float:
+        return math.inf if self.load is None else self.load
+
+
+@dataclass(frozen=True)
+class CascadeDesign:
+    """One design: per role (table, index) of its candidate, the transistor lines, its figures."""
+
+    key: tuple
+    q1: StockLine
+    q2: StockLine
+    choice: dict  # role -> (RoleTable, index)
+    margins: dict  # name -> worst-case margin (targets, ratings, capacitors, the corner)
+    part_count: int
+    distance: float
+
+    def value(self, role: str) -> float:
+        t, i = self.choice[role]
+        return float(t.v[i])
+
+    def tolerance(self, role: str) -> float:
+        t, i = self.choice[role]
+        return float(t.tol[i])
+
+
+@dataclass
+class CascadeOutcome:
+    """The best designs found, and whether the search proved them the best."""
+
+    designs: list
+    proven: bool
+    judged: int = 0
+    reasons: list = field(default_factory=list)
+
+
+# --- figures and margins -------------------------------------------------------------------------
+
+def _nominal_args(problem: CascadeProblem, q1, q2, v: dict, tol: dict) -> tuple[dict, dict]:
+    """(keyword arguments of ``cascade_worst_case``, tolerances) for arrays of resistor values."""
+    n = len(next(iter(v.values())))
+    kw = dict(coupling=problem.coupling, polarity=problem.polarity, supply=problem.supply,
+              r1=v["R1"], r2=v["R2"], rc=v["RC"], re=v["RE"], re2=v.get("RE2", np.zeros(n)),
+              r3=v.get("R3", np.full(n, np.inf)), r4=v.get("R4", np.full(n, np.inf)), re3=v["RE3"],
+              rs=problem.source_resistance, rl=problem.rl, bypassed=problem.bypass,
+              vbe1=q1.vbe, vbe2=q2.vbe, vce_sat1=q1.vce_sat, vce_sat2=q2.vce_sat,
+              vbe_tempco1=q1.vbe_tempco, vbe_tempco2=q2.vbe_tempco)
+    tols = {r.lower(): tol[r] for r in tol}
+    box = dict(hfe1_min=q1.hfe_min, hfe1_max=q1.hfe_max, hfe2_min=q2.hfe_min, hfe2_max=q2.hfe_max,
+               temp_min=problem.conditions.ambient_min, temp_max=problem.conditions.ambient_max)
+    return kw, dict(tolerances=tols, **box)
+
+
+def cascade_margins(problem: CascadeProblem, wc, power: dict, q1, q2) -> dict:
+    """Worst-case margin of every target and rating (≥ 0 met), vectorised over designs: the rules
+    of the single stages' checks (analysis/targets.py) for both stages; ``power`` role -> W rating."""
+    low, high = dict(wc.low), dict(wc.high)
+    a, b = np.abs(low["gain"]), np.abs(high["gain"])
+    same = np.sign(low["gain"]) == np.sign(high["gain"])
+    low["gain_abs"], high["gain_abs"] = np.where(same, np.minimum(a, b), 0.0), np.maximum(a, b)
+    out = {}
+    with np.errstate(invalid="ignore", divide="ignore"):
+        for name, (fig, side, bound) in problem.targets.limits().items():
+            val = low[fig] if side > 0 else high[fig]
+            out[name] = np.nan_to_num(side * (val - bound) / bound, nan=-np.inf)
+        out["both active"] = np.where(wc.all_active, 1.0, -1.0)
+        c = problem.conditions
+        for role, rating in power.items():
+            limit = np.asarray(rating, float) * c.resistor_derating
+            out[f"{role} power"] = (limit - high[POWER_FIGURE[role]]) / limit
+        for name, q, ic, p in (("Q1", q1, "ic1", "p_q1"), ("Q2", q2, "ic2", "p_q2")):
+            if q.pd is not None:
+                limit = q.pd * c.transistor_derating
+                out[f"{name} power"] = (limit - high[p]) / limit
+            if q.vceo is not None:
+                out[f"{name} VCEO"] = np.full(np.shape(high[p]), (q.vceo - problem.supply) / q.vceo)
+            if q.ic_max is not None:
+                out[f"{name} IC max"] = (q.ic_max - 2.0 * high[ic]) / q.ic_max
+    return out
+
+
+def _distance(problem: CascadeProblem, q1, q2, v: dict) -> np.ndarray:
+    """D at the nominal point: √Σ((x − centre)/half-width)² over the two-sided windows."""
+    from ..analysis.cascade import evaluate_cascade_dc
+
+    kw, box = _nominal_args(problem, q1, q2, v, {})
+    fig = evaluate_cascade_dc(hfe1=q1.hfe, hfe2=q2.hfe, temp_c=problem.conditions.nominal_temp, **kw)
+    vals = {"ie1": fig.ie1, "ie2": fig.ie2, "gain_abs": np.abs(fig.gain)}
+    d2 = 0.0
+    for name, (centre, half) in problem.targets.centres().items():
+        d2 = d2 + ((vals[name] - centre) / half) ** 2
+    return np.sqrt(d2)
+
+
+# --- resistor designs ----------------------------------------------------------------------------
+
+class _Role:
+    """One role's candidates of one part count: values sorted, with tolerance, rating, parts."""
+
+    def __init__(self, table):
+        self.t = table
+        self.v, self.tol, self.rating = table.v, table.tol, table.rating
+        self.lo, self.hi = table.lo, table.hi
+
+    def __len__(self) -> int:
+        return len(self.v)
+
+
+def _bias_pairs(problem, ra: _Role, rb: _Role, emit: list, q, lo_i, hi_i, chunk: int = 200_000):
+    """Index arrays (divider top, bottom, emitter candidates...) whose emitter current may lie in
+    [lo_i, hi_i] at every vertex (a necessary condition, with slack): for each divider, the
+    nominal total emitter resistance lies between the values that give hi_i at the highest-current
+    vertex and lo_i at the lowest, the Thevenin source taken at its extremes."""
+    vcc = problem.supply
+    c = problem.conditions
+    dv = [q.vbe_tempco * (c.ambient_min - c.nominal_temp), q.vbe_tempco * (c.ambient_max - c.nominal_temp)]
+    vbe_lo, vbe_hi = q.vbe + min(dv), q.vbe + max(dv)
+    # the emitter total: sums of the emitter roles' candidates, sorted
+    if len(emit) == 1:
+        tot = emit[0].v
+        idx = [np.arange(len(emit[0]))]
+    else:
+        g = np.meshgrid(*[np.arange(len(e)) for e in emit], indexing="ij")
+        idx = [x.reshape(-1) for x in g]
+        tot = sum(e.v[i] for e, i in zip(emit, idx))
+    order = np.argsort(tot, kind="stable")
+    tot, idx = tot[order], [i[order] for i in idx]
+    n_a, n_b = len(ra), len(rb)
+    out = []
+    for s0 in range(0, n_a * n_b, chunk):
+        flat = np.arange(s0, min(n_a * n_b, s0 + chunk))
+        ia, ib = flat // n_b, flat % n_b
+        # the rail-side resistor is the top of the divider for NPN, the bottom for PNP (mirrored)
+        top, bot = (ra, rb) if problem.polarity == "npn" else (rb, ra)
+        it, ibt = (ia, ib) if problem.polarity == "npn" else (ib, ia)
+        vth_lo = vcc * bot.lo[ibt] / (top.hi[it] + bot.lo[ibt])
+        vth_hi = vcc * bot.hi[ibt] / (top.lo[it] + bot.hi[ibt])
+        rth_lo = top.lo[it] * bot.lo[ibt] / (top.lo[it] + bot.lo[ibt])
+        rth_hi = top.hi[it] * bot.hi[ibt] / (top.hi[it] + bot.hi[ibt])
+        with np.errstate(divide="ignore", invalid="ignore"):
+            r_max = (vth_hi - vbe_lo) / lo_i - rth_lo / (q.hfe_max + 1.0)
+            r_min = (vth_lo - vbe_hi) / hi_i - rth_hi / (q.hfe_min + 1.0)
+        tmax = max(float(np.max(e.tol)) for e in emit)
+        r_max = r_max / (1 - tmax) * (1 + 1e-9)
+        r_min = r_min / (1 + tmax) * (1 - 1e-9)
+        a = np.searchsorted(tot, r_min, side="left")
+        b = np.searchsorted(tot, r_max, side="right")
+        cnt = np.maximum(b - a, 0)
+        if not cnt.sum():
+            continue
+        rep = np.repeat(np.arange(len(flat)), cnt)
+        pos = np.repeat(a, cnt) + (np.arange(cnt.sum()) - np.repeat(np.cumsum(cnt) - cnt, cnt))
+        out.append((ia[rep], ib[rep], *[i[pos] for i in idx]))
+    if not out:
+        return [np.zeros(0, np.int64)] * (2 + len(emit))
+    return [np.concatenate([o[k] for o in out]) for k in range(2 + len(emit))]
+
+
+def _product(*sizes):
+    g = np.meshgrid(*[np.arange(s) for s in sizes], indexing="ij")
+    return [x.reshape(-1) for x in g]
+
+
+def _stage1_active(problem, q1, R: dict, i1: dict) -> np.ndarray:
+    """Q1 active at every stage-1 vertex with its collector unloaded: a necessary condition (the
+    follower only draws more current through RC, lowering VCE1)."""
+    from ..analysis.cascade import evaluate_cascade_dc
+
+    n = len(i1["R1"])
+    if not n:
+        return np.zeros(0, bool)
+    v = {r: R[r].v[i1[r]] for r in i1}
+    tol = {r: R[r].tol[i1[r]] for r in i1}
+    # an unloaded collector: the follower's base through a huge emitter resistor, capacitor-coupled
+    kw = dict(coupling="capacitor", polarity=problem.polarity, supply=problem.supply, r1=v["R1"], r2=v["R2"],
+              rc=v["RC"], re=v["RE"], re2=v.get("RE2", np.zeros(n)), r3=np.full(n, 1e12), r4=np.full(n, 1e12),
+              re3=np.full(n, 1e12), bypassed=problem.bypass, vbe1=q1.vbe, vbe2=q1.vbe, vce_sat1=q1.vce_sat,
+              vce_sat2=q1.vce_sat, vbe_tempco1=q1.vbe_tempco, vbe_tempco2=q1.vbe_tempco)
+    fig, _ = cascade_vertices(tolerances={r.lower(): tol[r] for r in tol}, hfe1_min=q1.hfe_min, hfe1_max=q1.hfe_max,
+                              hfe2_min=100.0, hfe2_max=100.0, temp_min=problem.conditions.ambient_min,
+                              temp_max=problem.conditions.ambient_max, **kw)
+    from ..analysis.dc import ACTIVE
+
+    return np.all(fig.state1 == ACTIVE, axis=0)
+
+
+class _Search:
+    """The search for one pair of transistor lines."""
+
+    def __init__(self, problem: CascadeProblem, rc_tabs, cc_tabs, pools: Pools, q1l, q2l, exhaustive: bool):
+        from .runner import transistor_model
+
+        self.p, self.rc_tabs, self.cc_tabs, self.pools = problem, rc_tabs, cc_tabs, pools
+        self.q1l, self.q2l = q1l, q2l
+        self.q1, self.q2 = transistor_model(q1l), transistor_model(q2l)
+        self.exhaustive = exhaustive
+        self.judged = 0  # designs judged over the whole box
+        self.probed = 0  # designs tried at the first vertices
+
+    # resistor designs of one shape (role -> part count) that pass the whole box
+    def passing(self, shape: dict, budget: int):
+        p = self.p
+        R = {r: _Role(self.rc_tabs[shape[r]]) for r in p.res_roles}
+        emit = ["RE"] + (["RE2"] if p.bypass else [])
+        t = p.targets
+        if self.exhaustive:
+            g1 = dict(zip(["R1", "R2", *emit], _product(*(len(R[r]) for r in ["R1", "R2", *emit]))))
+        else:
+            a, b, *e = _bias_pairs(p, R["R1"], R["R2"], [R[r] for r in emit], self.q1, t.ie1_min, t.ie1_max)
+            g1 = dict(zip(["R1", "R2", *emit], [a, b, *e]))
+        # with RC
+        n1, nrc = len(g1["R1"]), len(R["RC"])
+        k1, kc = _product(n1, nrc)
+        s1 = {r: g1[r][k1] for r in g1}
+        s1["RC"] = kc
+        if not self.exhaustive and len(k1):
+            keep = np.zeros(len(k1), bool)
+            for c0 in range(0, len(k1), 4096):
+                sl = slice(c0, c0 + 4096)
+                keep[sl] = _stage1_active(p, self.q1, R, {r: s1[r][sl] for r in s1})
+            s1 = {r: s1[r][keep] for r in s1}
+        # the follower
+        if p.coupling == "capacitor":
+            if self.exhaustive or t.ie2_min is None:
+                g2 = dict(zip(["R3", "R4", "RE3"], _product(len(R["R3"]), len(R["R4"]), len(R["RE3"]))))
+            else:
+                a, b, e = _bias_pairs(p, R["R3"], R["R4"], [R["RE3"]], self.q2, t.ie2_min, t.ie2_max)
+                g2 = {"R3": a, "R4": b, "RE3": e}
+        else:
+            g2 = {"RE3": np.arange(len(R["RE3"]))}
+        n_s1, n_g2 = len(s1["R1"]), len(g2["RE3"])
+        total = n_s1 * n_g2
+        found, complete = [], True
+        for c0 in range(0, total, CHUNK):
+            if self.probed >= budget:
+                complete = False
+                break
+            flat = np.arange(c0, min(total, c0 + CHUNK))
+            i, j = flat // max(n_g2, 1), flat % max(n_g2, 1)
+            idx = {r: s1[r][i] for r in s1}
+            idx.update({r: g2[r][j] for r in g2})
+            ok, margins = self._judge(R, idx)
+            self.probed += len(flat)
+            if ok.any():
+                found.append(({r: idx[r][ok] for r in idx}, {k: m[ok] for k, m in margins.items()}))
+        return found, R, complete
+
+    def _judge(self, R, idx):
+        """(passes, margins) of resistor designs over the whole box.  First at a few of its
+        vertices (every resistor at its low end, then at its high end, with both hFE and the
+        ambient at both ends): a design failing there fails the box, and most fail there."""
+        p = self.p
+        v = {r: R[r].v[idx[r]] for r in idx}
+        tol = {r: R[r].tol[idx[r]] for r in idx}
+        power = {r: R[r].rating[idx[r]] for r in idx}
+        alive = np.ones(len(v["R1"]), bool)
+        if True:  # the probe vertices are vertices of the box: the exhaustive run takes them too
+            for sign in (-1.0, 1.0):
+                sel = np.flatnonzero(alive)
+                if not len(sel):
+                    break
+                ends = {r: v[r][sel] * (1.0 + sign * tol[r][sel]) for r in v}
+                kw, box = _nominal_args(p, self.q1, self.q2, ends, {})
+                m = cascade_margins(p, cascade_worst_case(corner=False, **box, **kw),
+                                    {r: power[r][sel] for r in power}, self.q1, self.q2)
+                alive[sel] = np.all(np.stack(list(m.values())) >= 0, axis=0)
+        ok = np.zeros(len(alive), bool)
+        full: dict = {}
+        survivors = np.flatnonzero(alive)
+        self.judged += len(survivors)
+        for c0 in range(0, len(survivors), BOX_CHUNK):
+            sel = survivors[c0:c0 + BOX_CHUNK]
+            kw, box = _nominal_args(p, self.q1, self.q2, {r: v[r][sel] for r in v}, {r: tol[r][sel] for r in tol})
+            wc = cascade_worst_case(corner=False, **box, **kw)
+            m = cascade_margins(p, wc, {r: power[r][sel] for r in power}, self.q1, self.q2)
+            for role in p.cap_roles:
+                fig = CAP_FIGURE[role]
+                m[f"_{role} lo"], m[f"_{role} hi"] = wc.low[fig], wc.high[fig]
+            ok[sel] = np.all(np.stack([x for k, x in m.items() if not k.startswith("_")]) >= 0, axis=0)
+            for k, x in m.items():
+                full.setdefault(k, np.zeros(len(alive)))[sel] = x
+        return ok, full
+
+    # capacitors for one resistor design
+    def complete(self, R, idx: dict, margins: dict, res_parts) -> tuple | None:
+        """(key tail, caps {role: (table, i)}, margins) of the best capacitors for one resistor
+        design (``idx`` role -> index, ``margins`` its worst-case margins), or None."""
+        p = self.p
+        v = {r: R[r].v[[idx[r]]] for r in idx}
+        tol = {r: R[r].tol[[idx[r]]] for r in idx}
+        kw, box = _nominal_args(p, self.q1, self.q2, v, tol)
+        fig, _ = cascade_vertices(**box, **kw)
+        f = p.targets.f_low
+        mu_r = min(float(x) for k, x in margins.items() if not k.startswith("_"))
+        per = {}
+        for role in p.cap_roles:
+            for c in range(1, p.max_parts + 1):
+                t = self.cc_tabs.get(c)
+                if t is None or not len(t):
+                    continue
+                low = t.lo
+                m = cap_margin(margins[f"_{role} lo"], margins[f"_{role} hi"], t.rating, t.polarized,
+                               p.conditions.cap_voltage_margin)
+                ok = m >= 0
+                if role == "CE" and ok.any():
+                    # a bypass capacitor must bypass within the band (as in the single stage)
+                    from ..analysis.cascade import _own_corners
+
+                    one = np.ones(1)
+                    f_ce = _own_corners(fig, one, one, one, low[None, :])[3]
+                    ok &= np.all(f_ce <= f * (1 + 1e-12), axis=0)
+                if not self.exhaustive and ok.any():
+                    sel = np.flatnonzero(ok)
+                    caps = {r: np.full(len(sel), 1e3) for r in p.cap_roles}
+                    caps[role] = low[sel]
+                    ok[sel] = self._meets(fig, caps, f)
+                per[(role, c)] = (t, np.flatnonzero(ok), m)
+        best = None
+        for counts in itertools.product(range(1, p.max_parts + 1), repeat=len(p.cap_roles)):
+            roles = list(zip(p.cap_roles, counts))
+            if any((r, c) not in per or not len(per[(r, c)][1]) for r, c in roles):
+                continue
+            sizes = [len(per[rc][1]) for rc in roles]
+            total = int(np.prod(sizes))
+            if total > CAP_COMBOS:
+                self.cap_skipped = True
+                continue
+            pick = dict(zip(p.cap_roles, _product(*sizes)))
+            cand = {r: per[(r, c)][1][pick[r]] for r, c in roles}
+            tabs = {r: per[(r, c)][0] for r, c in roles}
+            low = {r: tabs[r].lo[cand[r]] for r in p.cap_roles}
+            ok = self._meets(fig, low, f)
+            if not ok.any():
+                continue
+            sel = np.flatnonzero(ok)
+            parts = list(res_parts) + [(tabs[r].members[cand[r][sel]], tabs[r].counts[cand[r][sel]]) for r in p.cap_roles]
+            parts = [(m if len(m) == len(sel) else np.repeat(m, len(sel), axis=0),
+                      c if len(c) == len(sel) else np.repeat(c, len(sel), axis=0)) for m, c in parts]
+            sok, left = self.pools.check(parts, p.units)
+            sel, left = sel[sok], left[sok]
+            if not len(sel):
+                continue
+            cm = self._corner_margin(fig, {r: low[r][sel] for r in p.cap_roles}, f)
+            vm = np.min(np.stack([per[(r, c)][2][cand[r][sel]] for r, c in roles]), axis=0)
+            mu = np.minimum(np.minimum(vm, cm), mu_r)
+            tc = np.sum(np.stack([tabs[r].v[cand[r][sel]] for r in p.cap_roles]), axis=0)
+            pc = sum(counts)
+            cls = mu_class(mu)
+            order = np.lexsort((tc, -left, -cls))
+            for k in order[:8]:
+                if (cls[k], left[k], tc[k]) != (cls[order[0]], left[order[0]], tc[order[0]]):
+                    break
+                kk = int(sel[k])
+                canon = tuple(tabs[r].key(int(cand[r][kk])) for r in p.cap_roles)
+                key = (pc, -float(cls[k]), -float(left[k]), float(tc[k]), canon)
+                if best is None or key < best[0]:
+                    cap_m = {f"{r} voltage": float(per[(r, c)][2][cand[r][kk]]) for r, c in roles}
+                    cap_m["f_low"] = float(cm[k])
+                    best = (key, {r: (tabs[r], int(cand[r][kk])) for r in p.cap_roles}, cap_m, float(mu[k]))
+        return best
+
+    def _meets(self, fig, caps: dict, f) -> np.ndarray:
+        """The whole-amplifier corner at or below ``f`` at every vertex, per capacitor combination."""
+        c = {k: np.asarray(caps.get(r, np.zeros(1)), float)[None, :] for k, r in zip(CASCADE_CAP_KEYS, ("C1", "C2", "C3", "CE"))}
+        with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+            mag = _Mag(_kernel_params(fig, c["c1"], c["c2"], c["c3"], c["ce"]))((2 * np.pi * f) ** 2)
+            return np.all(fig.active & (mag >= 0.5 * fig.gain ** 2), axis=0)
+
+    def _corner_margin(self, fig, caps: dict, f) -> np.ndarray:
+        c = {k: np.asarray(caps.get(r, np.zeros(1)), float)[None, :] for k, r in zip(CASCADE_CAP_KEYS, ("C1", "C2", "C3", "CE"))}
+        fl = cascade_low_corner(fig, c1=c["c1"], c2=c["c2"], c3=c["c3"], ce=c["ce"])["f_low"]
+        worst = np.max(np.where(np.isnan(fl), np.inf, fl), axis=0)
+        return (f - worst) / f
+
+
+def _shapes(problem: CascadeProblem):
+    counts = range(1, problem.max_parts + 1)
+    out = [dict(zip(problem.res_roles, c)) for c in itertools.product(counts, repeat=len(problem.res_roles))]
+    return sorted(out, key=lambda s: sum(s.values()))
+
+
+def design_cascade(problem: CascadeProblem, lines, *, top: int = 1, exhaustive: bool = False,
+                   budget: int = WORK_BUDGET) -> CascadeOutcome:
+    """The ``top`` best designs of ``problem`` from stock ``lines`` (see the module docstring)."""
+    from .runner import suitable_transistors
+    from .problem import DesignProblem, DesignTargets
+
+    pools = Pools.build(lines)
+    cand = pools.search_lines(lines)
+    rtab = build_tables([ln for ln in cand if ln.kind == "resistor"], "resistor", problem.max_parts, problem.units)
+    ctab = build_tables([ln for ln in cand if ln.kind == "capacitor"], "capacitor", problem.max_parts, problem.units)
+    rc_tabs = {c: rtab.one(c) for c in range(1, problem.max_parts + 1) if c in rtab}
+    cc_tabs = {c: ctab.one(c) for c in range(1, problem.max_parts + 1) if c in ctab}
+    # the transistor lines as the single stages judge them (polarity, quantity, hFE given, VCEO)
+    probe = DesignProblem("emitter-follower", problem.polarity, problem.supply,
+                          DesignTargets(ie_min=problem.targets.ie1_min, ie_max=problem.targets.ie1_max,
+                                        f_low=problem.targets.f_low), units=problem.units)
+    trs, why = suitable_transistors(probe, lines)
+    outcome = CascadeOutcome([], True, reasons=list(why))
+    if not trs:
+        outcome.reasons.append("no transistor line suits both stages")
+        return outcome
+    if not rc_tabs or not cc_tabs:
+        outcome.reasons.append("the drawer has no " + ("resistors" if not rc_tabs else "capacitors"))
+        return outcome
+    n_caps = len(problem.cap_roles)
+    searches = [_Search(problem, rc_tabs, cc_tabs, pools, a, b, exhaustive) for a, b in itertools.product(trs, repeat=2)
+                if a.index != b.index or a.qty >= 2 * problem.units]
+    if not searches:
+        outcome.reasons.append("one transistor line with too few parts for both stages")
+        return outcome
+    best: list = []
+    pending: list = []
+    levels = itertools.groupby(_shapes(problem), key=lambda sh: sum(sh.values()))
+    for pr, shapes in levels:
+        if not exhaustive and len(best) >= top and (pr + n_caps, -max(MU_CLASSES), 0.0) > best[top - 1].key[:3]:
+            break  # no design with more resistor parts can come first
+        for shape in shapes:
+            if any(c not in rc_tabs for c in shape.values()):
+                continue
+            for srch in searches:
+                found, R, complete = srch.passing(shape, max(0, budget - sum(x.probed for x in searches)))
+                outcome.proven &= complete
+                for idx, margins in found:
+                    pending += _pending(problem, srch, R, idx, margins, shape, pools, n_caps)
+        pending.sort(key=lambda x: (x[0], x[1]))
+        rest = []
+        for item in pending:
+            if not exhaustive and len(best) >= top and item[0] > best[top - 1].key[:3]:
+                continue  # can never come first
+            d = _finish(problem, item)
+            if d is not None:
+                best.append(d)
+                best.sort(key=lambda x: x.key)
+                del best[top:]
+        pending = rest
+    outcome.judged = sum(x.judged for x in searches)
+    if any(getattr(x, "cap_skipped", False) for x in searches):
+        outcome.proven = False
+    outcome.designs = best
+    return outcome
+
+
+def _pending(problem, srch, R, idx, margins, shape, pools, n_caps) -> list:
+    """Passing resistor designs that the drawer can give, with their key's lower bound."""
+    pr = sum(shape.values())
+    parts = [(R[r].t.members[idx[r]], R[r].t.counts[idx[r]]) for r in problem.res_roles]
+    sok, _left = pools.check(parts, problem.units)
+    v = {r: R[r].v[idx[r]] for r in problem.res_roles}
+    dist = _distance(problem, srch.q1, srch.q2, v)
+    mu = np.min(np.stack([m for k, m in margins.items() if not k.startswith("_")]), axis=0)
+    cls = mu_class(mu)
+    out = []
+    for k in np.flatnonzero(sok):
+        row = {r: int(idx[r][k]) for r in problem.res_roles}
+        mrow = {name: float(m[k]) for name, m in margins.items()}
+        rparts = [(m[[k]], c[[k]]) for m, c in parts]
+        out.append(((pr + n_caps, -float(cls[k]), float(dist[k])), id(srch) + k, srch, R, row, mrow, rparts, shape))
+    return out
+
+
+def _finish(problem, item) -> CascadeDesign | None:
+    lb, _n, srch, R, row, mrow, rparts, shape = item
+    got = srch.complete(R, row, mrow, rparts)
+    if got is None:
+        return None
+    (pc, ncls, nleft, tc, ccanon), caps, cap_m, _mu = got
+    pr = sum(shape.values())
+    res_canon = tuple(R[r].t.key(row[r]) for r in problem.res_roles)
+    key = (pr + pc, ncls, lb[2], nleft, tc, (srch.q1l.index, srch.q2l.index, res_canon, ccanon))
+    margins = {k: v for k, v in mrow.items() if not k.startswith("_")}
+    margins.update(cap_m)
+    choice = {r: (R[r].t, row[r]) for r in problem.res_roles}
+    choice.update(caps)
+    return CascadeDesign(key, srch.q1l, srch.q2l, choice, margins, pr + pc, lb[2])

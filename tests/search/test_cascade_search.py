@@ -226,3 +226,30 @@ def test_search_equals_exhaustive_where_designs_exist(coupling, bypass):
     fast = design_cascade(p, lines, top=3)
     slow = design_cascade(p, lines, top=3, exhaustive=True)
     assert len(fast.designs) == 3 and _keys(fast) == _keys(slow)
+
+
+@settings(max_examples=12, deadline=None, derandomize=True, suppress_health_check=[HealthCheck.too_slow])
+@given(data=st.data(), coupling=st.sampled_from(["capacitor", "direct"]), polarity=st.sampled_from(["npn", "pnp"]),
+       ie=st.sampled_from([0.3e-3, 1e-3, 3e-3]), width=st.sampled_from([1.5, 4.0]))
+def test_joins_keep_every_resistor_design_that_passes(data, coupling, polarity, ie, width):
+    # the joins and bounds only drop designs that fail: every resistor design the naive product
+    # passes over the whole box (the oracle) is among those the joined enumeration passes
+    from drawerfit.search.cascade_search import _Search
+    from drawerfit.search.pools import Pools
+    from drawerfit.search.tables import build_tables
+
+    lines = data.draw(small_drawers(polarity))
+    p = CascadeProblem(polarity, 12.0, coupling,
+                       CascadeTargets(ie1_min=ie, ie1_max=width * ie, ie2_min=ie, ie2_max=4 * width * ie, f_low=100.0),
+                       source_resistance=600.0, load=1e3, max_parts=1)
+    pools = Pools.build(lines)
+    tabs = {1: build_tables([ln for ln in lines if ln.kind == "resistor"], "resistor", 1, 1).one(1)}
+    caps = {1: build_tables([ln for ln in lines if ln.kind == "capacitor"], "capacitor", 1, 1).one(1)}
+    shape = {r: 1 for r in p.res_roles}
+    sets = []
+    for exhaustive in (False, True):
+        srch = _Search(p, tabs, caps, pools, lines[-1], lines[-1], exhaustive)
+        found, _R, complete = srch.passing(shape, 10**9)
+        assert complete
+        sets.append({tuple(int(idx[r][k]) for r in p.res_roles) for idx, _m in found for k in range(len(idx["R1"]))})
+    assert sets[0] == sets[1]

@@ -228,10 +228,11 @@ def test_search_equals_exhaustive_where_designs_exist(coupling, bypass):
     assert len(fast.designs) == 3 and _keys(fast) == _keys(slow)
 
 
-@settings(max_examples=12, deadline=None, derandomize=True, suppress_health_check=[HealthCheck.too_slow])
+@settings(max_examples=25, deadline=None, derandomize=True, suppress_health_check=[HealthCheck.too_slow])
 @given(data=st.data(), coupling=st.sampled_from(["capacitor", "direct"]), polarity=st.sampled_from(["npn", "pnp"]),
-       ie=st.sampled_from([0.3e-3, 1e-3, 3e-3]), width=st.sampled_from([1.5, 4.0]))
-def test_joins_keep_every_resistor_design_that_passes(data, coupling, polarity, ie, width):
+       ie=st.sampled_from([0.3e-3, 1e-3, 3e-3]), width=st.sampled_from([1.5, 4.0]),
+       gain=st.sampled_from([None, 3.0]), rin=st.sampled_from([None, 2e3]), bypass=st.booleans())
+def test_joins_keep_every_resistor_design_that_passes(data, coupling, polarity, ie, width, gain, rin, bypass):
     # the joins and bounds only drop designs that fail: every resistor design the naive product
     # passes over the whole box (the oracle) is among those the joined enumeration passes
     from drawerfit.search.cascade_search import _Search
@@ -240,8 +241,9 @@ def test_joins_keep_every_resistor_design_that_passes(data, coupling, polarity, 
 
     lines = data.draw(small_drawers(polarity))
     p = CascadeProblem(polarity, 12.0, coupling,
-                       CascadeTargets(ie1_min=ie, ie1_max=width * ie, ie2_min=ie, ie2_max=4 * width * ie, f_low=100.0),
-                       source_resistance=600.0, load=1e3, max_parts=1)
+                       CascadeTargets(ie1_min=ie, ie1_max=width * ie, ie2_min=ie, ie2_max=4 * width * ie, f_low=100.0,
+                                      gain_min=gain, rin_min=rin),
+                       source_resistance=600.0, load=1e3, max_parts=1, bypass=bypass and coupling == "direct")
     pools = Pools.build(lines)
     tabs = {1: build_tables([ln for ln in lines if ln.kind == "resistor"], "resistor", 1, 1).one(1)}
     caps = {1: build_tables([ln for ln in lines if ln.kind == "capacitor"], "capacitor", 1, 1).one(1)}

@@ -41,9 +41,12 @@ from .tables import build_tables
 __all__ = ["CascadeTargets", "CascadeProblem", "CascadeDesign", "CascadeOutcome", "design_cascade",
            "cascade_margins", "WORK_BUDGET"]
 
-WORK_BUDGET = 5_000_000  # resistor designs tried before the search stops unproven
+WORK_BUDGET = 1_000_000  # resistor designs tried before the search stops unproven (about 30 s)
 CHUNK = 2048  # designs tried at once (at 16 vertices, then the survivors at up to 2¹¹)
 BOX_CHUNK = 64  # designs judged over the whole box at once (times up to 2¹¹ vertices)
+EMITTER_SUMS = 4_000_000  # (RE, RE2) combinations joined on their sum at most
+G2_MAX = 2_000_000  # follower bias sets held at once at most
+STAGE1_CHUNK = 2048  # stage-1 sets judged at once (times up to 2⁷ vertices)
 CAP_COMBOS = 200_000  # capacitor combinations tried for one resistor design at most
 
 
@@ -239,27 +242,28 @@ class _Role:
         return len(self.v)
 
 
-def _bias_pairs(problem, ra: _Role, rb: _Role, emit: list, q, lo_i, hi_i, chunk: int = 200_000):
-    """Index arrays (divider top, bottom, emitter candidates...) whose emitter current may lie in
-    [lo_i, hi_i] at every vertex (a necessary condition, with slack): for each divider, the
-    nominal total emitter resistance lies between the values that give hi_i at the highest-current
-    vertex and lo_i at the lowest, the Thevenin source taken at its extremes."""
+def _bias_pairs(problem, ra: _Role, rb: _Role, emit: list, q, lo_i, hi_i, chunk: int = 20_000):
+    """Chunks of index arrays (divider top, bottom, emitter candidates...) whose emitter current
+    may lie in [lo_i, hi_i] at every vertex (a necessary condition, with slack): for each divider,
+    the nominal total emitter resistance lies between the values that give hi_i at the
+    highest-current vertex and lo_i at the lowest, the Thevenin source taken at its extremes.
+    Raises ``_TooMany`` when the emitter roles' sums alone exceed ``EMITTER_SUMS``."""
     vcc = problem.supply
     c = problem.conditions
     dv = [q.vbe_tempco * (c.ambient_min - c.nominal_temp), q.vbe_tempco * (c.ambient_max - c.nominal_temp)]
     vbe_lo, vbe_hi = q.vbe + min(dv), q.vbe + max(dv)
-    # the emitter total: sums of the emitter roles' candidates, sorted
     if len(emit) == 1:
         tot = emit[0].v
         idx = [np.arange(len(emit[0]))]
     else:
-        g = np.meshgrid(*[np.arange(len(e)) for e in emit], indexing="ij")
-        idx = [x.reshape(-1) for x in g]
+        if int(np.prod([len(e) for e in emit])) > EMITTER_SUMS:
+            raise _TooMany("the emitter resistor and its bypassed part have too many combinations")
+        idx = _product(*[len(e) for e in emit])
         tot = sum(e.v[i] for e, i in zip(emit, idx))
     order = np.argsort(tot, kind="stable")
     tot, idx = tot[order], [i[order] for i in idx]
+    tmax = max(float(np.max(e.tol)) for e in emit)
     n_a, n_b = len(ra), len(rb)
-    out = []
     for s0 in range(0, n_a * n_b, chunk):
         flat = np.arange(s0, min(n_a * n_b, s0 + chunk))
         ia, ib = flat // n_b, flat % n_b
@@ -273,7 +277,6 @@ def _bias_pairs(problem, ra: _Role, rb: _Role, emit: list, q, lo_i, hi_i, chunk:
         with np.errstate(divide="ignore", invalid="ignore"):
             r_max = (vth_hi - vbe_lo) / lo_i - rth_lo / (q.hfe_max + 1.0)
             r_min = (vth_lo - vbe_hi) / hi_i - rth_hi / (q.hfe_min + 1.0)
-        tmax = max(float(np.max(e.tol)) for e in emit)
         r_max = r_max / (1 - tmax) * (1 + 1e-9)
         r_min = r_min / (1 + tmax) * (1 - 1e-9)
         a = np.searchsorted(tot, r_min, side="left")
@@ -283,10 +286,25 @@ def _bias_pairs(problem, ra: _Role, rb: _Role, emit: list, q, lo_i, hi_i, chunk:
             continue
         rep = np.repeat(np.arange(len(flat)), cnt)
         pos = np.repeat(a, cnt) + (np.arange(cnt.sum()) - np.repeat(np.cumsum(cnt) - cnt, cnt))
-        out.append((ia[rep], ib[rep], *[i[pos] for i in idx]))
-    if not out:
-        return [np.zeros(0, np.int64)] * (2 + len(emit))
-    return [np.concatenate([o[k] for o in out]) for k in range(2 + len(emit))]
+        for p0 in range(0, len(rep), chunk):
+            sl = slice(p0, p0 + chunk)
+            yield [ia[rep[sl]], ib[rep[sl]], *[i[pos[sl]] for i in idx]]
+
+
+class _TooMany(Exception):
+    """A join whose inputs alone are past the search's limits (the answer is then not proven)."""
+
+
+def _product_chunks(sizes, chunk: int):
+    """The product of ``range(size)`` for each size, as chunks of index arrays (never whole)."""
+    total = int(np.prod(sizes)) if len(sizes) else 0
+    for s0 in range(0, total, chunk):
+        flat = np.arange(s0, min(total, s0 + chunk))
+        out = []
+        for size in reversed(sizes):
+            out.append(flat % size)
+            flat = flat // size
+        yield out[::-1]
 
 
 def _product(*sizes):
@@ -294,27 +312,47 @@ def _product(*sizes):
     return [x.reshape(-1) for x in g]
 
 
-def _stage1_active(problem, q1, R: dict, i1: dict) -> np.ndarray:
-    """Q1 active at every stage-1 vertex with its collector unloaded: a necessary condition (the
-    follower only draws more current through RC, lowering VCE1)."""
-    from ..analysis.cascade import evaluate_cascade_dc
+def _stage1_ok(problem, q1, R: dict, i1: dict) -> np.ndarray:
+    """Necessary conditions on stage 1 alone, at every stage-1 vertex, its collector unloaded:
+    Q1 active (the follower only draws more current through RC, lowering VCE1), IE1 in its window,
+    rin at least rin_min (stage 1 alone sets both), the powers of R1, R2, RE, RE2 (exact) and RC
+    (the follower's base current only adds), Q1's IC (exact), and the gain unloaded at least
+    gain_min (the follower's input and its gain below 1 only lower it)."""
+    from ..analysis.cascade import evaluate_cascade_dc  # noqa: F401  (cascade_vertices evaluates)
+    from ..analysis.dc import ACTIVE
 
     n = len(i1["R1"])
     if not n:
         return np.zeros(0, bool)
     v = {r: R[r].v[i1[r]] for r in i1}
     tol = {r: R[r].tol[i1[r]] for r in i1}
-    # an unloaded collector: the follower's base through a huge emitter resistor, capacitor-coupled
+    # an unloaded collector: the follower's base through huge resistors, capacitor-coupled
     kw = dict(coupling="capacitor", polarity=problem.polarity, supply=problem.supply, r1=v["R1"], r2=v["R2"],
               rc=v["RC"], re=v["RE"], re2=v.get("RE2", np.zeros(n)), r3=np.full(n, 1e12), r4=np.full(n, 1e12),
-              re3=np.full(n, 1e12), bypassed=problem.bypass, vbe1=q1.vbe, vbe2=q1.vbe, vce_sat1=q1.vce_sat,
-              vce_sat2=q1.vce_sat, vbe_tempco1=q1.vbe_tempco, vbe_tempco2=q1.vbe_tempco)
+              re3=np.full(n, 1e12), rs=problem.source_resistance, bypassed=problem.bypass, vbe1=q1.vbe,
+              vbe2=q1.vbe, vce_sat1=q1.vce_sat, vce_sat2=q1.vce_sat, vbe_tempco1=q1.vbe_tempco,
+              vbe_tempco2=q1.vbe_tempco)
     fig, _ = cascade_vertices(tolerances={r.lower(): tol[r] for r in tol}, hfe1_min=q1.hfe_min, hfe1_max=q1.hfe_max,
                               hfe2_min=100.0, hfe2_max=100.0, temp_min=problem.conditions.ambient_min,
                               temp_max=problem.conditions.ambient_max, **kw)
-    from ..analysis.dc import ACTIVE
-
-    return np.all(fig.state1 == ACTIVE, axis=0)
+    t = problem.targets
+    ok = np.all(fig.state1 == ACTIVE, axis=0)
+    slack = 1e-9
+    ok &= np.all(fig.ie1 >= t.ie1_min * (1 - slack), axis=0) & np.all(fig.ie1 <= t.ie1_max * (1 + slack), axis=0)
+    if t.rin_min is not None:
+        ok &= np.all(np.where(fig.state1 == ACTIVE, fig.rin, np.inf) >= t.rin_min * (1 - slack), axis=0)
+    if t.gain_min is not None:
+        rin = fig.rin
+        unloaded = np.abs(fig.gain1) * rin / (problem.source_resistance + rin)
+        ok &= np.all(np.where(fig.state1 == ACTIVE, unloaded, np.inf) >= t.gain_min * (1 - slack), axis=0)
+    c = problem.conditions
+    for role, figname in (("R1", "p_r1"), ("R2", "p_r2"), ("RE", "p_re"), ("RE2", "p_re2"), ("RC", "p_rc")):
+        if role in i1:
+            limit = R[role].rating[i1[role]] * c.resistor_derating
+            ok &= np.all(getattr(fig, figname) <= limit * (1 + slack), axis=0)
+    if q1.ic_max is not None:
+        ok &= np.all(2.0 * fig.ic1 <= q1.ic_max * (1 + slack), axis=0)
+    return ok
 
 
 class _Search:
@@ -328,55 +366,73 @@ class _Search:
         self.q1, self.q2 = transistor_model(q1l), transistor_model(q2l)
         self.exhaustive = exhaustive
         self.judged = 0  # designs judged over the whole box
-        self.probed = 0  # designs tried at the first vertices
+        self.probed = 0  # designs tried (stage 1 alone, and whole at the first vertices)
+        self.limits: set = set()
 
     # resistor designs of one shape (role -> part count) that pass the whole box
     def passing(self, shape: dict, budget: int):
+        """(passing designs as [(index arrays, margins)], role tables, complete): the resistor
+        designs of one shape that pass the whole box; ``complete`` False when the work budget
+        (designs tried, ``self.probed``) ran out first."""
         p = self.p
         R = {r: _Role(self.rc_tabs[shape[r]]) for r in p.res_roles}
         emit = ["RE"] + (["RE2"] if p.bypass else [])
+        g1_roles = ["R1", "R2", *emit]
         t = p.targets
-        if self.exhaustive:
-            g1 = dict(zip(["R1", "R2", *emit], _product(*(len(R[r]) for r in ["R1", "R2", *emit]))))
-        else:
-            a, b, *e = _bias_pairs(p, R["R1"], R["R2"], [R[r] for r in emit], self.q1, t.ie1_min, t.ie1_max)
-            g1 = dict(zip(["R1", "R2", *emit], [a, b, *e]))
-        # with RC
-        n1, nrc = len(g1["R1"]), len(R["RC"])
-        k1, kc = _product(n1, nrc)
-        s1 = {r: g1[r][k1] for r in g1}
-        s1["RC"] = kc
-        if not self.exhaustive and len(k1):
-            keep = np.zeros(len(k1), bool)
-            for c0 in range(0, len(k1), 4096):
-                sl = slice(c0, c0 + 4096)
-                keep[sl] = _stage1_active(p, self.q1, R, {r: s1[r][sl] for r in s1})
-            s1 = {r: s1[r][keep] for r in s1}
-        # the follower
-        if p.coupling == "capacitor":
-            if self.exhaustive or t.ie2_min is None:
-                g2 = dict(zip(["R3", "R4", "RE3"], _product(len(R["R3"]), len(R["R4"]), len(R["RE3"]))))
+        found: list = []
+        if self.probed >= budget:
+            return found, R, False
+        try:
+            if p.coupling == "capacitor":
+                roles2 = ["R3", "R4", "RE3"]
+                if self.exhaustive or t.ie2_min is None:
+                    chunks = _product_chunks([len(R[r]) for r in roles2], 1 << 16)
+                else:
+                    chunks = _bias_pairs(p, R["R3"], R["R4"], [R["RE3"]], self.q2, t.ie2_min, t.ie2_max)
+                g2 = {r: [] for r in roles2}
+                held = 0
+                for ch in chunks:
+                    for r, a in zip(roles2, ch):
+                        g2[r].append(a)
+                    held += len(ch[0])
+                    if held > G2_MAX:
+                        raise _TooMany("the follower's bias has too many candidates")
+                g2 = {r: (np.concatenate(a) if a else np.zeros(0, np.int64)) for r, a in g2.items()}
             else:
-                a, b, e = _bias_pairs(p, R["R3"], R["R4"], [R["RE3"]], self.q2, t.ie2_min, t.ie2_max)
-                g2 = {"R3": a, "R4": b, "RE3": e}
-        else:
-            g2 = {"RE3": np.arange(len(R["RE3"]))}
-        n_s1, n_g2 = len(s1["R1"]), len(g2["RE3"])
-        total = n_s1 * n_g2
-        found, complete = [], True
-        for c0 in range(0, total, CHUNK):
-            if self.probed >= budget:
-                complete = False
-                break
-            flat = np.arange(c0, min(total, c0 + CHUNK))
-            i, j = flat // max(n_g2, 1), flat % max(n_g2, 1)
-            idx = {r: s1[r][i] for r in s1}
-            idx.update({r: g2[r][j] for r in g2})
-            ok, margins = self._judge(R, idx)
-            self.probed += len(flat)
-            if ok.any():
-                found.append(({r: idx[r][ok] for r in idx}, {k: m[ok] for k, m in margins.items()}))
-        return found, R, complete
+                g2 = {"RE3": np.arange(len(R["RE3"]))}
+            n_g2 = len(g2["RE3"])
+            if self.exhaustive:
+                g1_chunks = _product_chunks([len(R[r]) for r in g1_roles], 1 << 14)
+            else:
+                g1_chunks = _bias_pairs(p, R["R1"], R["R2"], [R[r] for r in emit], self.q1, t.ie1_min, t.ie1_max)
+            nrc = len(R["RC"])
+            for g1 in g1_chunks:
+                g1 = dict(zip(g1_roles, g1))
+                for k1, kc in _product_chunks([len(g1["R1"]), nrc], STAGE1_CHUNK):
+                    if self.probed >= budget:
+                        return found, R, False
+                    s1 = {r: g1[r][k1] for r in g1}
+                    s1["RC"] = kc
+                    self.probed += len(kc)
+                    if not self.exhaustive:
+                        keep = _stage1_ok(p, self.q1, R, s1)
+                        s1 = {r: a[keep] for r, a in s1.items()}
+                    n_s1 = len(s1["RC"])
+                    for c0 in range(0, n_s1 * n_g2, CHUNK):
+                        if self.probed >= budget:
+                            return found, R, False
+                        flat = np.arange(c0, min(n_s1 * n_g2, c0 + CHUNK))
+                        i, j = flat // n_g2, flat % n_g2
+                        idx = {r: s1[r][i] for r in s1}
+                        idx.update({r: g2[r][j] for r in g2})
+                        ok, margins = self._judge(R, idx)
+                        self.probed += len(flat)
+                        if ok.any():
+                            found.append(({r: idx[r][ok] for r in idx}, {k: m[ok] for k, m in margins.items()}))
+        except _TooMany as exc:
+            self.limits.add(str(exc))
+            return found, R, False
+        return found, R, True
 
     def _judge(self, R, idx):
         """(passes, margins) of resistor designs over the whole box.  First at a few of its
@@ -568,6 +624,8 @@ def design_cascade(problem: CascadeProblem, lines, *, top: int = 1, exhaustive: 
                 del best[top:]
         pending = rest
     outcome.judged = sum(x.judged for x in searches)
+    for x in searches:
+        outcome.reasons += sorted(x.limits - set(outcome.reasons))
     if any(getattr(x, "cap_skipped", False) for x in searches):
         outcome.proven = False
     outcome.designs = best

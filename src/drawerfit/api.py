@@ -40,28 +40,38 @@ def load_stock(stock: Any, *, strict: bool = False):
 
 
 def load_spec(spec: Any, stock: Any = None):
-    """A ``Spec`` from a TOML spec's path (``stock`` resolves a transistor given by its label)."""
+    """A ``Spec`` (a ``CascadeSpec`` for a two-stage amplifier) from a TOML spec's path (``stock``
+    resolves a transistor given by its label)."""
+    from .io.cascade_spec import CascadeSpec
     from .io.spec import Spec, load_spec as _load
 
-    if isinstance(spec, Spec):
+    if isinstance(spec, (Spec, CascadeSpec)):
         return spec
     return _load(spec, stock=None if stock is None else load_stock(stock))
 
 
 def analyse(stage: Any, conditions=None, monte_carlo: int = 0, seed: int = 0, targets=None, *, stock: Any = None):
-    """The ``Analysis`` of a stage: a ``stages.Stage``, a ``Spec`` with [parts], or a spec's path.
+    """The analysis of a stage: a ``stages.Stage``, a two-stage ``stages.two_stage.TwoStage``, a spec
+    with [parts] (``Spec`` or ``CascadeSpec``), or a spec's path.
 
-    A spec brings its own limits and targets unless ``conditions`` or ``targets`` are given;
-    ``monte_carlo`` random builds (seeded by ``seed``) add the spread of the figures.
+    A single stage gives an ``analysis.Analysis``, a two-stage amplifier an
+    ``analysis.cascade_result.CascadeAnalysis``.  A spec brings its own limits and targets unless
+    ``conditions`` or ``targets`` are given; ``monte_carlo`` random builds (seeded by ``seed``)
+    add the spread of the figures.
     """
     from .analysis import analyse as _analyse
     from .stages import Stage
+    from .stages.two_stage import TwoStage
 
-    if not isinstance(stage, Stage):
+    if not isinstance(stage, (Stage, TwoStage)):
         spec = load_spec(stage, stock)
         conditions = spec.conditions if conditions is None else conditions
         targets = spec.targets if targets is None else targets
         stage = spec.stage()
+    if isinstance(stage, TwoStage):
+        from .analysis.cascade_result import analyse_cascade
+
+        return analyse_cascade(stage, conditions, monte_carlo=monte_carlo, seed=seed, targets=targets)
     return _analyse(stage, conditions, monte_carlo=monte_carlo, seed=seed, targets=targets)
 
 

@@ -164,3 +164,18 @@ def test_any_malformed_tree_is_a_spec_error_never_a_crash(tree):
         parse_spec(data, "hostile.toml")
     except SpecError as exc:
         assert str(exc).startswith("hostile.toml")
+
+
+def test_the_documented_example_and_the_sample_load():
+    import re
+    import tomllib
+    from pathlib import Path
+
+    root = Path(__file__).resolve().parents[2]
+    doc = (root / "docs" / "spec-format.md").read_text(encoding="utf-8")
+    blocks = [b for b in re.findall(r"```toml\n(.*?)```", doc, flags=re.S) if 'topology = "two-stage"' in b]
+    assert len(blocks) == 1
+    spec = parse_spec(tomllib.loads(blocks[0]), "docs/spec-format.md")
+    assert spec.circuit().bypassed and spec.targets.f_low == 20
+    sample = load_spec(root / "inventory_samples" / "specs" / "two_stage_buffered.toml")
+    assert sample.circuit().load == 600.0

@@ -1,0 +1,86 @@
+"""io.saved_two_stage and the reading side of io.saved_design: a saved two-stage design.
+
+Expected values: the round trip (what is written is read back as the same amplifier: a property),
+Ohm's law for two equal resistors in parallel (560 Ω ∥ 560 Ω = 280 Ω), the IEC 60062 letter code
+("280R", "4k7") and the counts of a pick list (parts per unit × units) worked by hand from the
+invented drawer in tests/io/two_stage_drawer.py.
+"""
+
+from __future__ import annotations
+
+import pytest
+
+from drawerfit.io.saved_design import load_design
+from drawerfit.io.saved_two_stage import two_stage_tree, write_two_stage_design
+from drawerfit.parts import SpecError
+from drawerfit.stock import load_stock
+
+from .two_stage_drawer import build, write_drawer
+
+
+@pytest.fixture()
+def made(tmp_path):
+    csv = write_drawer(tmp_path)
+    stock = load_stock(str(csv))
+    circuit, role_lines, transistor_lines, arrangements = build(stock)
+    path = write_two_stage_design(tmp_path / "amp.toml", circuit, role_lines, units=4, stock_file=str(csv),
+                                  transistor_lines=transistor_lines, arrangements=arrangements)
+    return path, circuit, stock
+
+
+def test_the_file_reads_back_as_the_same_amplifier(made):
+    path, circuit, stock = made
+    design = load_design(path)
+    assert design.stage == circuit  # round trip: every value, tolerance, rating, both transistors
+    assert design.units == 4 and design.stock_checksum == stock.checksum
+    assert design.transistor_places["Q1"][0] == "T-1" and design.transistor_places["Q2"][0] == "T-2"
+    # Ohm's law: two 560 Ω in parallel are 280 Ω, written in the letter code (IEC 60062)
+    text = path.read_text(encoding="utf-8")
+    assert 'value = "280R"' in text and 'topology = "two-stage"' in text
+    re3 = design.roles["RE3"]
+    assert re3.arrangement == "parallel" and [p.value for p in re3.parts] == [560.0, 560.0]
+
+
+def test_the_pick_list_counts_parts_per_unit_times_units(made):
+    path, _, _ = made
+    picks = {item.location: item for item in load_design(path).pick_list}
+    # by hand: RE3 is two parts from RB-1, C1 and C2 both come from CE-1, everything else one part
+    assert (picks["RB-1"].per_unit, picks["RB-1"].count) == (2, 8)
+    assert (picks["CE-1"].per_unit, picks["CE-1"].count) == (2, 8)
+    assert set(picks["CE-1"].roles) == {"C1", "C2"} and set(picks["RB-1"].roles) == {"RE3a", "RE3b"}
+    for loc in ("RA-1", "RA-2", "RA-3", "RA-4", "RA-5", "RA-6", "RA-7", "CE-2", "CE-3", "T-1", "T-2"):
+        assert (picks[loc].per_unit, picks[loc].count) == (1, 4), loc
+    assert len(picks) == 13  # every line of the invented drawer, once
+
+
+def test_the_analysis_of_the_file_is_the_amplifiers(made):
+    import drawerfit
+
+    path, circuit, _ = made
+    from_file = drawerfit.analyse(str(path)).to_dict()
+    direct = drawerfit.analyse(circuit).to_dict()
+    assert from_file["dc"] == direct["dc"] and from_file["ac"] == direct["ac"]
+
+
+def test_a_role_of_several_parts_needs_its_arrangement(tmp_path):
+    stock = load_stock(str(write_drawer(tmp_path)))
+    circuit, role_lines, transistor_lines, _ = build(stock)
+    with pytest.raises(SpecError, match="RE3: 2 parts: say how they are wired"):
+        two_stage_tree(circuit, role_lines, units=1, transistor_lines=transistor_lines)
+    with pytest.raises(SpecError, match="RE3: unknown arrangement"):
+        two_stage_tree(circuit, role_lines, units=1, arrangements={"RE3": "sideways"})
+    with pytest.raises(SpecError, match="units must be"):
+        two_stage_tree(circuit, role_lines, units=0, arrangements={"RE3": "parallel"})
+    with pytest.raises(SpecError, match="RX: the amplifier has no such part"):
+        two_stage_tree(circuit, {"RX": role_lines["R1"]}, units=1)
+    with pytest.raises(SpecError, match="Q3: the transistors are Q1, Q2"):
+        two_stage_tree(circuit, {}, units=1, transistor_lines={"Q3": transistor_lines["Q1"]})
+
+
+def test_a_hand_edited_file_with_an_unknown_role_is_a_spec_error(made):
+    path, _, _ = made
+    text = path.read_text(encoding="utf-8").replace("[design.roles.Q2]", "[design.roles.Q7]")
+    bad = path.with_name("bad.toml")
+    bad.write_text(text, encoding="utf-8")
+    with pytest.raises(SpecError, match=r"design\.roles\.Q7: no such role"):
+        load_design(bad)

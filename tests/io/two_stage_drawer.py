@@ -1,6 +1,7 @@
 """An invented drawer and the two-stage amplifier built from it, for the saved-design, export and
 take tests (not a test module).  The amplifier is inventory_samples/specs/two_stage_buffered.toml
-with RE3 made of two 560 Ω parts in parallel (280 Ω) and C1, C2 from one bin."""
+with RE3 made of two 560 Ω parts in parallel (280 Ω) and C1, C2 from one bin; and a direct-coupled
+PNP amplifier (``direct_pnp``) with no stock behind it."""
 
 from __future__ import annotations
 
@@ -58,3 +59,12 @@ def build(stock):
     circuit = TwoStage("npn", 12.0, "capacitor", parts, model(transistor_lines["Q1"]), model(transistor_lines["Q2"]),
                        600.0, 600.0)
     return circuit, role_lines, transistor_lines, {"RE3": "parallel"}
+
+
+def direct_pnp() -> TwoStage:
+    # the PNP mirror: emitter resistors to the supply, RC and Q2's collector to ground; R1 on the
+    # supply side (docs/spec-format.md, "Two-stage amplifier")
+    parts = {"R1": Part(10e3, 0.05), "R2": Part(47e3, 0.05), "RC": Part(3.3e3, 0.05), "RE": Part(1.2e3, 0.05),
+             "C1": Part(10e-6, 0.2, 25.0, True), "RE3": Part(1e3, 0.05, 0.5), "C3": Part(220e-6, 0.2, 16.0, True)}
+    q = TransistorModel("pnp", 100, 300, vbe=0.66, vceo=40.0, label="QP-GEN")
+    return TwoStage("pnp", 15.0, "direct", parts, q, q, 1e3, 2.2e3)

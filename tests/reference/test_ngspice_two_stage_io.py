@@ -17,11 +17,9 @@ from click.testing import CliRunner
 
 from drawerfit.cli import main
 from drawerfit.io.saved_two_stage import write_two_stage_design
-from drawerfit.stages import Part, TransistorModel
-from drawerfit.stages.two_stage import TwoStage
 from drawerfit.stock import load_stock
 
-from ..io.two_stage_drawer import build, write_drawer
+from ..io.two_stage_drawer import build, direct_pnp, write_drawer
 from .spice_harness import run_deck
 
 pytestmark = pytest.mark.ngspice
@@ -36,15 +34,6 @@ wrdata mid.txt vm(out) vr(out)
 """
 
 
-def _direct_pnp() -> TwoStage:
-    # the PNP mirror: emitter resistors to the supply, RC and Q2's collector to ground; R1 on the
-    # supply side (docs/spec-format.md, "Two-stage amplifier")
-    parts = {"R1": Part(10e3, 0.05), "R2": Part(47e3, 0.05), "RC": Part(3.3e3, 0.05), "RE": Part(1.2e3, 0.05),
-             "C1": Part(10e-6, 0.2, 25.0, True), "RE3": Part(1e3, 0.05, 0.5), "C3": Part(220e-6, 0.2, 16.0, True)}
-    q = TransistorModel("pnp", 100, 300, vbe=0.66, vceo=40.0, label="QP-GEN")
-    return TwoStage("pnp", 15.0, "direct", parts, q, q, 1e3, 2.2e3)
-
-
 @pytest.mark.parametrize("kind", ["capacitor-npn", "direct-pnp"])
 def test_exported_netlist_runs_and_agrees_with_analyze(tmp_path, kind):
     if kind == "capacitor-npn":
@@ -53,7 +42,7 @@ def test_exported_netlist_runs_and_agrees_with_analyze(tmp_path, kind):
         write_two_stage_design(tmp_path / "amp.toml", circuit, role_lines, units=2, stock_file=str(csv),
                                transistor_lines=transistor_lines, arrangements=arrangements)
     else:
-        circuit = _direct_pnp()
+        circuit = direct_pnp()
         write_two_stage_design(tmp_path / "amp.toml", circuit, {}, units=1)
     design = str(tmp_path / "amp.toml")
     r = CliRunner().invoke(main, ["export", design, "--netlist", str(tmp_path / "amp.cir"), "--quiet"])

@@ -84,3 +84,50 @@ def test_a_hand_edited_file_with_an_unknown_role_is_a_spec_error(made):
     bad.write_text(text, encoding="utf-8")
     with pytest.raises(SpecError, match=r"design\.roles\.Q7: no such role"):
         load_design(bad)
+
+
+# --- the hand-written reference file (tests/data/io/two_stage_design.toml) --------------------------
+
+def test_the_reference_two_stage_design_reads_as_written():
+    import hashlib
+    import tomllib
+    from pathlib import Path
+
+    data = Path(__file__).resolve().parents[1] / "data" / "io"
+    ref = data / "two_stage_design.toml"
+    d = load_design(ref)
+    amp = d.stage
+    # IEC 60062 codes as written by hand: 20k, 4k7 1 %, 1k, 22µ
+    assert amp.coupling == "direct" and amp.supply == 9.0 and amp.load == 1e3
+    assert amp.parts["R1"].value == 20e3 and amp.parts["R2"].value == 4700.0
+    assert amp.parts["R2"].tolerance == pytest.approx(0.01) and amp.parts["C3"].value == pytest.approx(22e-6)
+    assert amp.q1 == amp.q2 and amp.q1.label == "QX-TEST-1" and amp.q1.pd == 0.5
+    assert d.roles["R1"].arrangement == "series" and [p.value for p in d.roles["R1"].parts] == [10e3, 10e3]
+    assert d.transistor_places["Q2"][0] == "T1"
+    tree = tomllib.loads(ref.read_text(encoding="utf-8"))
+    assert d.stock_checksum == "sha256:" + hashlib.sha256((data / "drawer_semicolon.csv").read_bytes()).hexdigest()
+    assert [(p.location, p.per_unit, p.count, p.roles) for p in d.pick_list] == \
+        [(e["location"], e["per_unit"], e["count"], tuple(e["roles"])) for e in tree["pick_list"]]
+
+
+def test_the_writer_reproduces_the_reference_design(tmp_path):
+    # round trip: the reference amplifier and its stock lines, written again, read back the same
+    import shutil
+    from pathlib import Path
+
+    data = Path(__file__).resolve().parents[1] / "data" / "io"
+    drawer = tmp_path / "drawer_semicolon.csv"
+    shutil.copy(data / "drawer_semicolon.csv", drawer)
+    ref = load_design(data / "two_stage_design.toml")
+    stock = load_stock(str(drawer))
+    by_row = {line.source.row: line for line in stock.lines}
+    role_lines = {role: [(by_row[c.parts[0].source["row"]], len(c.parts))] for role, c in ref.roles.items()}
+    again = write_two_stage_design(tmp_path / "again.toml", ref.stage, role_lines, units=ref.units,
+                                   stock_file=str(drawer), transistor_lines={"Q1": by_row[7], "Q2": by_row[7]},
+                                   arrangements={"R1": "series"})
+    d = load_design(again)
+    assert d.stage == ref.stage and d.units == ref.units and d.stock_checksum == ref.stock_checksum
+    key = lambda p: (p.source["row"], p.per_unit, p.count, sorted(p.roles))  # noqa: E731
+    assert sorted(map(key, d.pick_list)) == sorted(map(key, ref.pick_list))
+    assert {r: (c.arrangement, [p.value for p in c.parts]) for r, c in d.roles.items()} == \
+        {r: (c.arrangement, [p.value for p in c.parts]) for r, c in ref.roles.items()}

@@ -174,7 +174,18 @@ def substitutes(polarity: Any = None, stock: Any = None, *, spec: Any = None, vc
         from .io.spec import load_spec as _load
 
         spec_obj = _load(spec, stock=stock, label_may_be_absent=True)
+    _single_stage_only(spec_obj, "trying transistor substitutes in a stage (--in)")
     return substitutes_for(stock, spec=spec_obj, given=given, units=units, top=top)
+
+
+def _single_stage_only(spec, what: str) -> None:
+    """SpecError for a two-stage spec where only single stages are served yet."""
+    from .io.cascade_spec import CascadeSpec
+    from .parts import SpecError
+
+    if isinstance(spec, CascadeSpec):
+        raise SpecError(f"{spec.path}: {what} works on single stages; a two-stage amplifier is not supported "
+                        "there yet (analyze, report, export and take are)")
 
 
 def _requirement_value(name: str, raw: Any, unit: str, error) -> float:
@@ -262,6 +273,7 @@ def mend(spec: Any, stock: Any, *, fixed=(), broken=(), units: int = 1, max_part
         from .io.spec import load_spec as _load
 
         spec = _load(spec, stock=stock, label_may_be_absent=True)  # the board's Q1 need not be in the drawer
+    _single_stage_only(spec, "mending a board (design --keep)")
     return _mend(spec, stock, fixed=fixed, broken=broken, units=units, max_parts=max_parts, guarantee=guarantee,
                  prefer=prefer, top=top, exhaustive=exhaustive, budget=budget)
 

@@ -191,3 +191,26 @@ def test_repr_and_tables():
     assert list(a.to_pandas("checks").name) == [c.name for c in a.checks]
     with pytest.raises(ValueError):
         a.to_pandas("samples")
+
+
+def test_a_transistor_that_saturates_inside_the_box_fails_its_state_check():
+    # Q1 with hFE 40–600 and a large RC: active at the nominal hFE, saturated at the top of the
+    # range.  The vertex itself is evaluated here by the engine (held to ngspice in
+    # tests/reference/test_ngspice_cascade.py); the state check must see the vertex.
+    from drawerfit.analysis.cascade import evaluate_cascade_dc
+    from drawerfit.analysis.dc import ACTIVE, SATURATED
+
+    from drawerfit.analysis.cascade import cascade_arguments
+
+    # a weak divider (470k/47k) and a small emitter resistance make IE follow hFE
+    amp = _amp(hfe1=(40, 600), R1=Part(470e3, 0.0), R2=Part(47e3, 0.0), RC=Part(8.2e3, 0.0), RE=Part(100.0, 0.0),
+               RE2=Part(100.0, 0.0))
+    kw = {k: v for k, v in cascade_arguments(amp).items() if k not in ("c1", "c2", "c3", "ce")}
+    at_nominal = evaluate_cascade_dc(bypassed=True, **kw)
+    kw["hfe1"] = 600.0
+    at_top = evaluate_cascade_dc(bypassed=True, **kw)
+    assert int(at_nominal.state1) == ACTIVE and int(at_top.state1) == SATURATED  # the case is what it says
+    by = {c.name: c for c in analyse_cascade(amp).checks}
+    assert by["Q1 state"].ok is False and "leaves the active region" in by["Q1 state"].message
+    # Q2 has its own divider (capacitor coupling): Q1's hFE does not move it, it stays active
+    assert by["Q2 state"].ok is True

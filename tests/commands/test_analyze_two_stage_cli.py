@@ -92,3 +92,12 @@ def test_a_high_supply_prints_the_high_voltage_caution(tmp_path):
     r = CliRunner().invoke(main, ["analyze", str(spec), "--json"])
     assert r.exit_code == 0, r.output
     assert "can kill" in r.stderr and "local electrical codes" in r.stderr
+
+
+@pytest.mark.parametrize("args", [["match", "npn", "--in", str(SAMPLE)], ["design", str(SAMPLE), "--keep"]],
+                         ids=["match --in", "design --keep"])
+def test_commands_for_single_stages_refuse_a_two_stage_spec_plainly(tmp_path, args):
+    stock = ROOT / "inventory_samples" / "teaching_lab.csv"
+    r = CliRunner().invoke(main, [*args, "--stock", str(stock)])
+    assert r.exit_code == 2, r.output
+    assert "two-stage amplifier is not supported there yet" in r.output and "Traceback" not in r.output

@@ -14,7 +14,7 @@ from ..constants import POWER_RESISTOR, STIFF_DIVIDER_FACTOR
 from ..values import format_si
 from .cascade import CAP_FIGURE, POWER_FIGURE
 from .cascade_targets import CASCADE_TARGET_RULES, CASCADE_TARGET_UNITS, cascade_target_margins
-from .dc import ACTIVE, CUTOFF, SATURATED
+from .dc import CUTOFF, SATURATED
 from .result import Check
 
 __all__ = ["cascade_checks", "cascade_hot_parts", "CAPACITOR_ENDS"]
@@ -24,30 +24,37 @@ CAPACITOR_ENDS = {"C1": ("base 1", "the source"), "C2": ("collector 1", "base 2"
                   "C3": ("Q2's emitter", "the load"), "CE": ("the RE/RE2 junction", None)}
 
 
-def _state_check(name: str, index: int, circuit, nominal, worst) -> Check:
-    """One transistor's state at nominal values and (as far as the box's ends show) across it."""
+def _leaves(index: int, circuit, worst) -> bool:
+    """True when the box's ends show transistor ``index`` out of the active region somewhere: its
+    lowest IE is zero (cut off) or its lowest VCE reaches VCE(sat) (saturated)."""
     t = circuit.q1 if index == 1 else circuit.q2
-    state = int(getattr(nominal, f"state{index}"))
-    vce = float(getattr(nominal, f"vce{index}"))
-    low_vce, low_ie = float(worst.low[f"vce{index}"]), float(worst.low[f"ie{index}"])
-    leaves = low_ie <= 0 or low_vce <= t.vce_sat + 1e-9 or not bool(worst.all_active)
-    if state == CUTOFF:
-        return Check(f"{name} state", False, vce, t.vce_sat,
-                     f"{name} is cut off: its base sits below the turn-on voltage; no signal passes", "V", "state")
-    if state == SATURATED:
-        return Check(f"{name} state", False, vce, t.vce_sat,
-                     f"{name} is saturated (VCE {format_si(vce, 'V')}): the amplifier does not pass the signal",
-                     "V", "state")
-    if leaves and (low_ie <= 0 or low_vce <= t.vce_sat + 1e-9):
-        return Check(f"{name} state", False, vce, t.vce_sat,
-                     f"{name} leaves the active region somewhere in the tolerance, hFE or temperature range",
-                     "V", "state")
-    if not bool(worst.all_active):
-        return Check(f"{name} state", False, vce, t.vce_sat,
-                     "Q1 or Q2 leaves the active region somewhere in the tolerance, hFE or temperature range",
-                     "V", "state")
-    return Check(f"{name} state", True, vce, t.vce_sat,
-                 f"{name} is in the active region at nominal values and across the tolerance box", "V", "state")
+    return float(worst.low[f"ie{index}"]) <= 0 or float(worst.low[f"vce{index}"]) <= t.vce_sat + 1e-9
+
+
+def _state_checks(circuit, nominal, worst) -> list[Check]:
+    """Each transistor's state at nominal values and across the tolerance box."""
+    leaves = {1: _leaves(1, circuit, worst), 2: _leaves(2, circuit, worst)}
+    # the box has a vertex out of the active region that neither transistor's own ends show
+    unknown = not bool(worst.all_active) and not any(leaves.values())
+    out = []
+    for index in (1, 2):
+        name = f"Q{index}"
+        t = circuit.q1 if index == 1 else circuit.q2
+        state = int(getattr(nominal, f"state{index}"))
+        vce = float(getattr(nominal, f"vce{index}"))
+        if state == CUTOFF:
+            ok, msg = False, f"{name} is cut off: its base sits below the turn-on voltage; no signal passes"
+        elif state == SATURATED:
+            ok, msg = False, (f"{name} is saturated (VCE {format_si(vce, 'V')}): the amplifier does not pass "
+                              "the signal")
+        elif leaves[index]:
+            ok, msg = False, f"{name} leaves the active region somewhere in the tolerance, hFE or temperature range"
+        elif unknown:
+            ok, msg = False, "Q1 or Q2 leaves the active region somewhere in the tolerance, hFE or temperature range"
+        else:
+            ok, msg = True, f"{name} is in the active region at nominal values and across the tolerance box"
+        out.append(Check(f"{name} state", ok, vce, t.vce_sat, msg, "V", "state"))
+    return out
 
 
 def _target_checks(targets, worst) -> list[Check]:
@@ -157,7 +164,7 @@ def cascade_checks(circuit, conditions, nominal, worst, targets) -> list[Check]:
     ``nominal`` is its ``CascadeFigures`` (0-d), ``worst`` its ``cascade_worst_case``;
     ``targets`` a ``CascadeTargets`` or None.
     """
-    out = [_state_check("Q1", 1, circuit, nominal, worst), _state_check("Q2", 2, circuit, nominal, worst)]
+    out = _state_checks(circuit, nominal, worst)
     if targets is not None and targets.given():
         out += _target_checks(targets, worst)
     for role, attr in POWER_FIGURE.items():

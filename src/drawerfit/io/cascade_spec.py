@@ -81,8 +81,10 @@ class CascadeSpec:
     stage = circuit
 
 
-def parse_cascade_spec(data: Mapping[str, Any], path: str = "<spec>", stock=None) -> CascadeSpec:
-    """Build a ``CascadeSpec`` from a parsed TOML tree whose topology is the two-stage amplifier's."""
+def parse_cascade_spec(data: Mapping[str, Any], path: str = "<spec>", stock=None, *,
+                       label_may_be_absent: bool = False) -> CascadeSpec:
+    """Build a ``CascadeSpec`` from a parsed TOML tree whose topology is the two-stage amplifier's
+    (``label_may_be_absent`` as in ``spec.load_spec``)."""
     from ..analysis.cascade_targets import CascadeTargets
     from ..analysis.targets import IE_WINDOW
     from ..stages import Conditions
@@ -112,8 +114,8 @@ def parse_cascade_spec(data: Mapping[str, Any], path: str = "<spec>", stock=None
                 raise r.fail(f"transistors.{name}.i_sat", table[name]["i_sat"],
                              "the two-stage analysis takes VBE as given (vbe); i_sat is for single stages")
             transistors[name], labels[name] = _transistor(
-                r, table, polarity, stock, design=design, key=f"transistors.{name}", lookup=name, name=name,
-                who=f"{name} ")
+                r, table, polarity, stock, design=design, label_may_be_absent=label_may_be_absent,
+                key=f"transistors.{name}", lookup=name, name=name, who=f"{name} ")
     elif not design:
         raise r.fail("transistors", None, "missing; give [transistors.Q1] and [transistors.Q2]")
     parts = _parts(r, data, None, two_stage.ROLES)

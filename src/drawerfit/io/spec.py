@@ -192,7 +192,7 @@ def parse_spec(data: Mapping[str, Any], path: str = "<spec>", stock=None, *, lab
     if isinstance(data, Mapping) and data.get("topology") == two_stage.NAME:
         from .cascade_spec import parse_cascade_spec
 
-        return parse_cascade_spec(data, path, stock)
+        return parse_cascade_spec(data, path, stock, label_may_be_absent=label_may_be_absent)
     r.table("", data, _TOP_KEYS | {"exact"})
     data, notes = restore(data, path)  # a saved design's exact numbers in place of their rounded text
     topology = data.get("topology")

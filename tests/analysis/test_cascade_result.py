@@ -13,6 +13,7 @@ import json
 import math
 
 import pytest
+from hypothesis import given, settings, strategies as st
 
 from drawerfit.analysis.cascade_result import CascadeAnalysis, analyse_cascade
 from drawerfit.analysis.cascade_targets import CascadeTargets
@@ -214,3 +215,35 @@ def test_a_transistor_that_saturates_inside_the_box_fails_its_state_check():
     assert by["Q1 state"].ok is False and "leaves the active region" in by["Q1 state"].message
     # Q2 has its own divider (capacitor coupling): Q1's hFE does not move it, it stays active
     assert by["Q2 state"].ok is True
+
+
+_R = st.floats(10.0, 1e6)
+_C = st.floats(1e-9, 1e-2)
+
+
+@settings(max_examples=60, deadline=None)
+@given(coupling=st.sampled_from(["capacitor", "direct"]), polarity=st.sampled_from(["npn", "pnp"]),
+       bypass=st.booleans(), supply=st.floats(3.0, 60.0), load=st.one_of(st.none(), _R),
+       r=st.lists(_R, min_size=8, max_size=8), c=st.lists(_C, min_size=4, max_size=4),
+       h=st.lists(st.floats(10, 500), min_size=2, max_size=2))
+def test_any_amplifier_gives_a_json_safe_result_and_consistent_states(coupling, polarity, bypass, supply, load, r,
+                                                                      c, h):
+    # property: any amplifier whatever its values (cut off, saturated, a corner that does not exist) is
+    # analysed without a warning or an error, its JSON holds no NaN, and a transistor whose nominal
+    # state is not active fails its state check
+    parts = {"R1": Part(r[0], 0.05), "R2": Part(r[1], 0.05), "RC": Part(r[2], 0.05), "RE": Part(r[3], 0.05),
+             "C1": Part(c[0], 0.2, polarized=True), "RE3": Part(r[4], 0.05), "C3": Part(c[1], 0.2, polarized=True)}
+    if bypass:
+        parts.update(RE2=Part(r[5], 0.05), CE=Part(c[2], 0.2, polarized=True))
+    if coupling == "capacitor":
+        parts.update(C2=Part(c[3], 0.1), R3=Part(r[6], 0.05), R4=Part(r[7], 0.05))
+    q1, q2 = TransistorModel(polarity, h[0], 2 * h[0]), TransistorModel(polarity, h[1], 2 * h[1])
+    amp = TwoStage(polarity, supply, coupling, parts, q1, q2, 600.0, load)
+    a = analyse_cascade(amp, monte_carlo=50, seed=2, targets=CascadeTargets(gain_min=1.0, swing=0.1))
+    json.dumps(a.to_dict(), allow_nan=False)
+    by = {ch.name: ch for ch in a.checks}
+    for name in ("Q1", "Q2"):
+        if a.states[name] != "active":
+            assert by[f"{name} state"].ok is False
+    if bool(a.worst.all_active) and a.active:
+        assert by["Q1 state"].ok and by["Q2 state"].ok

@@ -84,3 +84,37 @@ def test_take_refuses_a_stock_file_changed_since_the_design(saved):
     r = CliRunner().invoke(main, ["take", str(design), "--stock", str(drawer)])
     assert r.exit_code == 2 and "changed since" in r.output and "Traceback" not in r.output
     assert drawer.read_text(encoding="utf-8") == changed  # nothing taken
+
+
+def test_analyze_resolves_both_labels_from_the_stock(tmp_path, saved):
+    # the sample spec's transistors by label only: their hFE ranges come from the drawer's lines
+    # (QN-SMALL-A 110–330, QN-MEDIUM-B 80–240, as written in tests/io/two_stage_drawer.py)
+    from pathlib import Path
+
+    _, drawer = saved
+    sample = Path(__file__).resolve().parents[2] / "inventory_samples" / "specs" / "two_stage_buffered.toml"
+    spec_text = sample.read_text(encoding="utf-8")
+    for block in ("hfe_min = 110\nhfe_max = 330\n", "hfe_min = 80\nhfe_max = 240\n"):
+        assert block in spec_text
+        spec_text = spec_text.replace(block, "")
+    spec = tmp_path / "by_label.toml"
+    spec.write_text(spec_text, encoding="utf-8")
+    no_stock = CliRunner().invoke(main, ["analyze", str(spec)])
+    assert no_stock.exit_code == 2 and "transistors.Q1.label" in no_stock.output and "--stock" in no_stock.output
+    r = CliRunner().invoke(main, ["analyze", str(spec), "--stock", str(drawer), "--json"])
+    assert r.exit_code == 0, r.output
+    import json
+
+    hfe = json.loads(r.stdout)["spread"]["worst_case"]["hfe"]
+    assert hfe == {"Q1": [110.0, 330.0], "Q2": [80.0, 240.0]}
+
+
+def test_export_with_the_stock_file_checks_it(saved, tmp_path):
+    design, drawer = saved
+    r = CliRunner().invoke(main, ["export", str(design), "--bom", str(tmp_path / "b.csv"), "--stock", str(drawer)])
+    assert r.exit_code == 0, r.output
+    out = tmp_path / "page.html"
+    r = CliRunner().invoke(main, ["report", str(design), "-o", str(out), "--stock", str(drawer), "--quiet",
+                                  "--monte-carlo", "0"])
+    assert r.exit_code == 0, r.output
+    assert "stock file checked: unchanged since the design was made" in out.read_text(encoding="utf-8")

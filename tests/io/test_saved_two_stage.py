@@ -131,3 +131,22 @@ def test_the_writer_reproduces_the_reference_design(tmp_path):
     assert sorted(map(key, d.pick_list)) == sorted(map(key, ref.pick_list))
     assert {r: (c.arrangement, [p.value for p in c.parts]) for r, c in d.roles.items()} == \
         {r: (c.arrangement, [p.value for p in c.parts]) for r, c in ref.roles.items()}
+
+
+def test_a_value_with_more_digits_is_kept_exactly(tmp_path):
+    # 4k7 ∥ 4k7 ∥ 10k = 1902.834… Ω (Ohm's law) has more digits than the letter code shows: the text
+    # is rounded ("1k9", docs/spec-format.md) and [exact] keeps the number, read back bit for bit
+    from drawerfit.io.spec import load_spec
+    from drawerfit.stages import Part
+    from drawerfit.stages.two_stage import TwoStage
+
+    from .two_stage_drawer import direct_pnp
+
+    value = 1.0 / (1 / 4700 + 1 / 4700 + 1 / 10e3)
+    a = direct_pnp()
+    parts = dict(a.parts, RE3=Part(value, 0.05, 0.5))
+    amp = TwoStage(a.polarity, a.supply, a.coupling, parts, a.q1, a.q2, a.source_resistance, a.load)
+    path = write_two_stage_design(tmp_path / "exact.toml", amp, {}, units=1)
+    assert 'value = "1k9"' in path.read_text(encoding="utf-8")
+    assert load_design(path).stage.parts["RE3"].value == value
+    assert load_spec(path).circuit() == amp

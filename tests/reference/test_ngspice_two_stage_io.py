@@ -3,8 +3,9 @@ mid-band gain of the exported deck against `analyze` of the same file.
 
 Expected values: the ngspice circuit simulator (Debian package `ngspice`), batch mode, tight
 tolerances, on the deck exactly as `drawerfit export --netlist` writes it (its own .op/.ac lines
-replaced by a .control block that prints what is compared).  Two amplifiers: the capacitor-coupled
-NPN one of tests/io/two_stage_drawer.py (with a parallel pair) and a direct-coupled PNP one.
+replaced by a .control block that prints what is compared).  Three amplifiers: the capacitor-coupled
+NPN one of tests/io/two_stage_drawer.py (RE3 a parallel pair), a direct-coupled PNP one, and the
+hand-written tests/data/io/two_stage_design.toml (direct-coupled NPN, R1 a series pair).
 """
 
 from __future__ import annotations
@@ -34,13 +35,28 @@ wrdata mid.txt vm(out) vr(out)
 """
 
 
-@pytest.mark.parametrize("kind", ["capacitor-npn", "direct-pnp"])
+@pytest.mark.parametrize("kind", ["capacitor-npn", "direct-pnp", "reference-file"])
 def test_exported_netlist_runs_and_agrees_with_analyze(tmp_path, kind):
-    if kind == "capacitor-npn":
+    pair = None  # a role made of two parts, written as those parts in the deck
+    if kind == "reference-file":
+        # tests/data/io/two_stage_design.toml: direct-coupled NPN, R1 two 10k in series
+        import shutil
+        from pathlib import Path
+
+        from drawerfit.io.saved_design import load_design
+
+        data = Path(__file__).resolve().parents[1] / "data" / "io"
+        for name in ("two_stage_design.toml", "drawer_semicolon.csv"):
+            shutil.copy(data / name, tmp_path / name)
+        (tmp_path / "two_stage_design.toml").rename(tmp_path / "amp.toml")
+        circuit = load_design(tmp_path / "amp.toml").stage
+        pair = ("R1a vcc r1_2 10k", "R1b r1_2 b1 10k")
+    elif kind == "capacitor-npn":
         csv = write_drawer(tmp_path)
         circuit, role_lines, transistor_lines, arrangements = build(load_stock(str(csv)))
         write_two_stage_design(tmp_path / "amp.toml", circuit, role_lines, units=2, stock_file=str(csv),
                                transistor_lines=transistor_lines, arrangements=arrangements)
+        pair = ("RE3a e2 0 560", "RE3b e2 0 560")
     else:
         circuit = direct_pnp()
         write_two_stage_design(tmp_path / "amp.toml", circuit, {}, units=1)
@@ -49,6 +65,8 @@ def test_exported_netlist_runs_and_agrees_with_analyze(tmp_path, kind):
     assert r.exit_code == 0, r.output
     deck = (tmp_path / "amp.cir").read_text(encoding="utf-8")
     assert "VCE_MAX=40" in deck  # the rating went into the model as an ngspice limit
+    if pair is not None:
+        assert all(line in deck.splitlines() for line in pair), deck
     b2 = "b2" if circuit.coupling == "capacitor" else "c1"
     body = [ln for ln in deck.splitlines() if ln.strip() not in (".op", ".end")
             and not ln.startswith((".ac ", ".print "))]

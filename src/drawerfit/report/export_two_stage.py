@@ -29,6 +29,25 @@ def _ascii(line: str) -> str:
     return line
 
 
+def _expand(line: str, parts) -> list[str]:
+    """A role's element line as its physical parts: node 0 of the arrangement is the line's first
+    node (the + end of a capacitor), with nodes of its own inside (``re3_2``)."""
+    from .netlist import spice_value
+
+    head, _, note = line.partition("  ;")
+    name, plus, minus, _value = head.split()
+    note = f"  ;{note}" if note else ""
+    nodes = {0: plus, 1: minus, 2: f"{name.lower()}_2", 3: f"{name.lower()}_3"}
+    chain = name.startswith("C") and any(n >= 2 for m in parts for n in m.nodes)
+    out = []
+    for m in parts:
+        a, b = m.nodes
+        out.append(f"{m.designator} {nodes[a]} {nodes[b]} {spice_value(m.value)}{note}")
+        if chain:  # a node between capacitors has no DC path on its own: a leak stands in for it
+            out.append(f"RLK{m.designator} {nodes[a]} {nodes[b]} 1e12  ; leakage path, not a part")
+    return out
+
+
 def two_stage_netlist(design, *, analyses: bool = True) -> str:
     """The deck of a ``DesignFile`` whose stage is a ``TwoStage``; ``analyses`` adds .op and .ac."""
     from ..analysis.cascade import cascade_arguments, cascade_netlist, evaluate_cascade
@@ -109,9 +128,16 @@ def two_stage_netlist(design, *, analyses: bool = True) -> str:
         head.append(f"*   mid-band gain {_num(float(fig.gain))} (source EMF to load), -3 dB low corner "
                     f"{format_si(f_low, 'Hz', 6)}")
     head.append("*")
+    from .export import role_members
+
+    members = {role: m for role, m in role_members(design).items() if len(m) > 1}
     out = [title] + [_ascii(h) for h in head]
     any_soa = any(soa.values())
     for line in body:
+        role = line.split(" ", 1)[0]
+        if role in members:
+            out += _expand(line, members[role])
+            continue
         for name, model in _MODEL.items():
             if line.startswith(f".model {model} ") and soa.get(name):
                 line = line.rstrip(")") + " " + " ".join(soa[name]) + ")"

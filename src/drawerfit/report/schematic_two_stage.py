@@ -4,7 +4,9 @@ Stage 1 (Q1, common emitter) on the left, the follower (Q2) on the right, joined
 divider R3/R4 or by a wire (direct coupling); both polarities, the PNP one mirrored (emitter
 side up).  Each role is one element with its designator and value; a role made of several parts
 is marked so, its parts listed in the report's parts table.  Polarized capacitors are drawn with
-their + end where the DC voltage puts it.
+their + end where the DC voltage puts it.  A role made of two or three parts in series or in
+parallel is drawn as those parts, each with its own designator and value, and the role labelled with
+what they make; a mixed network (series-parallel) is drawn as one element marked "(n parts)".
 """
 
 from __future__ import annotations
@@ -15,6 +17,13 @@ from ..parts import pin_order_text
 from ..values import format_code, format_si
 
 __all__ = ["two_stage_schematic_svg"]
+
+
+# Where the branches of a role's parts go: the dividers away from their transistor (left), the
+# emitter and collector resistors and CE to the right, the coupling capacitors upward.
+_BRANCH_SIDE = {"R1": (-1.0, 0.0), "R2": (-1.0, 0.0), "R3": (-1.0, 0.0), "R4": (-1.0, 0.0), "RC": (1.0, 0.0),
+                "RE": (1.0, 0.0), "RE2": (1.0, 0.0), "CE": (1.0, 0.0), "RE3": (1.0, 0.0), "C1": (0.0, 1.0),
+                "C2": (0.0, 1.0), "C3": (0.0, 1.0)}
 
 
 def _safe(text: str) -> str:
@@ -28,10 +37,14 @@ def two_stage_schematic_svg(design, nominal) -> str:
     import schemdraw
     import schemdraw.elements as elm
 
+    from .export import role_members
+
     amp = design.stage
     parts = amp.parts
     npn = amp.polarity == "npn"
-    several = {role: len(c.parts) for role, c in design.roles.items() if len(c.parts) > 1}
+    members = {r: m for r, m in role_members(design).items() if len(m) > 1}
+    drawn = {r: m for r, m in members.items() if m[0].arrangement in ("series", "parallel")}
+    several = {r: len(m) for r, m in members.items() if r not in drawn}
 
     def text(role: str) -> str:
         unit = "ohm" if role.startswith("R") else "F"
@@ -41,14 +54,63 @@ def two_stage_schematic_svg(design, nominal) -> str:
     d = schemdraw.Drawing(canvas="svg", show=False)
     d.config(fontsize=11, lw=1.4, font="sans-serif")
 
+    def label_at(xy, words: str, n, gap: float = 0.35) -> None:
+        x, y = xy[0] + gap * n[0], xy[1] + gap * n[1]
+        halign = "left" if n[0] > 0.5 else "right" if n[0] < -0.5 else "center"
+        valign = "bottom" if n[1] > 0.5 else "top" if n[1] < -0.5 else "center"
+        d.add(elm.Label().at((x, y)).label(words, loc="center", halign=halign, valign=valign))
+
+    def element(role):
+        return elm.Resistor() if role.startswith("R") else elm.Capacitor(polar=parts[role].polarized)
+
+    def network(role, a, b, side) -> None:
+        """The parts of a series or parallel role from ``a`` to ``b``, branches toward ``side``."""
+        unit = "ohm" if role.startswith("R") else "F"
+        ux, uy = b[0] - a[0], b[1] - a[1]
+        span = (ux * ux + uy * uy) ** 0.5
+        u = (ux / span, uy / span)
+
+        def at(p, along=0.0, beside=0.0):
+            return (p[0] + along * u[0] + beside * side[0], p[1] + along * u[1] + beside * side[1])
+
+        ms = drawn[role]
+        if ms[0].arrangement == "series":
+            step = span / len(ms)
+            for k, m in enumerate(ms):
+                p0, p1 = at(a, k * step), at(a, (k + 1) * step)
+                d.add(element(role).at(p0).to(p1))
+                label_at(at(p0, step / 2), f"{m.designator}\n{_safe(format_code(m.value, unit))}", side)
+        else:
+            a2, b2 = at(a, 0.6), at(b, -0.6)
+            d.add(elm.Line().at(a).to(a2))
+            d.add(elm.Line().at(b2).to(b))
+            for k, m in enumerate(ms):
+                if k:
+                    d.add(elm.Line().at(at(a2, 0, (k - 1) * 1.8)).to(at(a2, 0, k * 1.8)))
+                    d.add(elm.Line().at(at(b2, 0, (k - 1) * 1.8)).to(at(b2, 0, k * 1.8)))
+                if k < len(ms) - 1:
+                    d.add(elm.Dot().at(at(a2, 0, k * 1.8)))
+                    d.add(elm.Dot().at(at(b2, 0, k * 1.8)))
+                p0, p1 = at(a2, 0, k * 1.8), at(b2, 0, k * 1.8)
+                d.add(element(role).at(p0).to(p1))
+                label_at(at(p0, (span - 1.2) / 2, 0.1), f"{m.designator}\n{_safe(format_code(m.value, unit))}",
+                         side)
+        middle = ((a[0] + b[0]) / 2, (a[1] + b[1]) / 2)
+        label_at(middle, f"{role} = {_safe(format_code(parts[role].value, unit))}", (-side[0], -side[1]), gap=0.55)
+
     def res(role, a, b, loc):
+        if role in drawn:
+            network(role, a, b, _BRANCH_SIDE[role])
+            return
         d.add(elm.Resistor().at(a).to(b).label(text(role), loc=loc, ofst=0.25))
 
     def cap(role, near, far, loc, volts):
         # + end toward the higher DC voltage: the stage-side end ``near`` when ``volts`` >= 0
-        polar = parts[role].polarized
         a, b = (near, far) if volts >= 0 else (far, near)
-        d.add(elm.Capacitor(polar=polar).at(a).to(b).label(text(role), loc=loc, ofst=0.3))
+        if role in drawn:
+            network(role, a, b, _BRANCH_SIDE[role])
+            return
+        d.add(element(role).at(a).to(b).label(text(role), loc=loc, ofst=0.3))
 
     e_dir = -1.0 if npn else 1.0  # the emitter side points at this rail
     xq = 0.7516666666666666  # collector/emitter x of schemdraw's BJT with its base at (0, 0)
@@ -73,7 +135,7 @@ def two_stage_schematic_svg(design, nominal) -> str:
         d += elm.Dot().at((xq, n1))
         res("RE2", (xq, n1), (xq, rail_e), "top")
         if amp.bypassed:
-            xce = xq + 2.4
+            xce = xq + 2.4 + (1.8 * (len(drawn["RE2"]) - 1) + 1.2 if "RE2" in drawn else 0.0)
             d += elm.Line().at((xq, n1)).to((xce, n1))
             cap("CE", (xce, n1), (xce, rail_e), "bottom", float(nominal.v_ce) * (1 if npn else -1))
             d += elm.Dot().at((xce, rail_e))

@@ -161,7 +161,6 @@ def _tail_lines(result, spec, cautions) -> list[str]:
 def cascade_summary_lines(result, spec=None, cautions=None) -> list[str]:
     """The people's summary of a two-stage amplifier (``CascadeAnalysis``), in the single stage's order:
     warnings, both operating points, the signal, the worst case, the parts, the cautions."""
-    from ..analysis.cascade_result import CascadeAnalysis  # noqa: F401  (what ``result`` is)
     from ..cautions import cautions_for
 
     if cautions is None:

@@ -1,4 +1,5 @@
-"""Time the two-stage amplifier's figures: candidate batches, the worst case and Monte Carlo.
+"""Time the two-stage amplifier's figures: candidate batches, the worst case and Monte Carlo; and
+`analyze` and the report page of the sample spec end to end.
 
 Run on demand:  PYTHONPATH=src python3 benchmarks/bench_cascade.py
 Prints seconds (best of three) and the peak memory numpy allocated (tracemalloc) for each job.
@@ -54,6 +55,23 @@ def main() -> None:
     t, mb = measure(lambda: cascade_monte_carlo(10_000, seed=1, tolerances=TOLS, temp_min=0, temp_max=50, **HFE,
                                                 **nominal))
     print(f"cascade_monte_carlo, 10,000 builds:                         {t:7.3f} s  {mb:7.1f} MB peak")
+    # end to end as `analyze` and `report` run it, on the sample spec
+    import drawerfit
+    from drawerfit.io.saved_design import load_design
+    from drawerfit.io.saved_two_stage import write_two_stage_design
+    from drawerfit.report.report_two_stage import render_two_stage_report
+
+    sample = os.path.join(os.path.dirname(__file__), "..", "inventory_samples", "specs", "two_stage_buffered.toml")
+    t, mb = measure(lambda: drawerfit.analyse(sample, monte_carlo=2000))
+    print(f"analyse, the sample spec, worst case and 2,000 builds:       {t:7.3f} s  {mb:7.1f} MB peak")
+    import tempfile
+
+    with tempfile.TemporaryDirectory() as folder:
+        spec = drawerfit.load_spec(sample)
+        saved = write_two_stage_design(os.path.join(folder, "amp.toml"), spec.circuit(), {}, units=1)
+        design = load_design(saved)
+        t, mb = measure(lambda: render_two_stage_report(design, monte_carlo=2000))
+        print(f"report page of the sample, 2,000 builds:                    {t:7.3f} s  {mb:7.1f} MB peak")
 
 
 if __name__ == "__main__":

@@ -21,7 +21,8 @@ from drawerfit.stages.base import CAPACITOR_ROLES, RESISTOR_ROLES
 
 ROOT = Path(__file__).resolve().parent.parent
 PACKAGE = ROOT / "src" / "drawerfit"
-CIRCUIT_FILES = {PACKAGE / "stages" / f"{m.__name__.rsplit('.', 1)[1]}.py" for m in topologies.CIRCUITS}
+CIRCUIT_FILES = {PACKAGE / "stages" / f"{m.__name__.rsplit('.', 1)[1]}.py"
+                 for m in topologies.CIRCUITS + topologies.ASSEMBLIES}
 REGISTRY = PACKAGE / "stages" / "topologies.py"
 
 # The interface, written out here on its own so that a name dropped from the registry's list
@@ -52,7 +53,7 @@ def topology_name_uses(path: Path, names) -> list[str]:
 
 
 def test_no_topology_name_outside_the_circuit_modules():
-    names = set(topologies.TOPOLOGIES)
+    names = set(topologies.TOPOLOGIES) | set(topologies.ASSEMBLY_NAMES)
     found = []
     for path in sorted(PACKAGE.rglob("*.py")):
         if path in CIRCUIT_FILES or path == REGISTRY:
@@ -73,6 +74,7 @@ def test_the_walker_finds_a_planted_name(tmp_path):
 def test_registry_lists_every_circuit_module_once():
     assert len(topologies.CIRCUITS) >= 2
     assert all(path.exists() for path in CIRCUIT_FILES)
+    assert not set(topologies.ASSEMBLY_NAMES) & set(topologies.TOPOLOGIES)
     assert len(set(topologies.TOPOLOGIES)) == len(topologies.CIRCUITS)
     for m in topologies.CIRCUITS:
         assert topologies.topology_module(m.NAME) is m

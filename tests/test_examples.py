@@ -21,7 +21,9 @@ SAYS = {"01_stock_and_match.py": ("<Stock from", "<MatchResult 3k3"),
         "03_design_from_the_drawer.py": ("<DesignResult optimal", "<Analysis emitter-follower"),
         "04_kit_and_take.py": ("<KitResult", "<TakeResult take for 5 unit(s)", "dry run>", "<TakeResult undo of"),
         "05_transistor_substitutes.py": ("<SubstituteResult NPN; VCEO at least 45 V",
-                                         "<SubstituteResult NPN; VCEO at least 40 V", "in spec unchanged: LabNPN-S2")}
+                                         "<SubstituteResult NPN; VCEO at least 40 V", "in spec unchanged: LabNPN-S2"),
+        "06_two_stage_amplifier.py": ("<CascadeAnalysis two-stage capacitor-coupled NPN 12 V", "checks not met: none",
+                                      "14 part lines for 4 units")}  # 12 roles + Q1, Q2
 
 
 def _run(code_or_path, tmp_path) -> str:

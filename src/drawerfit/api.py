@@ -40,28 +40,38 @@ def load_stock(stock: Any, *, strict: bool = False):
 
 
 def load_spec(spec: Any, stock: Any = None):
-    """A ``Spec`` from a TOML spec's path (``stock`` resolves a transistor given by its label)."""
+    """A ``Spec`` (a ``CascadeSpec`` for a two-stage amplifier) from a TOML spec's path (``stock``
+    resolves a transistor given by its label)."""
+    from .io.cascade_spec import CascadeSpec
     from .io.spec import Spec, load_spec as _load
 
-    if isinstance(spec, Spec):
+    if isinstance(spec, (Spec, CascadeSpec)):
         return spec
     return _load(spec, stock=None if stock is None else load_stock(stock))
 
 
 def analyse(stage: Any, conditions=None, monte_carlo: int = 0, seed: int = 0, targets=None, *, stock: Any = None):
-    """The ``Analysis`` of a stage: a ``stages.Stage``, a ``Spec`` with [parts], or a spec's path.
+    """The analysis of a stage: a ``stages.Stage``, a two-stage ``stages.two_stage.TwoStage``, a spec
+    with [parts] (``Spec`` or ``CascadeSpec``), or a spec's path.
 
-    A spec brings its own limits and targets unless ``conditions`` or ``targets`` are given;
-    ``monte_carlo`` random builds (seeded by ``seed``) add the spread of the figures.
+    A single stage gives an ``analysis.Analysis``, a two-stage amplifier an
+    ``analysis.cascade_result.CascadeAnalysis``.  A spec brings its own limits and targets unless
+    ``conditions`` or ``targets`` are given; ``monte_carlo`` random builds (seeded by ``seed``)
+    add the spread of the figures.
     """
     from .analysis import analyse as _analyse
     from .stages import Stage
+    from .stages.two_stage import TwoStage
 
-    if not isinstance(stage, Stage):
+    if not isinstance(stage, (Stage, TwoStage)):
         spec = load_spec(stage, stock)
         conditions = spec.conditions if conditions is None else conditions
         targets = spec.targets if targets is None else targets
         stage = spec.stage()
+    if isinstance(stage, TwoStage):
+        from .analysis.cascade_result import analyse_cascade
+
+        return analyse_cascade(stage, conditions, monte_carlo=monte_carlo, seed=seed, targets=targets)
     return _analyse(stage, conditions, monte_carlo=monte_carlo, seed=seed, targets=targets)
 
 
@@ -164,7 +174,18 @@ def substitutes(polarity: Any = None, stock: Any = None, *, spec: Any = None, vc
         from .io.spec import load_spec as _load
 
         spec_obj = _load(spec, stock=stock, label_may_be_absent=True)
+    _single_stage_only(spec_obj, "trying transistor substitutes in a stage (--in)")
     return substitutes_for(stock, spec=spec_obj, given=given, units=units, top=top)
+
+
+def _single_stage_only(spec, what: str) -> None:
+    """SpecError for a two-stage spec where only single stages are served yet."""
+    from .io.cascade_spec import CascadeSpec
+    from .parts import SpecError
+
+    if isinstance(spec, CascadeSpec):
+        raise SpecError(f"{spec.path}: {what} works on single stages; a two-stage amplifier is not supported "
+                        "there yet (analyze, report, export and take are)")
 
 
 def _requirement_value(name: str, raw: Any, unit: str, error) -> float:
@@ -252,6 +273,7 @@ def mend(spec: Any, stock: Any, *, fixed=(), broken=(), units: int = 1, max_part
         from .io.spec import load_spec as _load
 
         spec = _load(spec, stock=stock, label_may_be_absent=True)  # the board's Q1 need not be in the drawer
+    _single_stage_only(spec, "mending a board (design --keep)")
     return _mend(spec, stock, fixed=fixed, broken=broken, units=units, max_parts=max_parts, guarantee=guarantee,
                  prefer=prefer, top=top, exhaustive=exhaustive, budget=budget)
 

@@ -93,8 +93,14 @@ def hot_parts(analysis, fraction: float = POWER_DERATING) -> tuple[str, ...]:
 
 
 def cautions_for(analysis, *, mains: bool = False) -> list[Caution]:
-    """The cautions that apply to an analysed stage (``drawerfit.analysis.Analysis``)."""
+    """The cautions that apply to an analysed stage (``drawerfit.analysis.Analysis``) or two-stage
+    amplifier (``analysis.cascade_result.CascadeAnalysis``)."""
     stage = analysis.stage
     polarized = any(p.polarized for r, p in stage.parts.items() if r.startswith("C"))
-    return stage_cautions(supply=stage.supply, polarized=polarized, hot_parts=hot_parts(analysis),
-                          mains=mains)
+    if hasattr(analysis, "circuit"):
+        from .analysis.cascade_checks import cascade_hot_parts
+
+        hot = cascade_hot_parts(analysis.circuit, analysis.worst, POWER_DERATING)
+    else:
+        hot = hot_parts(analysis)
+    return stage_cautions(supply=stage.supply, polarized=polarized, hot_parts=hot, mains=mains)

@@ -2,8 +2,8 @@
 
 The reference files are written by hand (invented data): ``drawer_semicolon.csv`` (UTF-8 with a
 byte-order mark, semicolons, CRLF line ends, a quoted cell holding the delimiter), ``design.toml`` (a
-saved design in the trade's notation, with one exact number in [exact]) and ``kit.json`` (a saved
-kit).  Expected values: the files' own text read by independent readers (Python's csv, tomllib and
+saved design in the trade's notation, with one exact number in [exact]), ``two_stage_design.toml``
+(a saved two-stage design) and ``kit.json`` (a saved kit).  Expected values: the files' own text read by independent readers (Python's csv, tomllib and
 json modules, hashlib for the checksum), IEC 60062 for the value codes ("4k7" = 4700 Ω, "22µ" =
 22 µF), and byte-for-byte identity for every round trip.
 """
@@ -33,6 +33,7 @@ from drawerfit.io.take_history import history, undo_takes
 DATA = Path(__file__).resolve().parents[1] / "data" / "io"
 DRAWER = DATA / "drawer_semicolon.csv"
 DESIGN = DATA / "design.toml"
+TWO_STAGE = DATA / "two_stage_design.toml"
 KIT = DATA / "kit.json"
 
 
@@ -46,6 +47,7 @@ def test_the_reference_files_are_as_written():
     checksum = "sha256:" + hashlib.sha256(data).hexdigest()
     assert tomllib.loads(DESIGN.read_text(encoding="utf-8"))["stock_checksum"] == checksum
     assert json.loads(KIT.read_text(encoding="utf-8"))["stock_checksum"] == checksum
+    assert tomllib.loads(TWO_STAGE.read_text(encoding="utf-8"))["stock_checksum"] == checksum
 
 
 def test_raw_rows_are_what_the_csv_module_reads():
@@ -111,7 +113,7 @@ def test_the_kit_file_reads_as_written_and_round_trips(tmp_path):
     assert json.loads(out.read_text(encoding="utf-8")) == tree == read_kit_tree(out)
 
 
-@pytest.mark.parametrize("picks", [KIT, DESIGN], ids=["kit", "design"])
+@pytest.mark.parametrize("picks", [KIT, DESIGN, TWO_STAGE], ids=["kit", "design", "two-stage design"])
 def test_take_and_undo_round_trip_on_the_reference_drawer(tmp_path, picks):
     drawer = tmp_path / DRAWER.name
     shutil.copy(DRAWER, drawer)

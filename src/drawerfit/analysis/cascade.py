@@ -495,7 +495,11 @@ def cascade_worst_case(*, tolerances: Mapping[str, object], hfe1_min, hfe1_max, 
         hi_c = cascade_low_corner(fig, **c_low)
         lo_c = cascade_low_corner(fig, **c_high)
     low, high = {}, {}
-    with np.errstate(invalid="ignore"):
+    import warnings
+
+    # a figure that is NaN at every vertex (no corner anywhere: not active) stays NaN, quietly
+    with np.errstate(invalid="ignore"), warnings.catch_warnings():
+        warnings.filterwarnings("ignore", "All-NaN slice encountered", RuntimeWarning)
         for name, val in values.items():
             val = np.broadcast_to(val, (n_vert,) + np.shape(val)[1:]) if np.ndim(val) else val
             low[name], high[name] = np.nanmin(val, axis=0), np.nanmax(val, axis=0)

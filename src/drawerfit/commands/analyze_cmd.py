@@ -8,7 +8,7 @@ from ..parts import pin_order_text
 from ..values import format_si
 from .common import emit_json
 
-__all__ = ["run_analyze", "summary_lines"]
+__all__ = ["run_analyze", "summary_lines", "cascade_summary_lines"]
 
 
 def run_analyze(spec_file: str, *, stock_file: str | None = None, as_json: bool = False,
@@ -28,7 +28,8 @@ def run_analyze(spec_file: str, *, stock_file: str | None = None, as_json: bool 
         for c in cautions:
             click.echo(f"caution: {c.text}", err=True)
     else:
-        for line in summary_lines(result, spec, cautions):
+        lines = cascade_summary_lines if hasattr(result, "circuit") else summary_lines
+        for line in lines(result, spec, cautions):
             click.echo(line)
     if must_pass and result.warnings:
         from ..parts import ChecksNotMetError
@@ -61,20 +62,8 @@ def summary_lines(result, spec=None, cautions=None) -> list[str]:
     s, f, w = result.stage, result.nominal, result.worst
     t = s.transistor
     c = result.conditions
-    out = []
-    head = f"{s.topology}, {s.polarity.upper()}, {_v(s.supply, 'V')} supply"
-    head += f", source {_v(s.source_resistance, 'ohm')}" if s.source_resistance else ", ideal source"
-    head += f", load {_v(s.load, 'ohm')}" if s.load is not None else ", no load"
-    out.append((spec.title + ": " if spec is not None and spec.title else "") + head)
-    hfe = f"hFE {t.hfe_min:g}" if t.hfe_min == t.hfe_max else f"hFE {t.hfe_min:g}–{t.hfe_max:g} (nominal {t.hfe:.4g})"
-    pins = f", pins {pin_order_text(t.pins)} (pin 1 first)" if t.pins else ""
-    out.append(f"Q1 {t.label or '(unnamed)'}: {hfe}, VBE {_v(t.vbe, 'V')} at 25 °C{pins}")
-    warnings = result.warnings
-    if warnings:
-        out.append("")
-        out.append(f"WARNINGS ({len(warnings)})")
-        for ch in warnings:
-            out.append(f"  ! {ch.name}: {ch.message}")
+    out = [_head_line(s.topology, s, spec), _transistor_line("Q1", t)]
+    out += _warning_lines(result)
     out.append("")
     out.append(f"Operating point at {c.nominal_temp:g} °C, nominal values (node voltages to ground)")
     out.append(f"  VB {_v(f.vb, 'V')}   VE {_v(f.ve, 'V')}   VC {_v(f.vc, 'V')}")
@@ -97,7 +86,39 @@ def summary_lines(result, spec=None, cautions=None) -> list[str]:
         out.append("  Q1 leaves the active region inside this range: signal figures not given")
     out.append("Parts")
     by_name = {ch.name: ch for ch in result.checks}
-    for role, part in s.parts.items():
+    out += _part_lines(s.parts, by_name)
+    ch = by_name["Q1 power"]
+    out.append(f"  Q1   up to {_v(ch.value, 'W')}" + (f" of {_v(ch.limit, 'W')} allowed" if ch.limit else ", no PD given"))
+    out += _tail_lines(result, spec, cautions)
+    return out
+
+
+def _head_line(words: str, s, spec) -> str:
+    """The first line: the circuit in words, polarity, supply, source and load (and the title)."""
+    head = f"{words}, {s.polarity.upper()}, {_v(s.supply, 'V')} supply"
+    head += f", source {_v(s.source_resistance, 'ohm')}" if s.source_resistance else ", ideal source"
+    head += f", load {_v(s.load, 'ohm')}" if s.load is not None else ", no load"
+    return (spec.title + ": " if spec is not None and spec.title else "") + head
+
+
+def _transistor_line(name: str, t) -> str:
+    hfe = f"hFE {t.hfe_min:g}" if t.hfe_min == t.hfe_max else f"hFE {t.hfe_min:g}–{t.hfe_max:g} (nominal {t.hfe:.4g})"
+    pins = f", pins {pin_order_text(t.pins)} (pin 1 first)" if t.pins else ""
+    return f"{name} {t.label or '(unnamed)'}: {hfe}, VBE {_v(t.vbe, 'V')} at 25 °C{pins}"
+
+
+def _warning_lines(result) -> list[str]:
+    out = []
+    if result.warnings:
+        out += ["", f"WARNINGS ({len(result.warnings)})"]
+        out += [f"  ! {ch.name}: {ch.message}" for ch in result.warnings]
+    return out
+
+
+def _part_lines(parts, by_name) -> list[str]:
+    """One line per part: value, tolerance, its dissipation or DC voltage against the rating, polarity."""
+    out = []
+    for role, part in parts.items():
         unit = "F" if role.startswith("C") else "ohm"
         line = f"  {role:<3} {_v(part.value, unit):>9} ±{part.tolerance * 100:g} %"
         if unit == "ohm":
@@ -112,8 +133,12 @@ def summary_lines(result, spec=None, cautions=None) -> list[str]:
             if pol:
                 line += "   polarized: " + pol.message
         out.append(line)
-    ch = by_name["Q1 power"]
-    out.append(f"  Q1   up to {_v(ch.value, 'W')}" + (f" of {_v(ch.limit, 'W')} allowed" if ch.limit else ", no PD given"))
+    return out
+
+
+def _tail_lines(result, spec, cautions) -> list[str]:
+    """Monte Carlo, notes, assumptions, the spec's notes and the cautions."""
+    out = []
     mc = result.monte_carlo
     if mc:
         out.append(f"Monte Carlo: {mc['samples']} builds (seed {mc['seed']}): active {mc['active']:.1%}, "
@@ -130,4 +155,53 @@ def summary_lines(result, spec=None, cautions=None) -> list[str]:
     out.append("Cautions")
     for cau in cautions:
         out.append(f"  * {cau.text}")
+    return out
+
+
+def cascade_summary_lines(result, spec=None, cautions=None) -> list[str]:
+    """The people's summary of a two-stage amplifier (``CascadeAnalysis``), in the single stage's order:
+    warnings, both operating points, the signal, the worst case, the parts, the cautions."""
+    from ..cautions import cautions_for
+
+    if cautions is None:
+        cautions = cautions_for(result, mains=bool(spec and spec.mains))
+    a, f, w, c = result.circuit, result.nominal, result.worst, result.conditions
+    out = [_head_line(f"two-stage amplifier ({a.coupling}-coupled)", a, spec),
+           _transistor_line("Q1", a.q1), _transistor_line("Q2", a.q2)]
+    out += _warning_lines(result)
+    out.append("")
+    out.append(f"Operating points at {c.nominal_temp:g} °C, nominal values (node voltages to ground)")
+    states = result.states
+    out.append(f"  Q1  VB {_v(f.vb1, 'V')}   VE {_v(f.ve1, 'V')}   VC {_v(f.vc1, 'V')}   "
+               f"IE {_v(f.ie1, 'A')}   IC {_v(f.ic1, 'A')}   VCE {_v(f.vce1, 'V')}   {states['Q1']}")
+    out.append(f"  Q2  VB {_v(f.vb2, 'V')}   VE {_v(f.ve2, 'V')}   "
+               f"IE {_v(f.ie2, 'A')}   IC {_v(f.ic2, 'A')}   VCE {_v(f.vce2, 'V')}   {states['Q2']}")
+    if result.active:
+        sw = result.swing()
+        out.append("Signal, mid-band")
+        out.append(f"  input {_v(f.rin, 'ohm')}   output {_v(f.rout, 'ohm')}   gain {float(f.gain):.4g} "
+                   f"(source to load; stage 1 {float(f.gain1):.4g}, follower {float(f.gain2):.4g})")
+        own = ", ".join(f"{k} alone {format_si(v, 'Hz')}" for k, v in result.corners().items() if v)
+        out.append(f"  low corner {_v(f.f_low, 'Hz')} for the whole amplifier" + (f" ({own})" if own else ""))
+        out.append(f"  swing ±{_v(f.swing_peak, 'V')} peak into the load, limited by {sw['transistor']} "
+                   f"({sw['limit']})")
+    t1, t2 = a.q1, a.q2
+    out.append(f"Worst case over tolerances, hFE {t1.hfe_min:g}–{t1.hfe_max:g} (Q1) and {t2.hfe_min:g}–"
+               f"{t2.hfe_max:g} (Q2), {c.ambient_min:g}–{c.ambient_max:g} °C ({w.vertices} corners)")
+    out.append(f"  IE1 {_range(w.low['ie1'], w.high['ie1'], 'A')}   IE2 {_range(w.low['ie2'], w.high['ie2'], 'A')}   "
+               f"VC1 {_range(w.low['vc1'], w.high['vc1'], 'V')}")
+    if bool(w.all_active):
+        g = sorted((abs(float(w.low["gain"])), abs(float(w.high["gain"]))))
+        out.append(f"  |gain| {g[0]:.4g} … {g[1]:.4g}   low corner up to {_v(w.high['f_low'], 'Hz')}   "
+                   f"swing at least ±{_v(w.low['swing_peak'], 'V')}")
+    else:
+        out.append("  Q1 or Q2 leaves the active region inside this range: signal figures not given")
+    out.append("Parts")
+    by_name = {ch.name: ch for ch in result.checks}
+    out += _part_lines(a.parts, by_name)
+    for name in ("Q1", "Q2"):
+        ch = by_name[f"{name} power"]
+        out.append(f"  {name}   up to {_v(ch.value, 'W')}"
+                   + (f" of {_v(ch.limit, 'W')} allowed" if ch.limit else ", no PD given"))
+    out += _tail_lines(result, spec, cautions)
     return out

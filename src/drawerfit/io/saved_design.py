@@ -18,7 +18,7 @@ from pathlib import Path
 from typing import Mapping
 
 from ..parts import SpecError
-from ..stages import CAPACITOR_ROLES, RESISTOR_ROLES, Conditions, Stage
+from ..stages import CAPACITOR_ROLES, RESISTOR_ROLES, Conditions, Stage, two_stage
 from ..values import ValueParseError, parse_tolerance, parse_value
 
 __all__ = ["PlacedPart", "RoleChoice", "PickItem", "DesignFile", "load_design", "read_design_tree", "DESIGN_KEYS",
@@ -82,6 +82,15 @@ class DesignFile:
     transistor_location: str = ""
     transistor_source: Mapping[str, object] = field(default_factory=dict)
     spec: object = None  # the spec.Spec the stage came from (targets, mains, assumptions)
+    # each transistor's (bin, source) by designator: Q1, and Q2 of a two-stage amplifier
+    transistor_places: Mapping[str, tuple[str, Mapping[str, object]]] = field(default_factory=dict)
+
+    @property
+    def transistors(self) -> dict:
+        """The transistor models by designator (Q1; Q1 and Q2 for a two-stage amplifier)."""
+        if isinstance(self.stage, two_stage.TwoStage):
+            return {"Q1": self.stage.q1, "Q2": self.stage.q2}
+        return {"Q1": self.stage.transistor}
 
     @property
     def is_design(self) -> bool:
@@ -111,14 +120,19 @@ def _source(raw) -> dict:
     return dict(raw) if isinstance(raw, Mapping) else {}
 
 
+# every role and transistor a saved design may name: the single stages' and the two-stage amplifier's
+_KNOWN_ROLES = tuple(dict.fromkeys(RESISTOR_ROLES + CAPACITOR_ROLES + ("Q1",) + two_stage.ROLES
+                                   + two_stage.TRANSISTORS))
+
+
 def _roles(path: str, table: Mapping) -> dict[str, RoleChoice]:
     out = {}
     for role, t in table.items():
         if not isinstance(t, Mapping):
             raise SpecError(f"{_where(path, f'design.roles.{role}')}: must be a table")
-        if role not in RESISTOR_ROLES + CAPACITOR_ROLES + ("Q1",):
+        if role not in _KNOWN_ROLES:
             raise SpecError(f"{_where(path, f'design.roles.{role}')}: no such role")
-        unit = "ohm" if role in RESISTOR_ROLES else "F" if role in CAPACITOR_ROLES else None
+        unit = "ohm" if role.startswith("R") else "F" if role.startswith("C") else None
         rating_unit = "W" if unit == "ohm" else "V" if unit == "F" else None
         raw_parts = t.get("parts", [])
         if not isinstance(raw_parts, list) or len(raw_parts) > 3:
@@ -215,17 +229,21 @@ def load_design(path: str | Path, stock=None) -> DesignFile:
     if isinstance(units, bool) or not isinstance(units, int) or units < 1:
         raise SpecError(f"{path}: units = {units!r}: must be a whole number, 1 or more")
     roles = _roles(path, role_tables)
-    q1 = roles.pop("Q1", None)
+    places = {}
+    for name in two_stage.TRANSISTORS:
+        choice = roles.pop(name, None)
+        if choice is not None and choice.parts:
+            places[name] = (choice.parts[0].location, dict(choice.parts[0].source))
+    if not isinstance(stage, two_stage.TwoStage):
+        places.pop("Q2", None)
     pick_list = _pick_list(path, data.get("pick_list"), units)
-    t_loc, t_src = "", {}
-    if q1 is not None and q1.parts:
-        t_loc, t_src = q1.parts[0].location, dict(q1.parts[0].source)
+    t_loc, t_src = places.get("Q1", ("", {}))
     return DesignFile(
         path=path, stage=stage, conditions=spec.conditions,
         targets=spec.targets.given() if spec.targets is not None else {}, units=units,
         stock_file=data.get("stock_file"), stock_checksum=data.get("stock_checksum"),
         roles=roles, pick_list=pick_list, transistor_location=t_loc, transistor_source=t_src,
-        spec=spec,
+        spec=spec, transistor_places=places,
     )
 
 

@@ -185,40 +185,27 @@ def load_spec(path: str | Path, stock=None, *, label_may_be_absent: bool = False
 def parse_spec(data: Mapping[str, Any], path: str = "<spec>", stock=None, *, label_may_be_absent: bool = False) -> Spec:
     """Build a ``Spec`` from an already-parsed TOML tree (see ``load_spec``)."""
     from ..analysis.targets import IE_WINDOW, Targets
-    from ..stages import Conditions
-
+    from ..stages import Conditions, two_stage
     from .readable_toml import restore
 
     r = _Reader(path)
+    if isinstance(data, Mapping) and data.get("topology") == two_stage.NAME:
+        from .cascade_spec import parse_cascade_spec
+
+        return parse_cascade_spec(data, path, stock, label_may_be_absent=label_may_be_absent)
     r.table("", data, _TOP_KEYS | {"exact"})
     data, notes = restore(data, path)  # a saved design's exact numbers in place of their rounded text
     topology = data.get("topology")
     if not isinstance(topology, str) or topology not in TOPOLOGY_ROLES:
-        raise r.fail("topology", topology, f"expected one of {', '.join(TOPOLOGY_ROLES)}")
-    polarity = data.get("polarity", "npn")
-    if not isinstance(polarity, str) or polarity.lower() not in ("npn", "pnp"):
-        raise r.fail("polarity", polarity, "expected 'npn' or 'pnp'")
-    polarity = polarity.lower()
-    if "supply" not in data:
-        raise r.fail("supply", None, "missing; give the supply voltage, e.g. supply = \"12 V\"")
-    supply = r.quantity("supply", data["supply"], "V")
-    rs = r.quantity("source_resistance", data["source_resistance"], "ohm", positive=False) \
-        if "source_resistance" in data else 0.0
-    load = None
-    if "load" in data and not (isinstance(data["load"], str) and data["load"].strip().lower() == "none"):
-        load = r.quantity("load", data["load"], "ohm")
-    mains = data.get("mains", False)
-    if not isinstance(mains, bool):
-        raise r.fail("mains", mains, "expected true or false")
+        known = (*TOPOLOGY_ROLES, two_stage.NAME)
+        raise r.fail("topology", topology, f"expected one of {', '.join(known)}")
+    polarity, supply, rs, load, mains, title = _surroundings(r, data)
     bypass = data.get("bypass", False)
     if not isinstance(bypass, bool):
         raise r.fail("bypass", bypass, "expected true or false")
     if bypass and not topology_module(topology).HAS_BYPASS:
         with_bypass = " and the ".join(m.TITLE for m in CIRCUITS if m.HAS_BYPASS)
         raise r.fail("bypass", bypass, f"only the {with_bypass} has a bypassed RE2")
-    title = data.get("title", "")
-    if not isinstance(title, str):
-        raise r.fail("title", title, "expected text")
 
     transistor, label = _transistor(r, data, polarity, stock, design="parts" not in data,
                                     label_may_be_absent=label_may_be_absent)
@@ -234,99 +221,128 @@ def parse_spec(data: Mapping[str, Any], path: str = "<spec>", stock=None, *, lab
                 pairs=pairs, bypass=bypass, title=title, assumptions=tuple(r.assumptions), notes=tuple(notes))
 
 
-def _transistor(r: _Reader, data, polarity, stock, design: bool = False, label_may_be_absent: bool = False):
+def _surroundings(r: _Reader, data) -> tuple:
+    """(polarity, supply, source resistance, load, mains, title): the keys every circuit's spec shares."""
+    polarity = data.get("polarity", "npn")
+    if not isinstance(polarity, str) or polarity.lower() not in ("npn", "pnp"):
+        raise r.fail("polarity", polarity, "expected 'npn' or 'pnp'")
+    polarity = polarity.lower()
+    if "supply" not in data:
+        raise r.fail("supply", None, "missing; give the supply voltage, e.g. supply = \"12 V\"")
+    supply = r.quantity("supply", data["supply"], "V")
+    rs = r.quantity("source_resistance", data["source_resistance"], "ohm", positive=False) \
+        if "source_resistance" in data else 0.0
+    load = None
+    if "load" in data and not (isinstance(data["load"], str) and data["load"].strip().lower() == "none"):
+        load = r.quantity("load", data["load"], "ohm")
+    mains = data.get("mains", False)
+    if not isinstance(mains, bool):
+        raise r.fail("mains", mains, "expected true or false")
+    title = data.get("title", "")
+    if not isinstance(title, str):
+        raise r.fail("title", title, "expected text")
+    return polarity, supply, rs, load, mains, title
+
+
+def _transistor(r: _Reader, data, polarity, stock, design: bool = False, label_may_be_absent: bool = False,
+                *, key: str = "transistor", lookup: str = "transistor", name: str = "Q1", who: str = ""):
+    """One transistor table ``data[lookup]`` (named ``key`` in messages) as (model, label).
+
+    ``name`` is its designator in notes; ``who`` prefixes the defaults it assumed ("Q2 ")."""
     from ..constants import VBE_DEFAULT, VCE_SAT_DEFAULT
     from ..stages import TransistorModel
 
-    if "transistor" not in data:
+    if lookup not in data:
         return None, None
-    t = r.table("transistor", data["transistor"], _TRANSISTOR_KEYS)
+    t = r.table(key, data[lookup], _TRANSISTOR_KEYS)
     label = t.get("label")
     if label is not None and (not isinstance(label, str) or not label.strip()):
-        raise r.fail("transistor.label", label, "expected the label of a transistor line in the stock")
+        raise r.fail(f"{key}.label", label, "expected the label of a transistor line in the stock")
     fields: dict[str, Any] = {}
     if label is not None and stock is not None and label_may_be_absent and ("hfe" in t or "hfe_min" in t):
         if not any((ln.label or "").strip().lower() == label.strip().lower() for ln in stock.transistors()):
             stock = None  # not in the drawer: the spec's own figures describe it
-            r.assumptions.append(f"Q1 {label.strip()!r} is not in the stock: its figures are the spec's")
+            r.assumptions.append(f"{name} {label.strip()!r} is not in the stock: its figures are the spec's")
     if label is not None and stock is not None:
-        line = _stock_transistor(r, stock, label.strip(), polarity, label_may_be_absent)
-        for name in ("hfe_min", "hfe_max", "vceo", "ic_max", "pd", "vbe", "vce_sat"):
-            v = getattr(line, name, None)
+        line = _stock_transistor(r, stock, label.strip(), polarity, label_may_be_absent, key=key)
+        for field_name in ("hfe_min", "hfe_max", "vceo", "ic_max", "pd", "vbe", "vce_sat"):
+            v = getattr(line, field_name, None)
             if v is not None:
-                fields[name] = float(v)
+                fields[field_name] = float(v)
         if line.pins:
             fields["pins"] = line.pins
     if "pins" in t:
         from ..parts import parse_pin_order
 
         if not isinstance(t["pins"], str):
-            raise r.fail("transistor.pins", t["pins"], "expected the leads in pin order, e.g. \"EBC\"")
+            raise r.fail(f"{key}.pins", t["pins"], "expected the leads in pin order, e.g. \"EBC\"")
         try:
             fields["pins"] = parse_pin_order(t["pins"])
         except ValueError as exc:
-            raise r.fail("transistor.pins", t["pins"], str(exc)) from None
+            raise r.fail(f"{key}.pins", t["pins"], str(exc)) from None
     units = {"vbe": "V", "vce_sat": "V", "vceo": "V", "ic_max": "A", "pd": "W", "i_sat": "A"}
-    for name, unit in units.items():
-        if name in t:
-            fields[name] = r.quantity(f"transistor.{name}", t[name], unit)
+    for field_name, unit in units.items():
+        if field_name in t:
+            fields[field_name] = r.quantity(f"{key}.{field_name}", t[field_name], unit)
     if "vbe_tempco" in t:
         raw = t["vbe_tempco"]
         if isinstance(raw, bool) or not isinstance(raw, (int, float)):
-            raise r.fail("transistor.vbe_tempco", raw, "expected a number in V/°C, such as -0.002")
+            raise r.fail(f"{key}.vbe_tempco", raw, "expected a number in V/°C, such as -0.002")
         fields["vbe_tempco"] = float(raw)
     if "hfe" in t and ("hfe_min" in t or "hfe_max" in t):
-        raise r.fail("transistor.hfe", t["hfe"], "give either hfe or hfe_min and hfe_max, not both")
+        raise r.fail(f"{key}.hfe", t["hfe"], "give either hfe or hfe_min and hfe_max, not both")
     if "hfe" in t:
-        fields["hfe_min"] = fields["hfe_max"] = r.gain("transistor.hfe", t["hfe"])
-    for name in ("hfe_min", "hfe_max"):
-        if name in t:
-            fields[name] = r.gain(f"transistor.{name}", t[name])
+        fields["hfe_min"] = fields["hfe_max"] = r.gain(f"{key}.hfe", t["hfe"])
+    for field_name in ("hfe_min", "hfe_max"):
+        if field_name in t:
+            fields[field_name] = r.gain(f"{key}.{field_name}", t[field_name])
     if ("hfe_min" in fields) != ("hfe_max" in fields):
         only = "hfe_min" if "hfe_min" in fields else "hfe_max"
-        raise r.fail(f"transistor.{only}", t.get(only), "give both hfe_min and hfe_max (or one hfe)")
+        raise r.fail(f"{key}.{only}", t.get(only), "give both hfe_min and hfe_max (or one hfe)")
     if "hfe_min" not in fields:
         if label is not None and stock is None and design:
             # A design spec names a stock line; the design command resolves it with its stock.
             return None, label.strip()
         if label is not None and stock is None:
-            raise r.fail("transistor.label", label, "needs --stock to look up its hFE (or give hfe here)")
+            raise r.fail(f"{key}.label", label, "needs --stock to look up its hFE (or give hfe here)")
         if label is not None:
-            raise r.fail("transistor.label", label, "the stock line gives no hFE; add hfe here")
-        raise r.fail("transistor", None, "needs hfe, or hfe_min and hfe_max, or a label with --stock")
+            raise r.fail(f"{key}.label", label, "the stock line gives no hFE; add hfe here")
+        raise r.fail(key, None, "needs hfe, or hfe_min and hfe_max, or a label with --stock")
     if fields["hfe_min"] > fields["hfe_max"]:
-        raise r.fail("transistor.hfe_min", t.get("hfe_min"), "is above hfe_max")
-    for name, default in (("vbe", VBE_DEFAULT), ("vce_sat", VCE_SAT_DEFAULT)):
-        if name not in fields:
-            r.assumptions.append(f"{name} {default} V (common practice)")
+        raise r.fail(f"{key}.hfe_min", t.get("hfe_min"), "is above hfe_max")
+    for field_name, default in (("vbe", VBE_DEFAULT), ("vce_sat", VCE_SAT_DEFAULT)):
+        if field_name not in fields:
+            r.assumptions.append(f"{who}{field_name} {default} V (common practice)")
     try:
         model = TransistorModel(polarity=polarity, label=(label or "").strip(), **fields)
     except ValueError as exc:
-        raise r.fail("transistor", None, str(exc)) from None
+        raise r.fail(key, None, str(exc)) from None
     return model, (label.strip() if label else None)
 
 
-def _stock_transistor(r: _Reader, stock, label: str, polarity: str, label_may_be_absent: bool = False):
+def _stock_transistor(r: _Reader, stock, label: str, polarity: str, label_may_be_absent: bool = False,
+                      key: str = "transistor"):
     lines = [ln for ln in stock.transistors() if (ln.label or "").strip().lower() == label.lower()]
     if not lines:
         known = sorted({ln.label for ln in stock.transistors() if ln.label})
         hint = f"; the stock has {', '.join(known)}" if known else "; the stock has no transistors"
         if label_may_be_absent:
             hint += " (give its hfe_min and hfe_max, and its ratings, in [transistor])"
-        raise r.fail("transistor.label", label, f"no transistor with this label in the stock{hint}")
+        raise r.fail(f"{key}.label", label, f"no transistor with this label in the stock{hint}")
     line = lines[0]
     if line.polarity and line.polarity.lower() != polarity:
-        raise r.fail("transistor.label", label,
+        raise r.fail(f"{key}.label", label,
                      f"is {line.polarity.upper()} in the stock but the stage is {polarity.upper()}")
     return line
 
 
-def _parts(r: _Reader, data, topology) -> dict:
+def _parts(r: _Reader, data, topology, roles: tuple[str, ...] | None = None) -> dict:
+    """The [parts] table; ``roles`` (default: the topology's) are the keys it may hold."""
     from ..stages import Part
 
     if "parts" not in data:
         return {}
-    roles = TOPOLOGY_ROLES[topology]
+    roles = TOPOLOGY_ROLES[topology] if roles is None else roles
     table = r.table("parts", data["parts"], set(roles))
     parts = {}
     assumed_polar: list[str] = []

@@ -14,7 +14,6 @@ from dataclasses import dataclass
 from pathlib import Path
 
 from ..parts import SpecError, pin_order_text
-from ..stages import RESISTOR_ROLES
 from ..values import format_code, format_percent, format_si
 from ..io.saved_design import DesignFile
 
@@ -48,7 +47,8 @@ COLUMNS = (
     ("For all units", "total"),
 )
 
-ROLE_ORDER = ("R1", "R2", "RE", "RE2", "RC", "C1", "C2", "CE")
+# the single stages' roles, then the two-stage amplifier's second stage (stages/two_stage.py)
+ROLE_ORDER = ("R1", "R2", "RE", "RE2", "RC", "C1", "C2", "CE", "R3", "R4", "RE3", "C3")
 
 
 def roles_in_order(stage):
@@ -94,13 +94,13 @@ def neutralise(cell):
 
 
 def _unit(role: str) -> str:
-    return "ohm" if role in RESISTOR_ROLES else "F"
+    return "ohm" if role.startswith("R") else "F"  # the kind follows the letter (stages/base.py)
 
 
 def _rating_text(role: str, rating: float | None) -> str:
     if rating is None:
         return ""
-    return format_si(rating, "W" if role in RESISTOR_ROLES else "V", 3)
+    return format_si(rating, "W" if role.startswith("R") else "V", 3)
 
 
 def bom_rows(design: DesignFile) -> list[BomRow]:
@@ -135,17 +135,19 @@ def bom_rows(design: DesignFile) -> list[BomRow]:
                                rating=_rating_text(role, rating), bin=m.location,
                                stock_file=str(src.get("file") or ""), stock_sheet=str(src.get("sheet") or ""),
                                stock_row=int(m.row) if m.row is not None else None, **common))
-    t = stage.transistor
-    src = design.transistor_source
-    rating = ", ".join(x for x in (
-        f"VCEO {format_si(t.vceo, 'V', 3)}" if t.vceo else "",
-        f"IC max {format_si(t.ic_max, 'A', 3)}" if t.ic_max else "",
-        f"Pd {format_si(t.pd, 'W', 3)}" if t.pd else "") if x)
-    name = f"{t.label} ({t.polarity.upper()})" if t.label else t.polarity.upper()
-    made = f"hFE {t.hfe_min:g} to {t.hfe_max:g}" + (f"; pins {pin_order_text(t.pins)}" if t.pins else "")
-    rows.append(BomRow("Q1", "Q1", name, t.label, None, made, name, t.label, "", rating,
-                       design.transistor_location, str(src.get("file") or ""), str(src.get("sheet") or ""),
-                       int(src["row"]) if src.get("row") is not None else None, 1, units))
+    for designator, t in design.transistors.items():
+        loc, src = design.transistor_places.get(designator, ("", {}))
+        if designator == "Q1" and not loc:
+            loc, src = design.transistor_location, design.transistor_source
+        rating = ", ".join(x for x in (
+            f"VCEO {format_si(t.vceo, 'V', 3)}" if t.vceo else "",
+            f"IC max {format_si(t.ic_max, 'A', 3)}" if t.ic_max else "",
+            f"Pd {format_si(t.pd, 'W', 3)}" if t.pd else "") if x)
+        name = f"{t.label} ({t.polarity.upper()})" if t.label else t.polarity.upper()
+        made = f"hFE {t.hfe_min:g} to {t.hfe_max:g}" + (f"; pins {pin_order_text(t.pins)}" if t.pins else "")
+        rows.append(BomRow(designator, designator, name, t.label, None, made, name, t.label, "", rating,
+                           loc, str(src.get("file") or ""), str(src.get("sheet") or ""),
+                           int(src["row"]) if src.get("row") is not None else None, 1, units))
     return rows
 
 

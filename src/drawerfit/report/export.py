@@ -38,6 +38,12 @@ def _num(x: float) -> str:
 
 def design_netlist(design: DesignFile, *, analyses: bool = True) -> str:
     """The deck as text.  ``analyses`` adds .op and an .ac sweep around the corner."""
+    from ..stages.two_stage import TwoStage
+
+    if isinstance(design.stage, TwoStage):
+        from .export_two_stage import two_stage_netlist
+
+        return two_stage_netlist(design, analyses=analyses)
     from ..analysis.core import evaluate
     from .bom import roles_in_order
     from .figures import gather, polarity_text

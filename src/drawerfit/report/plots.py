@@ -91,12 +91,14 @@ def response_data(design, *, points: int = 400):
 
 
 @_with_rc
-def response_svg(design) -> str:
-    """|gain| in dB from the source EMF to the load over log frequency, target corner marked."""
-    f, db, mid, f_low = response_data(design)
+def response_svg(design, data=None, *, what: str = "this stage") -> str:
+    """|gain| in dB from the source EMF to the load over log frequency, target corner marked.
+
+    ``data`` is ``response_data``'s tuple (default: the single stage's); ``what`` names the curve."""
+    f, db, mid, f_low = response_data(design) if data is None else data
     fig = _figure()
     ax = fig.add_subplot()
-    ax.semilogx(f, db, color=PALETTE["ink"], lw=1.8, label="this stage (nominal parts)")
+    ax.semilogx(f, db, color=PALETTE["ink"], lw=1.8, label=f"{what} (nominal parts)")
     target = design.targets.get("f_low")
     if math.isfinite(mid):
         ax.axhline(mid - 3.0103, color=PALETTE["soft"], lw=0.9, ls=":", label="3 dB below mid-band")
@@ -143,9 +145,11 @@ def load_line_data(design, nominal) -> dict:
 
 
 @_with_rc
-def load_lines_svg(design, nominal) -> str:
-    """IC over VCE: the DC and AC load lines, the quiescent point, saturation and cut-off ends."""
-    data = load_line_data(design, nominal)
+def load_lines_svg(design, nominal, data=None) -> str:
+    """IC over VCE: the DC and AC load lines, the quiescent point, saturation and cut-off ends.
+
+    ``data`` is ``load_line_data``'s dict (default: the single stage's transistor)."""
+    data = load_line_data(design, nominal) if data is None else data
     pnp = design.stage.polarity == "pnp"
     vname = "VEC" if pnp else "VCE"
     fig = _figure(8.0, 3.8)

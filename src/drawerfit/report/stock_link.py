@@ -23,6 +23,10 @@ def link_stock(design: DesignFile, stock) -> tuple[DesignFile, str]:
             notes.append("stock file checked: unchanged since the design was made")
         else:
             notes.append("the stock file has changed since the design was made: check the bins before you pick")
+    from ..stages.two_stage import TwoStage
+
+    if isinstance(design.stage, TwoStage):  # its file names both transistors' bins itself
+        return design, "; ".join(notes)
     t = design.stage.transistor
     if not design.transistor_location and t.label:
         same = [line for line in stock.transistors() if (line.label or "").strip().lower() == t.label.lower()]

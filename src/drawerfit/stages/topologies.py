@@ -8,14 +8,20 @@ from __future__ import annotations
 
 from types import ModuleType
 
-from . import common_emitter, follower
+from . import common_emitter, follower, two_stage
 
-__all__ = ["TOPOLOGIES", "TOPOLOGY_ROLES", "INTERFACE", "CIRCUITS", "topology_module"]
+__all__ = ["TOPOLOGIES", "TOPOLOGY_ROLES", "INTERFACE", "CIRCUITS", "topology_module", "ASSEMBLIES",
+           "ASSEMBLY_NAMES"]
 
 CIRCUITS: tuple[ModuleType, ...] = (follower, common_emitter)
 TOPOLOGIES = tuple(m.NAME for m in CIRCUITS)
 _MODULES = {m.NAME: m for m in CIRCUITS}
 TOPOLOGY_ROLES = {name: module.ROLES for name, module in _MODULES.items()}
+# Circuits of more than one stage (the two-stage amplifier): their figures live in their own
+# analysis modules (analysis/cascade.py), not behind the single-stage interface below; code
+# outside them tells one apart by its type (``TwoStage``, ``CascadeSpec``), never by its name.
+ASSEMBLIES: tuple[ModuleType, ...] = (two_stage,)
+ASSEMBLY_NAMES = tuple(m.NAME for m in ASSEMBLIES)
 
 # What every circuit module provides (DEVELOPERS.md, "Adding a circuit", says what each is for).
 INTERFACE = (

@@ -31,9 +31,10 @@ import numpy as np
 
 from ..analysis.cascade import (CASCADE_CAP_KEYS, CAP_FIGURE, POWER_FIGURE, _Mag, _kernel_params,
                                 cascade_low_corner, cascade_vertices, cascade_worst_case)
+from ..analysis.cascade_targets import CascadeTargets, cascade_target_margins
 from ..parts import SpecError, StockLine
 from ..stages import Conditions
-from ..stages import two_stage
+from ..stages import follower, two_stage
 from .judge import MU_CLASSES, cap_margin, mu_class
 from .pools import Pools
 from .tables import build_tables
@@ -50,53 +51,14 @@ STAGE1_CHUNK = 2048  # stage-1 sets judged at once (times up to 2⁷ vertices)
 CAP_COMBOS = 200_000  # capacitor combinations tried for one resistor design at most
 
 
-@dataclass(frozen=True)
-class CascadeTargets:
-    """The amplifier's targets: IE windows per stage (A; stage 1 required), the overall gain
-    magnitude window, f_low (Hz, required), the swing into the load (peak V), rin_min, rout_max."""
-
-    ie1_min: float
-    ie1_max: float
-    f_low: float
-    ie2_min: float | None = None
-    ie2_max: float | None = None
-    gain_min: float | None = None
-    gain_max: float | None = None
-    swing: float | None = None
-    rin_min: float | None = None
-    rout_max: float | None = None
-
-    def __post_init__(self) -> None:
-        if not (0 < self.ie1_min <= self.ie1_max < math.inf):
-            raise SpecError("[targets]: need 0 < ie1_min <= ie1_max")
-        if (self.ie2_min is None) != (self.ie2_max is None) or (
-                self.ie2_min is not None and not 0 < self.ie2_min <= self.ie2_max < math.inf):
-            raise SpecError("[targets]: give both ie2_min and ie2_max, with 0 < ie2_min <= ie2_max")
-        for name in ("f_low", "gain_min", "gain_max", "swing", "rin_min", "rout_max"):
-            v = getattr(self, name)
-            if v is not None and not (0 < v < math.inf):
-                raise SpecError(f"[targets]: {name} must be positive, not {v!r}")
-        if self.gain_min is not None and self.gain_max is not None and self.gain_min > self.gain_max:
-            raise SpecError("[targets]: gain_min is above gain_max")
-
-    def limits(self) -> dict:
-        """name -> (figure, +1 lower bound / −1 upper bound, value) of every target given."""
-        out = {"ie1_min": ("ie1", 1, self.ie1_min), "ie1_max": ("ie1", -1, self.ie1_max)}
-        for name, fig, side in (("ie2_min", "ie2", 1), ("ie2_max", "ie2", -1), ("gain_min", "gain_abs", 1),
-                                ("gain_max", "gain_abs", -1), ("swing", "swing_peak", 1), ("rin_min", "rin", 1),
-                                ("rout_max", "rout", -1)):
-            if getattr(self, name) is not None:
-                out[name] = (fig, side, getattr(self, name))
-        return out
-
-    def centres(self) -> dict:
-        """figure -> (centre, half width) of the two-sided windows (the distance D)."""
-        out = {"ie1": ((self.ie1_min + self.ie1_max) / 2, max((self.ie1_max - self.ie1_min) / 2, 1e-30))}
-        if self.ie2_min is not None:
-            out["ie2"] = ((self.ie2_min + self.ie2_max) / 2, max((self.ie2_max - self.ie2_min) / 2, 1e-30))
-        if self.gain_min is not None and self.gain_max is not None:
-            out["gain_abs"] = ((self.gain_min + self.gain_max) / 2, max((self.gain_max - self.gain_min) / 2, 1e-30))
-        return out
+def _centres(targets: CascadeTargets) -> dict:
+    """figure -> (centre, half width) of the two-sided windows (the distance D)."""
+    out = {}
+    for fig, lo, hi in (("ie1", targets.ie1_min, targets.ie1_max), ("ie2", targets.ie2_min, targets.ie2_max),
+                        ("gain_abs", targets.gain_min, targets.gain_max)):
+        if lo is not None and hi is not None:
+            out[fig] = ((lo + hi) / 2, max((hi - lo) / 2, 1e-30))
+    return out
 
 
 @dataclass(frozen=True)
@@ -115,6 +77,13 @@ class CascadeProblem:
     units: int = 1
 
     def __post_init__(self) -> None:
+        t = self.targets
+        if t.ie1_min is None or t.ie1_max is None or not 0 < t.ie1_min <= t.ie1_max < math.inf:
+            raise SpecError("[targets]: the design needs ie1_min and ie1_max (stage 1's emitter current window)")
+        if (t.ie2_min is None) != (t.ie2_max is None):
+            raise SpecError("[targets]: give both ie2_min and ie2_max, or neither")
+        if t.f_low is None:
+            raise SpecError("[targets]: f_low is needed to choose the capacitors")
         if self.polarity not in ("npn", "pnp"):
             raise SpecError(f"polarity must be npn or pnp, not {self.polarity!r}")
         if self.coupling not in two_stage.COUPLINGS:
@@ -190,15 +159,11 @@ def _nominal_args(problem: CascadeProblem, q1, q2, v: dict, tol: dict) -> tuple[
 def cascade_margins(problem: CascadeProblem, wc, power: dict, q1, q2) -> dict:
     """Worst-case margin of every target and rating (≥ 0 met), vectorised over designs: the rules
     of the single stages' checks (analysis/targets.py) for both stages; ``power`` role -> W rating."""
-    low, high = dict(wc.low), dict(wc.high)
-    a, b = np.abs(low["gain"]), np.abs(high["gain"])
-    same = np.sign(low["gain"]) == np.sign(high["gain"])
-    low["gain_abs"], high["gain_abs"] = np.where(same, np.minimum(a, b), 0.0), np.maximum(a, b)
-    out = {}
+    from dataclasses import replace as _replace
+
+    low, high = wc.low, wc.high
+    out = cascade_target_margins(_replace(problem.targets, f_low=None), low, high)
     with np.errstate(invalid="ignore", divide="ignore"):
-        for name, (fig, side, bound) in problem.targets.limits().items():
-            val = low[fig] if side > 0 else high[fig]
-            out[name] = np.nan_to_num(side * (val - bound) / bound, nan=-np.inf)
         out["both active"] = np.where(wc.all_active, 1.0, -1.0)
         c = problem.conditions
         for role, rating in power.items():
@@ -223,7 +188,7 @@ def _distance(problem: CascadeProblem, q1, q2, v: dict) -> np.ndarray:
     fig = evaluate_cascade_dc(hfe1=q1.hfe, hfe2=q2.hfe, temp_c=problem.conditions.nominal_temp, **kw)
     vals = {"ie1": fig.ie1, "ie2": fig.ie2, "gain_abs": np.abs(fig.gain)}
     d2 = 0.0
-    for name, (centre, half) in problem.targets.centres().items():
+    for name, (centre, half) in _centres(problem.targets).items():
         d2 = d2 + ((vals[name] - centre) / half) ** 2
     return np.sqrt(d2)
 
@@ -581,7 +546,7 @@ def design_cascade(problem: CascadeProblem, lines, *, top: int = 1, exhaustive: 
     rc_tabs = {c: rtab.one(c) for c in range(1, problem.max_parts + 1) if c in rtab}
     cc_tabs = {c: ctab.one(c) for c in range(1, problem.max_parts + 1) if c in ctab}
     # the transistor lines as the single stages judge them (polarity, quantity, hFE given, VCEO)
-    probe = DesignProblem("emitter-follower", problem.polarity, problem.supply,
+    probe = DesignProblem(follower.NAME, problem.polarity, problem.supply,
                           DesignTargets(ie_min=problem.targets.ie1_min, ie_max=problem.targets.ie1_max,
                                         f_low=problem.targets.f_low), units=problem.units)
     trs, why = suitable_transistors(probe, lines)

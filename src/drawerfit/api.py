@@ -242,7 +242,9 @@ def _hfe_range(hfe: Any, lo: Any, hi: Any, error) -> dict:
 def design(spec: Any, stock: Any, *, units: int = 1, max_parts: int = 2, guarantee: str = "worst-case",
            prefer: str = "fewest-parts", top: int = 1, exhaustive: bool = False, budget: float = 1.0,
            on_step: Callable[..., None] | None = None):
-    """The stage from the drawer that meets every target with the fewest parts: a ``DesignResult``.
+    """The stage from the drawer that meets every target with the fewest parts: a ``DesignResult``
+    (for a two-stage spec a ``search.cascade_search.CascadeOutcome``: its ``designs``, best first,
+    and whether the search ``proven`` them the best).
 
     ``spec`` is a design spec (``Spec`` or path), ``stock`` a ``Stock`` or path.  When nothing in
     the drawer will do, the result says why, with the nearest design and what to buy; a search
@@ -251,8 +253,19 @@ def design(spec: Any, stock: Any, *, units: int = 1, max_parts: int = 2, guarant
     from .search.design import design as _design
     from .search.problem import problem_from_spec
 
+    from .io.cascade_spec import CascadeSpec
+
     stock = load_stock(stock)
     spec = load_spec(spec, stock)
+    if isinstance(spec, CascadeSpec):  # both stages of a two-stage amplifier, searched together
+        from .commands.design_two_stage import cascade_problem
+        from .search.cascade_search import WORK_BUDGET, design_cascade
+
+        problem = cascade_problem(spec, units=units, max_parts=max_parts)
+        outcome = design_cascade(problem, list(stock.lines), top=top, exhaustive=exhaustive,
+                                 budget=int(WORK_BUDGET * budget), labels=dict(spec.transistor_labels or {}))
+        outcome.problem, outcome.spec, outcome.stock = problem, spec, stock
+        return outcome
     problem = problem_from_spec(spec, units=units, max_parts=max_parts, guarantee=guarantee, prefer=prefer)
     result = _design(problem, stock, top=top, exhaustive=exhaustive, on_step=on_step, budget=budget)
     result.spec, result.stock = spec, stock

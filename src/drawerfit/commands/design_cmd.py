@@ -151,6 +151,14 @@ def run_design(spec_file: str, stock_file: str, *, units: int = 1, max_parts: in
     if not quiet:
         report_problems(stock)
     spec = api.load_spec(spec_file, stock)
+    from ..io.cascade_spec import CascadeSpec
+
+    if isinstance(spec, CascadeSpec):  # the two-stage amplifier: both stages searched together
+        from .design_two_stage import run_cascade_design
+
+        run_cascade_design(spec, stock, stock_file, units=units, max_parts=max_parts, top=top, as_json=as_json,
+                           save=save, exhaustive=exhaustive, quiet=quiet, budget=budget, report=report)
+        return
     with progress("design", quiet=quiet) as tick:
         result = api.design(spec, stock, units=units, max_parts=max_parts, guarantee=guarantee, prefer=prefer,
                             top=top, exhaustive=exhaustive, on_step=tick, budget=budget)

@@ -17,7 +17,7 @@ from ..stages import two_stage
 
 __all__ = ["CascadeSpec", "parse_cascade_spec", "CASCADE_TOP_KEYS"]
 
-CASCADE_TOP_KEYS = {"topology", "coupling", "polarity", "supply", "source_resistance", "load", "mains",
+CASCADE_TOP_KEYS = {"topology", "coupling", "bypass", "polarity", "supply", "source_resistance", "load", "mains",
                     "transistors", "parts", "targets", "limits", "title",
                     # written with a saved design for take, export and report; analyze reads past them
                     "units", "stock_checksum", "stock_file", "pick_list", "design", "exact"}
@@ -44,6 +44,7 @@ class CascadeSpec:
     targets: Any = None  # analysis.cascade_targets.CascadeTargets
     conditions: Any = None  # stages.Conditions
     title: str = ""
+    bypass: bool = False  # design: stage 1's RE2 bypassed by CE
     assumptions: tuple[str, ...] = ()
     notes: tuple[str, ...] = ()
 
@@ -100,6 +101,11 @@ def parse_cascade_spec(data: Mapping[str, Any], path: str = "<spec>", stock=None
     coupling = coupling.strip().lower()
     polarity, supply, rs, load, mains, title = _surroundings(r, data)
     design = "parts" not in data
+    bypass = data.get("bypass", False)
+    if not isinstance(bypass, bool):
+        raise r.fail("bypass", bypass, "expected true or false")
+    if bypass and not design:
+        raise r.fail("bypass", bypass, "for a design spec only; an amplifier to analyse has RE2 and CE in [parts]")
     transistors: dict[str, Any] = {}
     labels: dict[str, str | None] = {}
     if "transistors" in data:
@@ -136,7 +142,7 @@ def parse_cascade_spec(data: Mapping[str, Any], path: str = "<spec>", stock=None
         raise SpecError(f"{path}: neither [parts] (an amplifier to analyse) nor [targets] (one to design)")
     return CascadeSpec(path=path, coupling=coupling, polarity=polarity, supply=supply, source_resistance=rs,
                        load=load, mains=mains, transistors=transistors, transistor_labels=labels, parts=parts,
-                       targets=targets, conditions=conditions, title=title,
+                       targets=targets, conditions=conditions, title=title, bypass=bypass,
                        assumptions=tuple(r.assumptions), notes=tuple(notes))
 
 

@@ -128,6 +128,31 @@ class CascadeDesign:
         t, i = self.choice[role]
         return float(t.tol[i])
 
+    def equivalent(self, role: str):
+        """The ``equivalents.Equivalent`` of a role: its stock lines, arrangement and value."""
+        t, i = self.choice[role]
+        return t.equivalent(i)
+
+    def circuit(self, problem: "CascadeProblem"):
+        """The design as a ``stages.two_stage.TwoStage`` (each role's network value, tolerance, rating)."""
+        from .runner import transistor_model
+        from ..stages import Part
+
+        parts = {}
+        for role, (t, i) in self.choice.items():
+            parts[role] = Part(float(t.v[i]), float(t.tol[i]), float(t.rating[i]), bool(t.polarized[i]))
+        return two_stage.TwoStage(problem.polarity, problem.supply, problem.coupling, parts,
+                                  transistor_model(self.q1), transistor_model(self.q2),
+                                  problem.source_resistance, problem.load)
+
+    def role_lines(self) -> dict:
+        """role -> [(StockLine, parts per unit)], as the saved design records them."""
+        return {role: list(self.equivalent(role).uses) for role in self.choice}
+
+    def arrangements(self) -> dict:
+        return {role: self.equivalent(role).arrangement for role in self.choice
+                if sum(n for _l, n in self.equivalent(role).uses) > 1}
+
 
 @dataclass
 class CascadeOutcome:
@@ -137,6 +162,18 @@ class CascadeOutcome:
     proven: bool
     judged: int = 0
     reasons: list = field(default_factory=list)
+    problem: object = None
+    spec: object = None
+    stock: object = None
+
+    @property
+    def feasible(self) -> bool:
+        return bool(self.designs)
+
+    def to_dict(self) -> dict:
+        from ..commands.design_two_stage import cascade_design_dict
+
+        return cascade_design_dict(self.problem, self)
 
 
 # --- figures and margins -------------------------------------------------------------------------
@@ -534,8 +571,9 @@ def _shapes(problem: CascadeProblem):
 
 
 def design_cascade(problem: CascadeProblem, lines, *, top: int = 1, exhaustive: bool = False,
-                   budget: int = WORK_BUDGET) -> CascadeOutcome:
-    """The ``top`` best designs of ``problem`` from stock ``lines`` (see the module docstring)."""
+                   budget: int = WORK_BUDGET, labels: dict | None = None) -> CascadeOutcome:
+    """The ``top`` best designs of ``problem`` from stock ``lines`` (see the module docstring);
+    ``labels`` (Q1/Q2 -> stock label) holds a transistor to the lines of that label."""
     from .runner import suitable_transistors
     from .problem import DesignProblem, DesignTargets
 
@@ -558,8 +596,13 @@ def design_cascade(problem: CascadeProblem, lines, *, top: int = 1, exhaustive: 
         outcome.reasons.append("the drawer has no " + ("resistors" if not rc_tabs else "capacitors"))
         return outcome
     n_caps = len(problem.cap_roles)
+    labels = {k: v.lower() for k, v in (labels or {}).items() if v}
+
+    def allowed(line, name):
+        return name not in labels or (line.label or "").lower() == labels[name]
+
     searches = [_Search(problem, rc_tabs, cc_tabs, pools, a, b, exhaustive) for a, b in itertools.product(trs, repeat=2)
-                if a.index != b.index or a.qty >= 2 * problem.units]
+                if (a.index != b.index or a.qty >= 2 * problem.units) and allowed(a, "Q1") and allowed(b, "Q2")]
     if not searches:
         outcome.reasons.append("one transistor line with too few parts for both stages")
         return outcome

@@ -1,0 +1,154 @@
+"""`drawerfit design` on a two-stage spec: both stages from one drawer (search/cascade_search.py)."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import click
+
+from ..parts import UNIT_OF_KIND, NoDesignError, SearchLimitError, SpecError
+from ..results import code as _code
+from ..values import format_si
+from .common import emit_json, rating_text
+
+__all__ = ["cascade_problem", "run_cascade_design", "cascade_design_dict"]
+
+
+def cascade_problem(spec, *, units: int, max_parts: int):
+    """The joint search's problem from a two-stage design spec (``io.cascade_spec.CascadeSpec``)."""
+    from ..search.cascade_search import CascadeProblem
+    from ..stages import Conditions
+
+    if spec.parts:
+        raise SpecError(f"{spec.path}: the spec has [parts]: `design` takes a spec with [targets] only "
+                        "(use `analyze` for an amplifier already chosen)")
+    if spec.targets is None:
+        raise SpecError(f"{spec.path}: [targets] is missing")
+    return CascadeProblem(spec.polarity, spec.supply, spec.coupling, spec.targets,
+                          conditions=spec.conditions or Conditions(), source_resistance=spec.source_resistance,
+                          load=spec.load, bypass=spec.bypass, max_parts=max_parts, units=units)
+
+
+def cascade_design_dict(problem, outcome, analysis=None) -> dict:
+    """The answer as JSON-safe data: status, each design's parts with their stock lines, margins."""
+    from ..analysis.result import json_float
+
+    def design(d):
+        roles = {}
+        for role in d.choice:
+            eq = d.equivalent(role)
+            roles[role] = {"value": json_float(eq.value), "tolerance": json_float(d.tolerance(role)),
+                           "arrangement": eq.arrangement,
+                           "parts": [{"row": ln.source.row, "location": ln.location, "label": ln.label,
+                                      "value": json_float(ln.value), "count_per_unit": n} for ln, n in eq.uses]}
+        return {"part_count": d.part_count, "distance": json_float(d.distance),
+                "smallest_margin": json_float(min(d.margins.values())),
+                "transistors": {"Q1": {"label": d.q1.label, "row": d.q1.source.row, "location": d.q1.location},
+                                "Q2": {"label": d.q2.label, "row": d.q2.source.row, "location": d.q2.location}},
+                "roles": roles, "worst_case_margins": {k: json_float(v) for k, v in d.margins.items()}}
+
+    status = ("optimal" if outcome.proven else "best found") if outcome.designs else (
+        "infeasible" if outcome.proven else "not found within the work budget")
+    from ..stages import two_stage
+
+    out = {"topology": two_stage.NAME, "coupling": problem.coupling, "polarity": problem.polarity,
+           "status": status, "proven": outcome.proven, "units": problem.units,
+           "designs": [design(d) for d in outcome.designs], "judged": outcome.judged,
+           "reasons": list(outcome.reasons)}
+    if analysis is not None:
+        out["analysis"] = analysis.to_dict()
+    return out
+
+
+def run_cascade_design(spec, stock, stock_file: str, *, units: int, max_parts: int, top: int, as_json: bool,
+                       save: str | None, exhaustive: bool, quiet: bool, budget: float,
+                       report: str | None = None) -> None:
+    from .. import api
+    from ..cautions import cautions_for
+    from ..search.cascade_search import WORK_BUDGET, design_cascade
+    problem = cascade_problem(spec, units=units, max_parts=max_parts)
+    outcome = design_cascade(problem, list(stock.lines), top=top, exhaustive=exhaustive,
+                             budget=int(WORK_BUDGET * budget), labels=dict(spec.transistor_labels or {}))
+    if not outcome.designs:
+        if as_json:
+            emit_json(cascade_design_dict(problem, outcome))
+        else:
+            click.echo("No two-stage design from this drawer meets the spec.")
+            for r in outcome.reasons:
+                click.echo(f"  {r}")
+        if not outcome.proven:
+            raise SearchLimitError("no design was found before the search's work budget ran out; that none "
+                                   "exists is not proven (exit status 5); a smaller drawer or wider windows help")
+        raise NoDesignError("no design in the drawer meets the spec (exit status 3)")
+    best = outcome.designs[0]
+    circuit = best.circuit(problem)
+    analysis = api.analyse(circuit, conditions=problem.conditions, targets=problem.targets)
+    cautions = cautions_for(analysis, mains=spec.mains)
+    if as_json:
+        emit_json(cascade_design_dict(problem, outcome, analysis))
+        for c in cautions:
+            click.echo(f"caution: {c.text}", err=True)
+    else:
+        _print(problem, outcome, analysis, spec, cautions, quiet)
+    if save is not None or report is not None:
+        from ..io.saved_two_stage import write_two_stage_design
+
+        target = Path(save) if save is not None else None
+        if target is None:
+            import tempfile
+
+            target = Path(tempfile.mkdtemp(prefix="drawerfit-")) / "design.toml"
+        write_two_stage_design(target, circuit, best.role_lines(), units=units, stock_file=stock_file,
+                               transistor_lines={"Q1": best.q1, "Q2": best.q2}, arrangements=best.arrangements(),
+                               targets=problem.targets, conditions=problem.conditions, title=spec.title,
+                               mains=spec.mains)
+        if save is not None and not as_json:
+            click.echo(f"saved: {target}")
+        if report is not None:
+            from ..report.html import write_report
+
+            write_report(str(target), report, stock_file=stock_file)
+            if not as_json:
+                click.echo(f"report: {report}")
+    if not outcome.proven:
+        raise SearchLimitError("the search stopped at its work budget: the design shown is the best found, "
+                               "not proven optimal (exit status 5)")
+
+
+def _print(problem, outcome, analysis, spec, cautions, quiet: bool) -> None:
+    from .analyze_cmd import cascade_summary_lines
+
+    best = outcome.designs[0]
+    state = "optimal" if outcome.proven else "best found (not proven optimal)"
+    per = f" for {problem.units} units" if problem.units > 1 else ""
+    click.echo(f"Two-stage design ({state}, worst-case guarantee){per}: {problem.coupling}-coupled "
+               f"{problem.polarity.upper()} on {format_si(problem.supply, 'V')}, {best.part_count} resistors and capacitors")
+    for name, q in (("Q1", best.q1), ("Q2", best.q2)):
+        click.echo(f"  {name}   {q.label}  [{q.location or '-'}; row {q.source.row}]  hFE {q.hfe_min:g}..{q.hfe_max:g}")
+    click.echo(f"  {'role':4} {'value':>9}  {'arrangement':15} {'tol':>5} {'rating':>7}  parts (bin; row)")
+    for role in best.choice:
+        eq = best.equivalent(role)
+        kind = eq.kind
+        parts = ", ".join(f"{_code(m.value, kind)} [{m.location or '-'}; row {m.source.row}]" for m in eq.members)
+        t, i = best.choice[role]
+        click.echo(f"  {role:4} {format_si(eq.value, UNIT_OF_KIND[kind], 4):>9}  "
+                   f"{eq.describe() if eq.part_count > 1 else eq.arrangement:15} {best.tolerance(role) * 100:4.1f}% "
+                   f"{rating_text(kind, float(t.rating[i])):>7}  {parts}")
+    click.echo("")
+    closest = sorted(best.margins.items(), key=lambda kv: kv[1])[:4]
+    click.echo("Worst-case margins, the closest: " + ", ".join(f"{k} {v:+.1%}" for k, v in closest))
+    click.echo("")
+    if not quiet:
+        click.echo("Amplifier figures (nominal, and worst case over tolerances, hFE and ambient):")
+        for line in cascade_summary_lines(analysis, spec, cautions):
+            click.echo(f"  {line}")
+    else:
+        for c in cautions:
+            click.echo(f"caution: {c.text}")
+    if len(outcome.designs) > 1:
+        click.echo("")
+        click.echo("Next best:")
+        for k, d in enumerate(outcome.designs[1:], 2):
+            vals = ", ".join(f"{r} {_code(d.value(r), 'resistor' if r.startswith('R') else 'capacitor')}"
+                             for r in d.choice)
+            click.echo(f"  {k}. {d.part_count} parts, smallest margin {min(d.margins.values()):+.1%}: {vals}")

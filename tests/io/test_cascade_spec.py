@@ -136,7 +136,7 @@ def test_a_transistor_by_label_is_resolved_from_the_stock(tmp_path):
     ("gain_min = 5", "gain_min = 50", r"targets\.gain_min = 50: is above gain_max"),
     ('ie1 = "1 mA"', 'ie1 = "1 mA"\nie1_min = "1 mA"', r"targets\.ie1.*not both"),
     ('f_low = "20 Hz"', 'f_low = "20 V"', r"targets\.f_low"),
-    ('[transistors.Q1]', 'bypass = true\n[transistors.Q1]', r"bypass: unknown key"),
+    ('[transistors.Q1]', 'bypass = true\n[transistors.Q1]', r"bypass = True: for a design spec only"),
 ])
 def test_mistakes_name_file_and_key(tmp_path, old, new, message):
     assert old in SPEC

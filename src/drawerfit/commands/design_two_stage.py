@@ -53,7 +53,7 @@ def cascade_design_dict(problem, outcome, analysis=None) -> dict:
 
     out = {"topology": two_stage.NAME, "coupling": problem.coupling, "polarity": problem.polarity,
            "status": status, "proven": outcome.proven, "units": problem.units,
-           "designs": [design(d) for d in outcome.designs], "judged": outcome.judged,
+           "designs": [design(d) for d in outcome.designs], "judged": outcome.judged, "tried": outcome.tried,
            "reasons": list(outcome.reasons)}
     if analysis is not None:
         out["analysis"] = analysis.to_dict()

@@ -42,7 +42,7 @@ from .tables import build_tables
 __all__ = ["CascadeTargets", "CascadeProblem", "CascadeDesign", "CascadeOutcome", "design_cascade",
            "cascade_margins", "WORK_BUDGET"]
 
-WORK_BUDGET = 1_000_000  # resistor designs tried before the search stops unproven (about 30 s)
+WORK_BUDGET = 60_000  # resistor sets tried before the search stops unproven (about 10–30 s; `--budget` scales it)
 CHUNK = 2048  # designs tried at once (at 16 vertices, then the survivors at up to 2¹¹)
 BOX_CHUNK = 64  # designs judged over the whole box at once (times up to 2¹¹ vertices)
 EMITTER_SUMS = 4_000_000  # (RE, RE2) combinations joined on their sum at most
@@ -161,6 +161,7 @@ class CascadeOutcome:
     designs: list
     proven: bool
     judged: int = 0
+    tried: int = 0  # resistor sets tried (stage 1 alone, and whole designs at the first vertices)
     reasons: list = field(default_factory=list)
     problem: object = None
     spec: object = None
@@ -244,7 +245,7 @@ class _Role:
         return len(self.v)
 
 
-def _bias_pairs(problem, ra: _Role, rb: _Role, emit: list, q, lo_i, hi_i, chunk: int = 20_000):
+def _bias_pairs(problem, ra: _Role, rb: _Role, emit: list, q, lo_i, hi_i, chunk: int = 4096):
     """Chunks of index arrays (divider top, bottom, emitter candidates...) whose emitter current
     may lie in [lo_i, hi_i] at every vertex (a necessary condition, with slack): for each divider,
     the nominal total emitter resistance lies between the values that give hi_i at the
@@ -284,13 +285,19 @@ def _bias_pairs(problem, ra: _Role, rb: _Role, emit: list, q, lo_i, hi_i, chunk:
         a = np.searchsorted(tot, r_min, side="left")
         b = np.searchsorted(tot, r_max, side="right")
         cnt = np.maximum(b - a, 0)
-        if not cnt.sum():
-            continue
-        rep = np.repeat(np.arange(len(flat)), cnt)
-        pos = np.repeat(a, cnt) + (np.arange(cnt.sum()) - np.repeat(np.cumsum(cnt) - cnt, cnt))
-        for p0 in range(0, len(rep), chunk):
-            sl = slice(p0, p0 + chunk)
-            yield [ia[rep[sl]], ib[rep[sl]], *[i[pos[sl]] for i in idx]]
+        # the dividers in groups of at most ``chunk`` joined sets (one divider may exceed it alone)
+        ends = np.cumsum(cnt)
+        k0 = 0
+        while k0 < len(cnt):
+            k1 = max(k0 + 1, int(np.searchsorted(ends, (ends[k0 - 1] if k0 else 0) + chunk, side="right")))
+            sub = slice(k0, k1)
+            c = cnt[sub]
+            k0 = k1
+            if not c.sum():
+                continue
+            rep = np.repeat(np.arange(len(c)), c)
+            pos = np.repeat(a[sub], c) + (np.arange(c.sum()) - np.repeat(np.cumsum(c) - c, c))
+            yield [ia[sub][rep], ib[sub][rep], *[i[pos] for i in idx]]
 
 
 class _TooMany(Exception):
@@ -632,6 +639,7 @@ def design_cascade(problem: CascadeProblem, lines, *, top: int = 1, exhaustive: 
                 del best[top:]
         pending = rest
     outcome.judged = sum(x.judged for x in searches)
+    outcome.tried = sum(x.probed for x in searches)
     for x in searches:
         outcome.reasons += sorted(x.limits - set(outcome.reasons))
     if any(getattr(x, "cap_skipped", False) for x in searches):

@@ -258,7 +258,7 @@ def design(spec: Any, stock: Any, *, units: int = 1, max_parts: int = 2, guarant
     stock = load_stock(stock)
     spec = load_spec(spec, stock)
     if isinstance(spec, CascadeSpec):  # both stages of a two-stage amplifier, searched together
-        from .commands.design_two_stage import cascade_problem
+        from .search.cascade_result import cascade_problem
         from .search.cascade_search import WORK_BUDGET, design_cascade
 
         problem = cascade_problem(spec, units=units, max_parts=max_parts)

@@ -6,58 +6,12 @@ from pathlib import Path
 
 import click
 
-from ..parts import UNIT_OF_KIND, NoDesignError, SearchLimitError, SpecError
+from ..parts import UNIT_OF_KIND, NoDesignError, SearchLimitError
 from ..results import code as _code
 from ..values import format_si
 from .common import emit_json, rating_text
 
-__all__ = ["cascade_problem", "run_cascade_design", "cascade_design_dict"]
-
-
-def cascade_problem(spec, *, units: int, max_parts: int):
-    """The joint search's problem from a two-stage design spec (``io.cascade_spec.CascadeSpec``)."""
-    from ..search.cascade_search import CascadeProblem
-    from ..stages import Conditions
-
-    if spec.parts:
-        raise SpecError(f"{spec.path}: the spec has [parts]: `design` takes a spec with [targets] only "
-                        "(use `analyze` for an amplifier already chosen)")
-    if spec.targets is None:
-        raise SpecError(f"{spec.path}: [targets] is missing")
-    return CascadeProblem(spec.polarity, spec.supply, spec.coupling, spec.targets,
-                          conditions=spec.conditions or Conditions(), source_resistance=spec.source_resistance,
-                          load=spec.load, bypass=spec.bypass, max_parts=max_parts, units=units)
-
-
-def cascade_design_dict(problem, outcome, analysis=None) -> dict:
-    """The answer as JSON-safe data: status, each design's parts with their stock lines, margins."""
-    from ..analysis.result import json_float
-
-    def design(d):
-        roles = {}
-        for role in d.choice:
-            eq = d.equivalent(role)
-            roles[role] = {"value": json_float(eq.value), "tolerance": json_float(d.tolerance(role)),
-                           "arrangement": eq.arrangement,
-                           "parts": [{"row": ln.source.row, "location": ln.location, "label": ln.label,
-                                      "value": json_float(ln.value), "count_per_unit": n} for ln, n in eq.uses]}
-        return {"part_count": d.part_count, "distance": json_float(d.distance),
-                "smallest_margin": json_float(min(d.margins.values())),
-                "transistors": {"Q1": {"label": d.q1.label, "row": d.q1.source.row, "location": d.q1.location},
-                                "Q2": {"label": d.q2.label, "row": d.q2.source.row, "location": d.q2.location}},
-                "roles": roles, "worst_case_margins": {k: json_float(v) for k, v in d.margins.items()}}
-
-    status = ("optimal" if outcome.proven else "best found") if outcome.designs else (
-        "infeasible" if outcome.proven else "not found within the work budget")
-    from ..stages import two_stage
-
-    out = {"topology": two_stage.NAME, "coupling": problem.coupling, "polarity": problem.polarity,
-           "status": status, "proven": outcome.proven, "units": problem.units,
-           "designs": [design(d) for d in outcome.designs], "judged": outcome.judged, "tried": outcome.tried,
-           "reasons": list(outcome.reasons)}
-    if analysis is not None:
-        out["analysis"] = analysis.to_dict()
-    return out
+__all__ = ["run_cascade_design"]
 
 
 def run_cascade_design(spec, stock, stock_file: str, *, units: int, max_parts: int, top: int, as_json: bool,
@@ -66,6 +20,8 @@ def run_cascade_design(spec, stock, stock_file: str, *, units: int, max_parts: i
     from .. import api
     from ..cautions import cautions_for
     from ..search.cascade_search import WORK_BUDGET, design_cascade
+    from ..search.cascade_result import cascade_design_dict, cascade_problem
+
     problem = cascade_problem(spec, units=units, max_parts=max_parts)
     outcome = design_cascade(problem, list(stock.lines), top=top, exhaustive=exhaustive,
                              budget=int(WORK_BUDGET * budget), labels=dict(spec.transistor_labels or {}))

@@ -15,6 +15,7 @@ from ..values import format_si
 from .cascade import CAP_FIGURE, POWER_FIGURE
 from .cascade_targets import CASCADE_TARGET_RULES, CASCADE_TARGET_UNITS, cascade_target_margins
 from .dc import CUTOFF, SATURATED
+from .checks import ic_max_check, voltage_check
 from .result import Check
 
 __all__ = ["cascade_checks", "cascade_hot_parts", "CAPACITOR_ENDS"]
@@ -103,13 +104,7 @@ def _transistor_ratings(name: str, index: int, circuit, conditions, worst) -> li
                          f"{format_si(t.vceo, 'V')}", "V"))
     # class A: at full swing the collector current peaks at up to twice its quiescent value
     ic_peak = 2.0 * float(worst.high[f"ic{index}"])
-    if t.ic_max is None:
-        out.append(Check(f"{name} IC max", None, ic_peak, None,
-                         f"collector current peaks near {format_si(ic_peak, 'A')}; no IC max given", "A"))
-    else:
-        out.append(Check(f"{name} IC max", ic_peak <= t.ic_max, ic_peak, t.ic_max,
-                         f"collector current peaks near {format_si(ic_peak, 'A')} at full swing; "
-                         f"IC max {format_si(t.ic_max, 'A')}", "A"))
+    out.append(ic_max_check(name, ic_peak, t.ic_max))
     return out
 
 
@@ -121,16 +116,7 @@ def _capacitor_checks(circuit, conditions, nominal, worst) -> list[Check]:
             continue
         part = circuit.parts[role]
         lo, hi = float(worst.low[attr]), float(worst.high[attr])
-        v = max(abs(lo), abs(hi))
-        if part.rating is None:
-            out.append(Check(f"{role} voltage", None, v, None,
-                             f"holds up to {format_si(v, 'V')} DC; no voltage rating given, not checked", "V"))
-        else:
-            limit = part.rating * conditions.cap_voltage_margin
-            out.append(Check(f"{role} voltage", v <= limit, v, limit,
-                             f"holds up to {format_si(v, 'V')} DC against {format_si(limit, 'V')} "
-                             f"({conditions.cap_voltage_margin:.0%} of its {format_si(part.rating, 'V')} rating)",
-                             "V"))
+        out.append(voltage_check(role, part, lo, hi, conditions))
         if part.polarized:
             near, far = CAPACITOR_ENDS[role]
             far = far or rail

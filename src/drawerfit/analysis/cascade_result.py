@@ -12,7 +12,7 @@ from dataclasses import dataclass
 from typing import Any, Mapping
 
 from .dc import LIMIT_NAMES, STATE_NAMES
-from .result import Check, json_float
+from .result import Check, checks_frame, figures_frame, json_float
 
 __all__ = ["CascadeAnalysis", "analyse_cascade", "cascade_monte_carlo_sample", "SPREAD_FIGURES"]
 
@@ -141,13 +141,9 @@ class CascadeAnalysis:
         import pandas as pd
 
         if table == "figures":
-            w = self.worst
-            rows = [{"figure": n, "nominal": _num(getattr(self.nominal, n)), "worst_low": _num(w.low.get(n)),
-                     "worst_high": _num(w.high.get(n))} for n in SPREAD_FIGURES if n in w.low]
-            return pd.DataFrame(rows, columns=["figure", "nominal", "worst_low", "worst_high"]).set_index("figure")
+            return figures_frame(self.nominal, self.worst, SPREAD_FIGURES)
         if table == "checks":
-            cols = ["name", "kind", "ok", "value", "limit", "unit", "message"]
-            return pd.DataFrame([{k: getattr(ch, k) for k in cols} for ch in self.checks], columns=cols)
+            return checks_frame(self.checks)
         if table == "samples":
             if not self.monte_carlo:
                 raise ValueError("no Monte Carlo builds: analyse with monte_carlo=N first")

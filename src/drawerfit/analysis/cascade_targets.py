@@ -59,18 +59,8 @@ def cascade_target_margins(targets: CascadeTargets, low: Mapping[str, object],
     twice).  The gain's magnitude range comes from ``gain``; a range that crosses zero has a
     lowest magnitude of 0.  NaN figures (no corner, not active) count as missed.
     """
-    import numpy as np
+    from .targets import margins_by_rules
 
-    low, high = dict(low), dict(high)
-    a, b = np.abs(np.asarray(low["gain"], float)), np.abs(np.asarray(high["gain"], float))
-    same_sign = np.sign(low["gain"]) == np.sign(high["gain"])
-    low["gain_abs"] = np.where(same_sign, np.minimum(a, b), 0.0)
-    high["gain_abs"] = np.maximum(a, b)
-    out = {}
-    for name, bound in targets.given().items():
-        fig, side = CASCADE_TARGET_RULES[name]
-        val = low[fig] if side > 0 else high[fig]
-        with np.errstate(invalid="ignore", divide="ignore"):
-            m = side * (np.asarray(val, float) - bound) / abs(bound)
-        out[name] = np.where(np.isnan(m), -np.inf, m)
-    return out
+    low = {k: v for k, v in low.items() if k != "gain_abs"}  # always from the gain's own range
+    high = {k: v for k, v in high.items() if k != "gain_abs"}
+    return margins_by_rules(targets.given(), CASCADE_TARGET_RULES, low, high)

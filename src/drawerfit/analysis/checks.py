@@ -115,29 +115,14 @@ def stage_checks(stage, conditions, nominal, worst, targets: Targets | None) -> 
                          f"{format_si(t.vceo, 'V')}", "V"))
     # Class A: at full swing the collector current peaks at up to twice its quiescent value.
     ic_peak = 2.0 * _hi(worst, "ic")
-    if t.ic_max is None:
-        out.append(Check("Q1 IC max", None, ic_peak, None,
-                         f"collector current peaks near {format_si(ic_peak, 'A')}; no IC max given", "A"))
-    else:
-        out.append(Check("Q1 IC max", ic_peak <= t.ic_max, ic_peak, t.ic_max,
-                         f"collector current peaks near {format_si(ic_peak, 'A')} at full swing; "
-                         f"IC max {format_si(t.ic_max, 'A')}", "A"))
+    out.append(ic_max_check("Q1", ic_peak, t.ic_max))
 
     for role, attr in CAP_FIGURE.items():
         if role not in stage.parts or (role == "CE" and not stage.bypassed):
             continue
         part = stage.parts[role]
         lo, hi = _lo(worst, attr), _hi(worst, attr)
-        v = max(abs(lo), abs(hi))
-        if part.rating is None:
-            out.append(Check(f"{role} voltage", None, v, None,
-                             f"holds up to {format_si(v, 'V')} DC; no voltage rating given, not checked", "V"))
-        else:
-            limit = part.rating * conditions.cap_voltage_margin
-            out.append(Check(f"{role} voltage", v <= limit, v, limit,
-                             f"holds up to {format_si(v, 'V')} DC against {format_si(limit, 'V')} "
-                             f"({conditions.cap_voltage_margin:.0%} of its {format_si(part.rating, 'V')} rating)",
-                             "V"))
+        out.append(voltage_check(role, part, lo, hi, conditions))
         if part.polarized:
             near, far = _ends(stage, role)
             nom = float(getattr(nominal, attr))
@@ -160,3 +145,27 @@ def stage_checks(stage, conditions, nominal, worst, targets: Targets | None) -> 
                         "not stiff: IE follows hFE (figures above include it)"),
                      "ohm", "advice"))
     return out
+
+
+def voltage_check(role: str, part, lo: float, hi: float, conditions) -> Check:
+    """A capacitor's DC voltage over [lo, hi] against its rating times the voltage margin (not
+    checked without a rating); shared by the single stage and the two-stage amplifier."""
+    v = max(abs(lo), abs(hi))
+    if part.rating is None:
+        return Check(f"{role} voltage", None, v, None,
+                     f"holds up to {format_si(v, 'V')} DC; no voltage rating given, not checked", "V")
+    limit = part.rating * conditions.cap_voltage_margin
+    return Check(f"{role} voltage", v <= limit, v, limit,
+                 f"holds up to {format_si(v, 'V')} DC against {format_si(limit, 'V')} "
+                 f"({conditions.cap_voltage_margin:.0%} of its {format_si(part.rating, 'V')} rating)", "V")
+
+
+def ic_max_check(name: str, ic_peak: float, ic_max: float | None) -> Check:
+    """A transistor's collector current at full swing (class A: up to twice its quiescent value)
+    against its IC max (not checked without one)."""
+    if ic_max is None:
+        return Check(f"{name} IC max", None, ic_peak, None,
+                     f"collector current peaks near {format_si(ic_peak, 'A')}; no IC max given", "A")
+    return Check(f"{name} IC max", ic_peak <= ic_max, ic_peak, ic_max,
+                 f"collector current peaks near {format_si(ic_peak, 'A')} at full swing; "
+                 f"IC max {format_si(ic_max, 'A')}", "A")

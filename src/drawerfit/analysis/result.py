@@ -73,13 +73,9 @@ class Analysis:
         import pandas as pd
 
         if table == "figures":
-            w = self.worst
-            rows = [{"figure": n, "nominal": _num(getattr(self.nominal, n)), "worst_low": _num(w.low.get(n)),
-                     "worst_high": _num(w.high.get(n))} for n in NUMERIC_FIELDS if n in w.low]
-            return pd.DataFrame(rows, columns=["figure", "nominal", "worst_low", "worst_high"]).set_index("figure")
+            return figures_frame(self.nominal, self.worst, NUMERIC_FIELDS)
         if table == "checks":
-            cols = ["name", "kind", "ok", "value", "limit", "unit", "message"]
-            return pd.DataFrame([{c: getattr(ch, c) for c in cols} for ch in self.checks], columns=cols)
+            return checks_frame(self.checks)
         if table == "samples":
             if not self.monte_carlo:
                 raise ValueError("no Monte Carlo builds: analyse with monte_carlo=N first")
@@ -156,3 +152,20 @@ class Analysis:
             "checks": [c.to_dict() for c in self.checks],
             "spread": self.spread(),
         }
+
+
+def figures_frame(nominal, worst, names):
+    """A pandas table of figures ``names``: nominal value and worst-case ends (one row each)."""
+    import pandas as pd
+
+    rows = [{"figure": n, "nominal": _num(getattr(nominal, n)), "worst_low": _num(worst.low.get(n)),
+             "worst_high": _num(worst.high.get(n))} for n in names if n in worst.low]
+    return pd.DataFrame(rows, columns=["figure", "nominal", "worst_low", "worst_high"]).set_index("figure")
+
+
+def checks_frame(checks):
+    """A pandas table of checks, one row each."""
+    import pandas as pd
+
+    cols = ["name", "kind", "ok", "value", "limit", "unit", "message"]
+    return pd.DataFrame([{c: getattr(ch, c) for c in cols} for ch in checks], columns=cols)

@@ -81,15 +81,22 @@ def target_margins(targets: Targets, low: Mapping[str, np.ndarray],
     upper-bound one on ``high``.  ``gain_abs`` may be given; else it is taken from ``gain``
     (its magnitude range).  NaN figures (no corner, not active) count as missed.
     """
+    return margins_by_rules(targets.given(), _RULES, low, high)
+
+
+def margins_by_rules(given: Mapping[str, float], rules: Mapping[str, tuple[str, int]],
+                     low: Mapping[str, np.ndarray], high: Mapping[str, np.ndarray]) -> dict[str, np.ndarray]:
+    """``target_margins`` for any circuit: ``given`` target -> bound, ``rules`` target -> (figure,
+    +1 lower bound / −1 upper bound); the gain's magnitude range from ``gain`` unless given."""
     low, high = dict(low), dict(high)
     if "gain_abs" not in low and "gain" in low:
-        a, b = np.abs(low["gain"]), np.abs(high["gain"])
+        a, b = np.abs(np.asarray(low["gain"], float)), np.abs(np.asarray(high["gain"], float))
         same_sign = np.sign(low["gain"]) == np.sign(high["gain"])
         low["gain_abs"] = np.where(same_sign, np.minimum(a, b), 0.0)
         high["gain_abs"] = np.maximum(a, b)
     out = {}
-    for name, bound in targets.given().items():
-        fig, side = _RULES[name]
+    for name, bound in given.items():
+        fig, side = rules[name]
         val = low[fig] if side > 0 else high[fig]
         with np.errstate(invalid="ignore", divide="ignore"):
             m = side * (np.asarray(val, float) - bound) / abs(bound)

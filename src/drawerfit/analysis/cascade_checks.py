@@ -15,7 +15,7 @@ from ..values import format_si
 from .cascade import CAP_FIGURE, POWER_FIGURE
 from .cascade_targets import CASCADE_TARGET_RULES, CASCADE_TARGET_UNITS, cascade_target_margins
 from .dc import CUTOFF, SATURATED
-from .checks import ic_max_check, voltage_check
+from .checks import ic_max_check, polarity_check, voltage_check
 from .result import Check
 
 __all__ = ["cascade_checks", "cascade_hot_parts", "CAPACITOR_ENDS"]
@@ -120,16 +120,7 @@ def _capacitor_checks(circuit, conditions, nominal, worst) -> list[Check]:
         if part.polarized:
             near, far = CAPACITOR_ENDS[role]
             far = far or rail
-            nom = float(getattr(nominal, attr))
-            if (lo > 0 and hi > 0) or (lo < 0 and hi < 0):
-                plus, minus = (near, far) if nom > 0 else (far, near)
-                out.append(Check(f"{role} polarity", True, abs(nom), 0.0,
-                                 f"fit the + end toward {plus} and the − end toward {minus} "
-                                 f"({format_si(abs(nom), 'V')} across it)", "V", "polarity"))
-            else:
-                out.append(Check(f"{role} polarity", False, nom, 0.0,
-                                 f"the DC voltage across {role} is about zero or changes sign; "
-                                 "use a non-polarized capacitor", "V", "polarity"))
+            out.append(polarity_check(role, lo, hi, float(getattr(nominal, attr)), near, far))
     return out
 
 

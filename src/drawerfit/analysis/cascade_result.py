@@ -12,7 +12,7 @@ from dataclasses import dataclass
 from typing import Any, Mapping
 
 from .dc import LIMIT_NAMES, STATE_NAMES
-from .result import Check, checks_frame, figures_frame, json_float
+from .result import Check, Findings, checks_frame, figures_frame, json_float
 
 __all__ = ["CascadeAnalysis", "analyse_cascade", "cascade_monte_carlo_sample", "SPREAD_FIGURES"]
 
@@ -25,7 +25,7 @@ _MC_SUMMARY = ("ie1", "ie2", "vc1", "ve2", "gain", "rin", "rout", "f_low", "swin
 
 
 @dataclass(frozen=True, repr=False)
-class CascadeAnalysis:
+class CascadeAnalysis(Findings):
     """Everything the tool says about one two-stage amplifier.
 
     ``nominal`` is the ``analysis.cascade.CascadeFigures`` of the nominal amplifier (0-d arrays,
@@ -60,16 +60,6 @@ class CascadeAnalysis:
     @property
     def active(self) -> bool:
         return bool(self.nominal.active)
-
-    @property
-    def warnings(self) -> tuple[Check, ...]:
-        """Failed checks, advice excluded."""
-        return tuple(c for c in self.checks if c.ok is False and c.kind != "advice")
-
-    @property
-    def notes(self) -> tuple[Check, ...]:
-        """Advice that did not hold (a divider that is not stiff): worth knowing, not a fault."""
-        return tuple(c for c in self.checks if c.ok is False and c.kind == "advice")
 
     def operating_points(self) -> dict[str, dict]:
         """Per transistor: node voltages to ground, currents, VCE (SI) and its state."""

@@ -125,16 +125,7 @@ def stage_checks(stage, conditions, nominal, worst, targets: Targets | None) -> 
         out.append(voltage_check(role, part, lo, hi, conditions))
         if part.polarized:
             near, far = _ends(stage, role)
-            nom = float(getattr(nominal, attr))
-            if (lo > 0 and hi > 0) or (lo < 0 and hi < 0):
-                plus, minus = (near, far) if nom > 0 else (far, near)
-                out.append(Check(f"{role} polarity", True, abs(nom), 0.0,
-                                 f"fit the + end toward {plus} and the − end toward {minus} "
-                                 f"({format_si(abs(nom), 'V')} across it)", "V", "polarity"))
-            else:
-                out.append(Check(f"{role} polarity", False, nom, 0.0,
-                                 f"the DC voltage across {role} is about zero or changes sign; "
-                                 "use a non-polarized capacitor", "V", "polarity"))
+            out.append(polarity_check(role, lo, hi, float(getattr(nominal, attr)), near, far))
 
     rth = stage.value("R1") * stage.value("R2") / (stage.value("R1") + stage.value("R2"))
     stiff = t.hfe_min * (stage.value("RE") + stage.value("RE2")) / STIFF_DIVIDER_FACTOR
@@ -169,3 +160,16 @@ def ic_max_check(name: str, ic_peak: float, ic_max: float | None) -> Check:
     return Check(f"{name} IC max", ic_peak <= ic_max, ic_peak, ic_max,
                  f"collector current peaks near {format_si(ic_peak, 'A')} at full swing; "
                  f"IC max {format_si(ic_max, 'A')}", "A")
+
+
+def polarity_check(role: str, lo: float, hi: float, nom: float, near: str, far: str) -> Check:
+    """An electrolytic across a DC voltage spanning [lo, hi] (nominal ``nom``, ``near`` end minus
+    ``far`` end): which way to fit it, or that it needs a non-polarized part."""
+    if (lo > 0 and hi > 0) or (lo < 0 and hi < 0):
+        plus, minus = (near, far) if nom > 0 else (far, near)
+        return Check(f"{role} polarity", True, abs(nom), 0.0,
+                     f"fit the + end toward {plus} and the − end toward {minus} "
+                     f"({format_si(abs(nom), 'V')} across it)", "V", "polarity")
+    return Check(f"{role} polarity", False, nom, 0.0,
+                 f"the DC voltage across {role} is about zero or changes sign; "
+                 "use a non-polarized capacitor", "V", "polarity")

@@ -42,8 +42,23 @@ class Check:
                 "limit": _num(self.limit), "message": self.message}
 
 
+class Findings:
+    """What a result with ``checks`` reports beyond them (shared by the single stage's and the
+    two-stage amplifier's analyses; the subclass holds ``checks``)."""
+
+    @property
+    def warnings(self) -> tuple[Check, ...]:
+        """Failed checks, advice excluded."""
+        return tuple(c for c in self.checks if c.ok is False and c.kind != "advice")
+
+    @property
+    def notes(self) -> tuple[Check, ...]:
+        """Advice that did not hold (e.g. a divider that is not stiff): worth knowing, not a fault."""
+        return tuple(c for c in self.checks if c.ok is False and c.kind == "advice")
+
+
 @dataclass(frozen=True, repr=False)
-class Analysis:
+class Analysis(Findings):
     """Everything the tool says about one stage.
 
     ``nominal`` is the ``analysis.core.Figures`` of the nominal stage at the nominal temperature
@@ -91,16 +106,6 @@ class Analysis:
     @property
     def state(self) -> str:
         return STATE_NAMES[int(self.nominal.state)]
-
-    @property
-    def warnings(self) -> tuple[Check, ...]:
-        """Failed checks, advice excluded."""
-        return tuple(c for c in self.checks if c.ok is False and c.kind != "advice")
-
-    @property
-    def notes(self) -> tuple[Check, ...]:
-        """Advice that did not hold (e.g. a divider that is not stiff): worth knowing, not a fault."""
-        return tuple(c for c in self.checks if c.ok is False and c.kind == "advice")
 
     def power(self) -> dict[str, float]:
         f = self.nominal

@@ -71,7 +71,6 @@ def render_report(design: DesignFile, *, monte_carlo: int = 2000, seed: int = 0,
     from .schematic import schematic_svg
     from .sections import (advice_list, checks_table, e, fitting_list, parts_table, pick_table, share_name,
                            summary_rows)
-    from .style import REPORT_CSS
 
     stage = design.stage
     figs = gather(design, monte_carlo=monte_carlo, seed=seed, on_step=on_step)
@@ -141,17 +140,7 @@ def render_report(design: DesignFile, *, monte_carlo: int = 2000, seed: int = 0,
     advice = advice_list([c for c in figs.checks if c.kind == "advice"])
     vname = "VEC" if stage.polarity == "pnp" else "VCE"
     on_step(note="writing")
-    doc = f"""<!DOCTYPE html>
-<html lang="en"><head><meta charset="utf-8">
-<meta name="generator" content="drawerfit {e(__version__)}">
-<meta name="viewport" content="width=device-width, initial-scale=1">
-<title>{e(title)} — drawerfit report</title>
-<style>{REPORT_CSS}</style></head>
-<body>
-<header>
-<h1>{e(title)}</h1>
-<p class="sub">{e(Path(design.path).name)} · {e(src)} · {e(units)}{' · ' + ' · '.join(stock_bits) if stock_bits else ''}</p>
-{notes}</header>
+    doc = f"""{page_head(title, design.path, src, units, stock_bits, notes)}
 {verdict}
 <section class="cautions keep"><h2>Before you build</h2><ul>{cautions}</ul></section>
 <section class="keep"><h2>Schematic</h2>
@@ -235,3 +224,24 @@ def write_report(design_toml_path, out_path, *, stock_file=None, monte_carlo=200
     design, note = read_design(design_toml_path, stock_file)
     text = render_report(design, monte_carlo=monte_carlo, seed=seed, stock_note=note, on_step=on_step)
     atomic_write(out, text)
+
+
+def page_head(title: str, design_path, src: str, units: str, bits, notes: str) -> str:
+    """The report page up to the end of its header: document head, style, title line and notes
+    (``notes`` already HTML); shared by the single-stage and the two-stage pages."""
+    from .. import __version__
+    from .style import REPORT_CSS
+
+    e = html.escape
+    extra = " · " + " · ".join(bits) if bits else ""
+    return f"""<!DOCTYPE html>
+<html lang="en"><head><meta charset="utf-8">
+<meta name="generator" content="drawerfit {e(__version__)}">
+<meta name="viewport" content="width=device-width, initial-scale=1">
+<title>{e(title)} — drawerfit report</title>
+<style>{REPORT_CSS}</style></head>
+<body>
+<header>
+<h1>{e(title)}</h1>
+<p class="sub">{e(Path(design_path).name)} · {e(src)} · {e(units)}{extra}</p>
+{notes}</header>"""

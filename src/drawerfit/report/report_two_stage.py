@@ -192,7 +192,7 @@ def render_two_stage_report(design, *, monte_carlo: int = 2000, seed: int = 0, s
     from .plots import load_lines_svg, response_svg
     from .schematic_two_stage import two_stage_schematic_svg
     from .sections import advice_list, checks_table, e, pick_table
-    from .style import REPORT_CSS
+    from .html import page_head
 
     amp = design.stage
     on_step(note="figures, worst case" + (f", Monte Carlo of {monte_carlo} builds" if monte_carlo else ""))
@@ -238,17 +238,7 @@ def render_two_stage_report(design, *, monte_carlo: int = 2000, seed: int = 0, s
     caut = "".join(f"<li>{e(c)}</li>" for c in cautions)
     notes = "".join(f"<p class='note'>Note: {e(n)}</p>" for n in getattr(design.spec, "notes", ()))
     vname = "VEC" if amp.polarity == "pnp" else "VCE"
-    return f"""<!DOCTYPE html>
-<html lang="en"><head><meta charset="utf-8">
-<meta name="generator" content="drawerfit {e(__version__)}">
-<meta name="viewport" content="width=device-width, initial-scale=1">
-<title>{e(title)} — drawerfit report</title>
-<style>{REPORT_CSS}</style></head>
-<body>
-<header>
-<h1>{e(title)}</h1>
-<p class="sub">{e(Path(design.path).name)} · {e(src)} · {e(units)}{' · ' + ' · '.join(bits) if bits else ''}</p>
-{notes}</header>
+    return f"""{page_head(title, design.path, src, units, bits, notes)}
 {verdict}
 <section class="cautions keep"><h2>Before you build</h2><ul>{caut}</ul></section>
 <section class="keep"><h2>Schematic</h2>

@@ -183,25 +183,34 @@ def run_design(spec_file: str, stock_file: str, *, units: int = 1, max_parts: in
     else:
         _print_choice(result, spec, analysis, cautions, quiet)
         _print_stock_summary(stock, quiet)
-    if save is not None or report is not None:
-        target = Path(save) if save is not None else None
-        if target is None:
-            import tempfile
-
-            tmpdir = tempfile.mkdtemp(prefix="drawerfit-")
-            target = Path(tmpdir) / "design.toml"
-        api.save_design(result, target, stock_file)
-        if save is not None and not as_json:
-            click.echo(f"saved: {target}")
-        if report is not None:
-            from ..report.html import write_report
-
-            write_report(str(target), report, stock_file=stock_file)
-            if not as_json:
-                click.echo(f"report: {report}")
+    save_and_report(lambda target: api.save_design(result, target, stock_file), save, report, stock_file, as_json)
     if limited:
-        raise SearchLimitError("the search stopped at its work budget: the design shown is the best found, "
-                               "not proven optimal (exit status 5)")
+        raise SearchLimitError(BUDGET_STOPPED)
+
+
+BUDGET_STOPPED = ("the search stopped at its work budget: the design shown is the best found, "
+                  "not proven optimal (exit status 5)")
+
+
+def save_and_report(write, save: str | None, report: str | None, stock_file: str, as_json: bool) -> None:
+    """``write(path)`` the design file to ``save`` (to a temporary folder when only ``report`` is
+    asked), then the report page from it; says where, unless the output is JSON."""
+    if save is None and report is None:
+        return
+    target = Path(save) if save is not None else None
+    if target is None:
+        import tempfile
+
+        target = Path(tempfile.mkdtemp(prefix="drawerfit-")) / "design.toml"
+    write(target)
+    if save is not None and not as_json:
+        click.echo(f"saved: {target}")
+    if report is not None:
+        from ..report.html import write_report
+
+        write_report(str(target), report, stock_file=stock_file)
+        if not as_json:
+            click.echo(f"report: {report}")
 
 
 def _print_stock_summary(stock, quiet: bool) -> None:

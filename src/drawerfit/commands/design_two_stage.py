@@ -2,8 +2,6 @@
 
 from __future__ import annotations
 
-from pathlib import Path
-
 import click
 
 from ..parts import UNIT_OF_KIND, NoDesignError, SearchLimitError
@@ -46,29 +44,16 @@ def run_cascade_design(spec, stock, stock_file: str, *, units: int, max_parts: i
             click.echo(f"caution: {c.text}", err=True)
     else:
         _print(problem, outcome, analysis, spec, cautions, quiet)
-    if save is not None or report is not None:
-        from ..io.saved_two_stage import write_two_stage_design
+    from ..io.saved_two_stage import write_two_stage_design
+    from .design_cmd import BUDGET_STOPPED, save_and_report
 
-        target = Path(save) if save is not None else None
-        if target is None:
-            import tempfile
-
-            target = Path(tempfile.mkdtemp(prefix="drawerfit-")) / "design.toml"
-        write_two_stage_design(target, circuit, best.role_lines(), units=units, stock_file=stock_file,
-                               transistor_lines={"Q1": best.q1, "Q2": best.q2}, arrangements=best.arrangements(),
-                               targets=problem.targets, conditions=problem.conditions, title=spec.title,
-                               mains=spec.mains)
-        if save is not None and not as_json:
-            click.echo(f"saved: {target}")
-        if report is not None:
-            from ..report.html import write_report
-
-            write_report(str(target), report, stock_file=stock_file)
-            if not as_json:
-                click.echo(f"report: {report}")
+    save_and_report(lambda target: write_two_stage_design(
+        target, circuit, best.role_lines(), units=units, stock_file=stock_file,
+        transistor_lines={"Q1": best.q1, "Q2": best.q2}, arrangements=best.arrangements(),
+        targets=problem.targets, conditions=problem.conditions, title=spec.title, mains=spec.mains),
+        save, report, stock_file, as_json)
     if not outcome.proven:
-        raise SearchLimitError("the search stopped at its work budget: the design shown is the best found, "
-                               "not proven optimal (exit status 5)")
+        raise SearchLimitError(BUDGET_STOPPED)
 
 
 def _print(problem, outcome, analysis, spec, cautions, quiet: bool) -> None:

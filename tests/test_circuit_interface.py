@@ -71,6 +71,46 @@ def test_the_walker_finds_a_planted_name(tmp_path):
                                              "planted.py:3: a comparison with .topology"]
 
 
+# The two-stage amplifier's own modules outside stages/: it stands beside the single-stage interface
+# (topologies.ASSEMBLIES), so its figures, spec, saved file, netlist, search and text name Q1 and Q2
+# as its circuit module does; they serve that one circuit and no other.
+TWO_STAGE_OWN = {PACKAGE / p for p in (
+    "analysis/cascade.py", "analysis/cascade_result.py", "analysis/cascade_checks.py", "io/cascade_spec.py",
+    "io/saved_two_stage.py", "report/export_two_stage.py", "report/schematic_two_stage.py",
+    "report/report_two_stage.py", "search/cascade_problem.py", "search/cascade_search.py",
+    "search/cascade_result.py", "commands/design_two_stage.py")}
+
+
+def designator_uses(path: Path, names) -> list[str]:
+    """'file:line: the string ...' for each string constant (an f-string's pieces too) that is a
+    transistor designator once stripped of white space."""
+    tree = ast.parse(path.read_text(encoding="utf-8"))
+    return [f"{path.name}:{node.lineno}: the string {node.value!r}" for node in ast.walk(tree)
+            if isinstance(node, ast.Constant) and isinstance(node.value, str) and node.value.strip() in names]
+
+
+def test_no_transistor_designator_outside_the_circuit_modules():
+    # shared code takes the designator from the circuit module (TRANSISTORS, Stage.transistor_name,
+    # .transistors), so a circuit whose transistors are named otherwise needs no change there
+    names = {t for m in topologies.CIRCUITS + topologies.ASSEMBLIES for t in m.TRANSISTORS}
+    assert names >= {"Q1", "Q2"}
+    assert all(path.exists() for path in TWO_STAGE_OWN)
+    found = []
+    for path in sorted(PACKAGE.rglob("*.py")):
+        if path in CIRCUIT_FILES or path in TWO_STAGE_OWN:
+            continue
+        found += designator_uses(path, names)
+    assert found == []
+
+
+def test_the_designator_walker_finds_planted_ones(tmp_path):
+    # the check above can fail: a plain literal, a dict key and an f-string's piece are all found
+    f = tmp_path / "planted.py"
+    f.write_text('a = "Q1"\nb = {"Q2": 1}\nc = f"Q1\\n{a}"\nd = "Q1 power"\n', encoding="utf-8")
+    assert designator_uses(f, {"Q1", "Q2"}) == ["planted.py:1: the string 'Q1'", "planted.py:2: the string 'Q2'",
+                                                "planted.py:3: the string 'Q1\\n'"]
+
+
 def test_registry_lists_every_circuit_module_once():
     assert len(topologies.CIRCUITS) >= 2
     assert all(path.exists() for path in CIRCUIT_FILES)

@@ -88,7 +88,7 @@ def hot_parts(analysis, fraction: float = POWER_DERATING) -> tuple[str, ...]:
     pd = stage.transistor.pd
     pq = float(worst.high["p_q"])
     if (pd is not None and pq >= fraction * pd) or (pd is None and pq >= 0.5):
-        names.append("Q1")
+        names.append(stage.transistor_name)
     return tuple(names)
 
 

@@ -64,7 +64,7 @@ def pick_list(choice, units: int) -> list[dict]:
         for name, line in zip(designators(role, len(members)), members):
             if name not in roles_of.setdefault(line.index, []):
                 roles_of[line.index].append(name)
-    roles_of.setdefault(choice.transistor.index, []).append("Q1")
+    roles_of.setdefault(choice.transistor.index, []).append(choice.transistor_name)
     picks = choice.picks or tuple((ln, ln, n * units) for ln, n in choice.uses().values())
     merged: dict[int, dict] = {}
     for giver, needed, count in picks:
@@ -267,7 +267,7 @@ def design_frame(result, table: str = "parts"):
                              "code": code(m.value, m.kind), "arrangement": eq.arrangement, "tolerance": m.tolerance,
                              "rating": m.rating, "location": m.location, "row": m.source.row})
         t = best.transistor
-        rows.append({"designator": "Q1", "role": "Q1", "kind": "transistor", "value": None, "code": t.label,
+        rows.append({"designator": best.transistor_name, "role": best.transistor_name, "kind": "transistor", "value": None, "code": t.label,
                      "arrangement": "single", "tolerance": None, "rating": t.pd, "location": t.location,
                      "row": t.source.row})
     return pd.DataFrame(rows, columns=columns)

@@ -96,26 +96,27 @@ def stage_checks(stage, conditions, nominal, worst, targets: Targets | None) -> 
                          f"up to {format_si(p, 'W')} against {format_si(limit, 'W')} "
                          f"({conditions.resistor_derating:.0%} of its {format_si(rating, 'W')} rating)", "W"))
 
+    q = stage.transistor_name
     pq = _hi(worst, "p_q")
     if t.pd is None:
-        out.append(Check("Q1 power", None, pq, None,
+        out.append(Check(f"{q} power", None, pq, None,
                          f"dissipates up to {format_si(pq, 'W')}; no PD rating given, not checked", "W"))
     else:
         limit = t.pd * conditions.transistor_derating
-        out.append(Check("Q1 power", pq <= limit, pq, limit,
+        out.append(Check(f"{q} power", pq <= limit, pq, limit,
                          f"up to {format_si(pq, 'W')} against {format_si(limit, 'W')} "
                          f"({conditions.transistor_derating:.0%} of PD {format_si(t.pd, 'W')})", "W"))
     # Cut off on a signal peak (or at switch-on) Q1 can see the whole supply across it.
     if t.vceo is None:
-        out.append(Check("Q1 VCEO", None, stage.supply, None,
-                         "Q1 may see the full supply; no VCEO given, not checked", "V"))
+        out.append(Check(f"{q} VCEO", None, stage.supply, None,
+                         f"{q} may see the full supply; no VCEO given, not checked", "V"))
     else:
-        out.append(Check("Q1 VCEO", stage.supply <= t.vceo, stage.supply, t.vceo,
-                         f"Q1 may see the full supply {format_si(stage.supply, 'V')}; VCEO "
+        out.append(Check(f"{q} VCEO", stage.supply <= t.vceo, stage.supply, t.vceo,
+                         f"{q} may see the full supply {format_si(stage.supply, 'V')}; VCEO "
                          f"{format_si(t.vceo, 'V')}", "V"))
     # Class A: at full swing the collector current peaks at up to twice its quiescent value.
     ic_peak = 2.0 * _hi(worst, "ic")
-    out.append(ic_max_check("Q1", ic_peak, t.ic_max))
+    out.append(ic_max_check(q, ic_peak, t.ic_max))
 
     for role, attr in CAP_FIGURE.items():
         if role not in stage.parts or (role == "CE" and not stage.bypassed):

@@ -113,7 +113,7 @@ class Analysis(Findings):
         for role, attr in POWER_FIGURE.items():
             if role in self.stage.parts:
                 out[role] = float(getattr(f, attr))
-        out["Q1"] = float(f.p_q)
+        out[self.stage.transistor_name] = float(f.p_q)
         return out
 
     def corners(self) -> dict[str, float | None]:

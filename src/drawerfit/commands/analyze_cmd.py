@@ -60,14 +60,14 @@ def summary_lines(result, spec=None, cautions=None) -> list[str]:
         cautions = cautions_for(result, mains=bool(spec and spec.mains))
 
     s, f, w = result.stage, result.nominal, result.worst
-    t = s.transistor
+    t, q = s.transistor, s.transistor_name
     c = result.conditions
-    out = [_head_line(s.topology, s, spec), _transistor_line("Q1", t)]
+    out = [_head_line(s.topology, s, spec), _transistor_line(q, t)]
     out += _warning_lines(result)
     out.append("")
     out.append(f"Operating point at {c.nominal_temp:g} °C, nominal values (node voltages to ground)")
     out.append(f"  VB {_v(f.vb, 'V')}   VE {_v(f.ve, 'V')}   VC {_v(f.vc, 'V')}")
-    out.append(f"  IE {_v(f.ie, 'A')}   IC {_v(f.ic, 'A')}   VCE {_v(f.vce, 'V')}   Q1 {result.state}")
+    out.append(f"  IE {_v(f.ie, 'A')}   IC {_v(f.ic, 'A')}   VCE {_v(f.vce, 'V')}   {q} {result.state}")
     if result.state == "active":
         out.append("Signal, mid-band")
         out.append(f"  input {_v(f.rin, 'ohm')}   output {_v(f.rout, 'ohm')}   gain {float(f.gain):.4g} (source to load)")
@@ -83,12 +83,12 @@ def summary_lines(result, spec=None, cautions=None) -> list[str]:
         out.append(f"  |gain| {g[0]:.4g} … {g[1]:.4g}   low corner up to {_v(w.high['f_low'], 'Hz')}   "
                    f"swing at least ±{_v(w.low['swing_peak'], 'V')}")
     else:
-        out.append("  Q1 leaves the active region inside this range: signal figures not given")
+        out.append(f"  {q} leaves the active region inside this range: signal figures not given")
     out.append("Parts")
     by_name = {ch.name: ch for ch in result.checks}
     out += _part_lines(s.parts, by_name)
-    ch = by_name["Q1 power"]
-    out.append(f"  Q1   up to {_v(ch.value, 'W')}" + (f" of {_v(ch.limit, 'W')} allowed" if ch.limit else ", no PD given"))
+    ch = by_name[f"{q} power"]
+    out.append(f"  {q}   up to {_v(ch.value, 'W')}" + (f" of {_v(ch.limit, 'W')} allowed" if ch.limit else ", no PD given"))
     out += _tail_lines(result, spec, cautions)
     return out
 
@@ -166,16 +166,17 @@ def cascade_summary_lines(result, spec=None, cautions=None) -> list[str]:
     if cautions is None:
         cautions = cautions_for(result, mains=bool(spec and spec.mains))
     a, f, w, c = result.circuit, result.nominal, result.worst, result.conditions
+    (q1, t1), (q2, t2) = a.transistors.items()
     out = [_head_line(f"two-stage amplifier ({a.coupling}-coupled)", a, spec),
-           _transistor_line("Q1", a.q1), _transistor_line("Q2", a.q2)]
+           _transistor_line(q1, t1), _transistor_line(q2, t2)]
     out += _warning_lines(result)
     out.append("")
     out.append(f"Operating points at {c.nominal_temp:g} °C, nominal values (node voltages to ground)")
     states = result.states
-    out.append(f"  Q1  VB {_v(f.vb1, 'V')}   VE {_v(f.ve1, 'V')}   VC {_v(f.vc1, 'V')}   "
-               f"IE {_v(f.ie1, 'A')}   IC {_v(f.ic1, 'A')}   VCE {_v(f.vce1, 'V')}   {states['Q1']}")
-    out.append(f"  Q2  VB {_v(f.vb2, 'V')}   VE {_v(f.ve2, 'V')}   "
-               f"IE {_v(f.ie2, 'A')}   IC {_v(f.ic2, 'A')}   VCE {_v(f.vce2, 'V')}   {states['Q2']}")
+    out.append(f"  {q1}  VB {_v(f.vb1, 'V')}   VE {_v(f.ve1, 'V')}   VC {_v(f.vc1, 'V')}   "
+               f"IE {_v(f.ie1, 'A')}   IC {_v(f.ic1, 'A')}   VCE {_v(f.vce1, 'V')}   {states[q1]}")
+    out.append(f"  {q2}  VB {_v(f.vb2, 'V')}   VE {_v(f.ve2, 'V')}   "
+               f"IE {_v(f.ie2, 'A')}   IC {_v(f.ic2, 'A')}   VCE {_v(f.vce2, 'V')}   {states[q2]}")
     if result.active:
         sw = result.swing()
         out.append("Signal, mid-band")
@@ -185,9 +186,8 @@ def cascade_summary_lines(result, spec=None, cautions=None) -> list[str]:
         out.append(f"  low corner {_v(f.f_low, 'Hz')} for the whole amplifier" + (f" ({own})" if own else ""))
         out.append(f"  swing ±{_v(f.swing_peak, 'V')} peak into the load, limited by {sw['transistor']} "
                    f"({sw['limit']})")
-    t1, t2 = a.q1, a.q2
-    out.append(f"Worst case over tolerances, hFE {t1.hfe_min:g}–{t1.hfe_max:g} (Q1) and {t2.hfe_min:g}–"
-               f"{t2.hfe_max:g} (Q2), {c.ambient_min:g}–{c.ambient_max:g} °C ({w.vertices} corners)")
+    out.append(f"Worst case over tolerances, hFE {t1.hfe_min:g}–{t1.hfe_max:g} ({q1}) and {t2.hfe_min:g}–"
+               f"{t2.hfe_max:g} ({q2}), {c.ambient_min:g}–{c.ambient_max:g} °C ({w.vertices} corners)")
     out.append(f"  IE1 {_range(w.low['ie1'], w.high['ie1'], 'A')}   IE2 {_range(w.low['ie2'], w.high['ie2'], 'A')}   "
                f"VC1 {_range(w.low['vc1'], w.high['vc1'], 'V')}")
     if bool(w.all_active):
@@ -195,11 +195,11 @@ def cascade_summary_lines(result, spec=None, cautions=None) -> list[str]:
         out.append(f"  |gain| {g[0]:.4g} … {g[1]:.4g}   low corner up to {_v(w.high['f_low'], 'Hz')}   "
                    f"swing at least ±{_v(w.low['swing_peak'], 'V')}")
     else:
-        out.append("  Q1 or Q2 leaves the active region inside this range: signal figures not given")
+        out.append(f"  {q1} or {q2} leaves the active region inside this range: signal figures not given")
     out.append("Parts")
     by_name = {ch.name: ch for ch in result.checks}
     out += _part_lines(a.parts, by_name)
-    for name in ("Q1", "Q2"):
+    for name in a.transistors:
         ch = by_name[f"{name} power"]
         out.append(f"  {name}   up to {_v(ch.value, 'W')}"
                    + (f" of {_v(ch.limit, 'W')} allowed" if ch.limit else ", no PD given"))

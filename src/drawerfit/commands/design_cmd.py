@@ -29,7 +29,7 @@ def _print_choice(result, spec, analysis, cautions, quiet: bool) -> None:
     click.echo(f"Design ({state}, {problem.guarantee} guarantee, {problem.prefer}){per}: "
                f"{problem.topology} {problem.polarity.upper()} on {format_si(problem.supply, 'V')}, "
                f"{best.part_count} resistors and capacitors")
-    click.echo(f"  Q1   {tr.label}  [{tr.location or '-'}; row {tr.source.row}]  hFE {tr.hfe_min:g}..{tr.hfe_max:g}")
+    click.echo(f"  {best.transistor_name}   {tr.label}  [{tr.location or '-'}; row {tr.source.row}]  hFE {tr.hfe_min:g}..{tr.hfe_max:g}")
     click.echo(f"  {'role':4} {'value':>9}  {'arrangement':15} {'tol':>5} {'rating':>7} {'dissip.':>9}  parts (bin; row)")
     wc = analysis.worst if analysis is not None else None
     checks = {ch.name: ch for ch in analysis.checks} if analysis is not None else {}

@@ -267,15 +267,15 @@ def _more(items, shown) -> list[str]:
 
 
 def _figures_text(v) -> str:
-    f = v.figures
+    f, q = v.figures, v.analysis.stage.transistor_name
     if f.get("ie") is None:
-        return f"Q1 {f.get('state', '?')}"
+        return f"{q} {f.get('state', '?')}"
     text = f"IE {format_si(f['ie'], 'A')}"
     if f.get("ie_low") is not None and f.get("ie_high") is not None:
         text += f" ({format_si(f['ie_low'], 'A')} … {format_si(f['ie_high'], 'A')})"
     if f.get("gain") is not None:
         text += f", gain {f['gain']:.3g}"
-    return text if f.get("state") == "active" else text + f", Q1 {f['state']}"
+    return text if f.get("state") == "active" else text + f", {q} {f['state']}"
 
 
 def _verdict_text(v, board_fails: set[str] = frozenset()) -> str:

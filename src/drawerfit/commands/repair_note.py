@@ -92,16 +92,16 @@ def _print(note) -> None:
         return
     best, changed = r.best, r.changed[0]
     proven = "proven the fewest" if r.proven else "the fewest found, not proven"
-    click.echo(f"Change {len(changed)} of {len(p.roles[0]) + len(p.roles[1]) + 1} roles ({proven}; "
+    click.echo(f"Change {len(changed)} of {len(r.all_roles)} roles ({proven}; "
                f"{r.searches} searches); keep the rest as they are on the board.")
     click.echo("  Change:")
     for role in changed:
         click.echo(f"    {role:4} {note.was(role):28} ->  {note.now(role)}")
-    kept = [x for x in (*p.roles[0], *p.roles[1], "Q1") if x not in changed]
+    kept = [x for x in r.all_roles if x not in changed]
     if kept:
         click.echo(f"  Keep: {', '.join(kept)}")
     for role in changed:
-        if role == "Q1":
+        if role == r.transistor_role:
             continue
         c = best.roles[role]
         if c.orientation:
@@ -130,7 +130,7 @@ def _print(note) -> None:
         click.echo("")
         click.echo("Other repairs:")
         for i, (d, ch) in enumerate(zip(r.designs[1:], r.changed[1:]), 2):
-            vals = ", ".join(f"{x}={d.roles[x].equivalent.describe() if x != 'Q1' else d.transistor.label}"
+            vals = ", ".join(f"{x}={d.roles[x].equivalent.describe() if x != r.transistor_role else d.transistor.label}"
                              for x in ch)
             click.echo(f"  {i}. change {len(ch)}: {vals}")
     _cautions(note)

@@ -18,7 +18,7 @@ from pathlib import Path
 from typing import Mapping
 
 from ..parts import SpecError
-from ..stages import CAPACITOR_ROLES, RESISTOR_ROLES, Conditions, Stage, two_stage
+from ..stages import CAPACITOR_ROLES, RESISTOR_ROLES, Conditions, Stage, topologies, two_stage
 from ..values import ValueParseError, parse_tolerance, parse_value
 
 __all__ = ["PlacedPart", "RoleChoice", "PickItem", "DesignFile", "load_design", "read_design_tree", "DESIGN_KEYS",
@@ -88,9 +88,7 @@ class DesignFile:
     @property
     def transistors(self) -> dict:
         """The transistor models by designator (Q1; Q1 and Q2 for a two-stage amplifier)."""
-        if isinstance(self.stage, two_stage.TwoStage):
-            return {"Q1": self.stage.q1, "Q2": self.stage.q2}
-        return {"Q1": self.stage.transistor}
+        return self.stage.transistors
 
     @property
     def is_design(self) -> bool:
@@ -120,9 +118,11 @@ def _source(raw) -> dict:
     return dict(raw) if isinstance(raw, Mapping) else {}
 
 
-# every role and transistor a saved design may name: the single stages' and the two-stage amplifier's
-_KNOWN_ROLES = tuple(dict.fromkeys(RESISTOR_ROLES + CAPACITOR_ROLES + ("Q1",) + two_stage.ROLES
-                                   + two_stage.TRANSISTORS))
+# every transistor designator a saved design may name (design.roles.Q1 holds its bin), and every
+# role and transistor: the single stages' and the two-stage amplifier's, from their circuit modules
+_TRANSISTOR_NAMES = tuple(dict.fromkeys(t for m in topologies.CIRCUITS + topologies.ASSEMBLIES
+                                        for t in m.TRANSISTORS))
+_KNOWN_ROLES = tuple(dict.fromkeys(RESISTOR_ROLES + CAPACITOR_ROLES + two_stage.ROLES + _TRANSISTOR_NAMES))
 
 
 def _roles(path: str, table: Mapping) -> dict[str, RoleChoice]:
@@ -230,14 +230,12 @@ def load_design(path: str | Path, stock=None) -> DesignFile:
         raise SpecError(f"{path}: units = {units!r}: must be a whole number, 1 or more")
     roles = _roles(path, role_tables)
     places = {}
-    for name in two_stage.TRANSISTORS:
+    for name in _TRANSISTOR_NAMES:
         choice = roles.pop(name, None)
-        if choice is not None and choice.parts:
+        if choice is not None and choice.parts and name in stage.transistors:
             places[name] = (choice.parts[0].location, dict(choice.parts[0].source))
-    if not isinstance(stage, two_stage.TwoStage):
-        places.pop("Q2", None)
     pick_list = _pick_list(path, data.get("pick_list"), units)
-    t_loc, t_src = places.get("Q1", ("", {}))
+    t_loc, t_src = places.get(next(iter(stage.transistors)), ("", {}))
     return DesignFile(
         path=path, stage=stage, conditions=spec.conditions,
         targets=spec.targets.given() if spec.targets is not None else {}, units=units,
@@ -331,7 +329,7 @@ def design_tree(result, stock_file: str | None = None) -> dict:
         if ch.orientation:
             roles[role]["orientation"] = ch.orientation
     t = best.transistor
-    roles["Q1"] = {"describe": t.label, "parts": [{"location": t.location, "source": source_dict(t)}]}
+    roles[best.transistor_name] = {"describe": t.label, "parts": [{"location": t.location, "source": source_dict(t)}]}
     doc["design"] = {"roles": roles}
     return doc
 

@@ -208,7 +208,8 @@ def parse_spec(data: Mapping[str, Any], path: str = "<spec>", stock=None, *, lab
         raise r.fail("bypass", bypass, f"only the {with_bypass} has a bypassed RE2")
 
     transistor, label = _transistor(r, data, polarity, stock, design="parts" not in data,
-                                    label_may_be_absent=label_may_be_absent)
+                                    label_may_be_absent=label_may_be_absent,
+                                    name=topology_module(topology).TRANSISTORS[0])
     parts = _parts(r, data, topology)
     targets = _targets(r, data, Targets, IE_WINDOW)
     conditions = _limits(r, data, Conditions)
@@ -245,7 +246,7 @@ def _surroundings(r: _Reader, data) -> tuple:
 
 
 def _transistor(r: _Reader, data, polarity, stock, design: bool = False, label_may_be_absent: bool = False,
-                *, key: str = "transistor", lookup: str = "transistor", name: str = "Q1", who: str = ""):
+                *, name: str, key: str = "transistor", lookup: str = "transistor", who: str = ""):
     """One transistor table ``data[lookup]`` (named ``key`` in messages) as (model, label).
 
     ``name`` is its designator in notes; ``who`` prefixes the defaults it assumed ("Q2 ")."""

@@ -48,7 +48,7 @@ class RepairNote:
         """What the board has in ``role``, in words."""
         from ..values import format_percent, format_si
 
-        if role == "Q1":
+        if role == self.result.transistor_role:
             t = self.spec.transistor
             return "-" if t is None else f"{t.label or 'the board transistor'} (hFE {t.hfe_min:g}..{t.hfe_max:g})"
         p = self.spec.parts.get(role)
@@ -62,7 +62,7 @@ class RepairNote:
         from ..values import format_percent
 
         best = self.result.best
-        if role == "Q1":
+        if role == self.result.transistor_role:
             t = best.transistor
             return (f"{t.label} (hFE {t.hfe_min:g}..{t.hfe_max:g})  [{t.location or '-'}; row {t.source.row}]")
         c = best.roles[role]
@@ -95,8 +95,7 @@ class RepairNote:
         r = self.result
         rows = []
         if r.feasible:
-            res, caps = r.problem.roles
-            for role in (*res, *caps, "Q1"):
+            for role in r.all_roles:
                 changed = role in r.changed[0]
                 rows.append({"role": role, "changed": changed, "from": self.was(role),
                              "to": self.now(role) if changed else self.was(role)})
@@ -175,10 +174,10 @@ def repair_dict(note) -> dict:
         return out
     best, changed = r.best, r.changed[0]
     parts = _role_dict(best)
-    for role in (*r.problem.roles[0], *r.problem.roles[1], "Q1"):
+    for role in r.all_roles:
         if role in changed:
             entry = {"role": role, "from": note.was(role), "to": note.now(role)}
-            if role == "Q1":
+            if role == r.transistor_role:
                 entry["transistor"] = {"label": best.transistor.label, "location": best.transistor.location,
                                        "row": best.transistor.source.row}
             else:

@@ -135,9 +135,9 @@ def bom_rows(design: DesignFile) -> list[BomRow]:
                                rating=_rating_text(role, rating), bin=m.location,
                                stock_file=str(src.get("file") or ""), stock_sheet=str(src.get("sheet") or ""),
                                stock_row=int(m.row) if m.row is not None else None, **common))
-    for designator, t in design.transistors.items():
+    for i, (designator, t) in enumerate(design.transistors.items()):
         loc, src = design.transistor_places.get(designator, ("", {}))
-        if designator == "Q1" and not loc:
+        if i == 0 and not loc:  # transistor_location and transistor_source are the first one's
             loc, src = design.transistor_location, design.transistor_source
         rating = ", ".join(x for x in (
             f"VCEO {format_si(t.vceo, 'V', 3)}" if t.vceo else "",

@@ -76,9 +76,10 @@ def stage_netlist(stage: Stage, *, temp_c: float = NOMINAL_TEMP_C, control: str 
         lines += ["VS src 0 DC 0 AC 1", f"RS src in {spice_value(stage.source_resistance)}"]
     else:
         lines += ["VS in 0 DC 0 AC 1"]
-    for name, plus, minus, role in topology_module(stage.topology).elements(stage.polarity, stage.parts):
-        if name == "Q1":
-            lines.append(f"Q1 {plus} {minus} {role} {model}")
+    circuit = topology_module(stage.topology)
+    for name, plus, minus, role in circuit.elements(stage.polarity, stage.parts):
+        if name in circuit.TRANSISTORS:
+            lines.append(f"{name} {plus} {minus} {role} {model}")
         else:
             part = stage.parts[role]
             note = ""

@@ -181,7 +181,7 @@ def schematic_svg(design, nominal, *, members: Mapping[str, Sequence] | None = N
     xq = 0.7516666666666666  # collector/emitter x of schemdraw's BJT with base at (0, 0)
     q = elm.BjtNpn(circle=True) if npn else elm.BjtPnp(circle=True)
     t = stage.transistor
-    q_text = f"Q1\n{_safe(t.label) or stage.polarity.upper()}" + (f"\npins {pin_order_text(t.pins)}" if t.pins else "")
+    q_text = f"{stage.transistor_name}\n{_safe(t.label) or stage.polarity.upper()}" + (f"\npins {pin_order_text(t.pins)}" if t.pins else "")
     d += q.at((0, 0)).anchor("base").label(q_text, loc="right", ofst=(0.35, 0))
     e_pin, c_pin = (q.emitter, q.collector)
 

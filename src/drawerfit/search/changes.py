@@ -25,9 +25,7 @@ from .problem import DesignProblem
 from .runner import BOARD_FILE, DesignChoice, run_search
 from .tables import build_tables, with_default_ratings
 
-__all__ = ["BOARD_FILE", "TRANSISTOR_ROLE", "ChangeResult", "fewest_changes", "board_lines", "changed_roles"]
-
-TRANSISTOR_ROLE = "Q1"
+__all__ = ["BOARD_FILE", "ChangeResult", "fewest_changes", "board_lines", "changed_roles"]
 
 
 @dataclass
@@ -52,6 +50,17 @@ class ChangeResult:
     @property
     def best(self) -> DesignChoice | None:
         return self.designs[0] if self.designs else None
+
+    @property
+    def transistor_role(self) -> str:
+        """The transistor's designator, as the circuit module names it (Q1)."""
+        return self.problem.circuit.TRANSISTORS[0]
+
+    @property
+    def all_roles(self) -> tuple[str, ...]:
+        """Every role a repair may change: the searched parts, then the transistor."""
+        res, caps = self.problem.roles
+        return (*res, *caps, self.transistor_role)
 
 
 def board_lines(problem: DesignProblem, parts, transistor, start: int) -> tuple[dict, StockLine | None]:
@@ -79,7 +88,7 @@ def changed_roles(choice: DesignChoice, roles) -> list[str]:
     """The roles of ``choice`` not filled by the board's own part, in ``roles`` order."""
     out = []
     for r in roles:
-        if r == TRANSISTOR_ROLE:
+        if r == choice.transistor_name:
             if choice.transistor.source.file != BOARD_FILE:
                 out.append(r)
         elif any(ln.source.file != BOARD_FILE for ln in choice.roles[r].equivalent.members):
@@ -95,12 +104,13 @@ def fewest_changes(problem: DesignProblem, stock: Stock, parts, transistor, *, f
     ``max_changes`` stops after that many changed roles (None: up to every role).  ``budget`` is each
     search's (sets, steps) budget (default ``engine``'s)."""
     res_roles, cap_roles = problem.roles
-    roles = (*res_roles, *cap_roles, TRANSISTOR_ROLE)
+    trole = problem.circuit.TRANSISTORS[0]
+    roles = (*res_roles, *cap_roles, trole)
     fixed, broken = tuple(fixed), tuple(broken)
-    _check_marks(roles, parts, transistor, fixed, broken)
-    missing = tuple(r for r in roles if r != TRANSISTOR_ROLE and r not in parts)
+    _check_marks(roles, trole, parts, transistor, fixed, broken)
+    missing = tuple(r for r in roles if r != trole and r not in parts)
     if transistor is None:
-        missing += (TRANSISTOR_ROLE,)
+        missing += (trole,)
     must = tuple(r for r in roles if r in broken or r in missing)
     free = tuple(r for r in roles if r not in must and r not in fixed)
     problem = problem.with_(label=None)
@@ -128,7 +138,7 @@ def fewest_changes(problem: DesignProblem, stock: Stock, parts, transistor, *, f
             changed = set(must) | set(extra)
             rt = {r: drawer["resistor"] if r in changed else board[r] for r in res_roles}
             ct = {r: drawer["capacitor"] if r in changed else board[r] for r in cap_roles}
-            trs = drawer_trs if TRANSISTOR_ROLE in changed else [board_tr]
+            trs = drawer_trs if trole in changed else [board_tr]
             st: dict = {}
             got, _, _ = run_search(problem, passive + list(on_board.values()) + trs, top, exhaustive,
                                    stats_out=st, tables=(rt, ct), budget=budget)
@@ -144,7 +154,7 @@ def fewest_changes(problem: DesignProblem, stock: Stock, parts, transistor, *, f
     return out
 
 
-def _check_marks(roles, parts, transistor, fixed, broken) -> None:
+def _check_marks(roles, trole, parts, transistor, fixed, broken) -> None:
     for name, marked in (("fixed", fixed), ("broken", broken)):
         bad = [r for r in marked if r not in roles]
         if bad:
@@ -152,8 +162,7 @@ def _check_marks(roles, parts, transistor, fixed, broken) -> None:
     both = sorted(set(fixed) & set(broken))
     if both:
         raise SpecError(f"{', '.join(both)} cannot be both fixed and broken")
-    unknown = [r for r in fixed if (r == TRANSISTOR_ROLE and transistor is None) or
-               (r != TRANSISTOR_ROLE and r not in parts)]
+    unknown = [r for r in fixed if (r == trole and transistor is None) or (r != trole and r not in parts)]
     if unknown:
         raise SpecError(f"fixed: {', '.join(unknown)} is not given in [parts]/[transistor], so it cannot stay")
     extra = sorted(set(parts) - set(roles))

@@ -52,6 +52,7 @@ class DesignChoice:
     target_margins: dict
     rating_margins: dict
     key: tuple
+    transistor_name: str  # its designator, as the circuit module names it (``TRANSISTORS``)
     picks: tuple = ()  # (giving line, needed line, parts for all units): the drawer's bins, CP-SAT
 
     def stage(self, problem: DesignProblem) -> Stage:
@@ -130,7 +131,8 @@ def choice_of(problem: DesignProblem, ctx: SearchContext, f: FoundDesign) -> Des
         part_count=b.pr + comp.pc, distance=float(b.ev.distance[pos]),
         margin=min(float(b.ev.mu[pos]), comp.margin_c),
         stock_left=min(float(b.stock_left[pos]), comp.stock_left), total_capacitance=comp.total_capacitance,
-        bought=int(b.bought[pos]) + comp.bought, target_margins=tm, rating_margins=rm, key=key)
+        bought=int(b.bought[pos]) + comp.bought, target_margins=tm, rating_margins=rm, key=key,
+        transistor_name=problem.circuit.TRANSISTORS[0])
 
 
 def run_search(problem: DesignProblem, lines, top: int, exhaustive: bool, virtual_ids=(), min_bought: int = 0,

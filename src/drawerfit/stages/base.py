@@ -132,6 +132,17 @@ class Stage:
     def bypassed(self) -> bool:
         return "CE" in self.parts and "RE2" in self.parts
 
+    @property
+    def transistor_name(self) -> str:
+        """The designator of its transistor, as its circuit module names it."""
+        (name,) = topology_module(self.topology).TRANSISTORS
+        return name
+
+    @property
+    def transistors(self) -> dict[str, TransistorModel]:
+        """Its transistor by designator (the same shape as a two-stage amplifier's)."""
+        return {self.transistor_name: self.transistor}
+
     def core_arguments(self) -> dict:
         """Keyword arguments for ``analysis.core.evaluate`` at the nominal values."""
         t = self.transistor

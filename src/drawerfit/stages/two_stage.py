@@ -113,6 +113,11 @@ class TwoStage:
     def bypassed(self) -> bool:
         return "CE" in self.parts and "RE2" in self.parts
 
+    @property
+    def transistors(self) -> dict[str, TransistorModel]:
+        """Q1 and Q2 by designator, in ``TRANSISTORS`` order."""
+        return dict(zip(TRANSISTORS, (self.q1, self.q2)))
+
     def value(self, role: str, default: float = 0.0) -> float:
         part = self.parts.get(role)
         return default if part is None else part.value

@@ -32,7 +32,8 @@ CONSTANTS = ("NAME", "TITLE", "SHORT_NAME", "OUTPUT_END", "BASE_LOAD_WORDS", "RO
              "CAP_FIGURE", "DESIGN_RESISTORS", "DESIGN_CAPACITORS", "BYPASS_ROLES")
 FUNCTIONS = ("validate_roles", "elements", "dc_inputs", "small_signal", "swing", "dc_nodes",
              "kernel_constants", "stage_transfer", "bypass_corner", "magnitude_constants", "magnitude",
-             "design_roles", "nominal_extras", "swing_ceiling", "base_ceiling", "load_line")
+             "design_roles", "nominal_extras", "swing_ceiling", "base_ceiling", "emitter_bounds",
+             "base_load_floor", "load_line", "schematic_heights", "draw_sides")
 
 
 def topology_name_uses(path: Path, names) -> list[str]:
@@ -100,6 +101,19 @@ def test_no_transistor_designator_outside_the_circuit_modules():
         if path in CIRCUIT_FILES or path in TWO_STAGE_OWN:
             continue
         found += designator_uses(path, names)
+    assert found == []
+
+
+def test_no_output_node_switch_outside_the_circuit_modules():
+    # the search bounds and the schematic ask the circuit module (emitter_bounds, base_load_floor,
+    # schematic_heights, draw_sides) rather than branch on where its output is
+    found = []
+    for path in sorted(PACKAGE.rglob("*.py")):
+        if path in CIRCUIT_FILES or path == REGISTRY:
+            continue
+        tree = ast.parse(path.read_text(encoding="utf-8"))
+        found += [f"{path.name}:{n.lineno}" for n in ast.walk(tree)
+                  if isinstance(n, ast.Attribute) and n.attr == "OUTPUT_NODE"]
     assert found == []
 
 

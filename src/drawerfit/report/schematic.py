@@ -8,7 +8,8 @@ capacitors are drawn with their + end where the DC voltage puts it.
 from __future__ import annotations
 
 import re
-from typing import Mapping, Sequence
+from dataclasses import dataclass
+from typing import Any, Callable, Mapping, Sequence
 
 from ..parts import pin_order_text
 from ..stages.topologies import topology_module
@@ -77,6 +78,31 @@ def _footprint(members) -> tuple[float, float]:
     return _length(group) + 0.4, _width(group) + _LABEL_ROOM
 
 
+@dataclass(frozen=True)
+class Sketch:
+    """What a circuit module's ``draw_sides`` draws the transistor's emitter and collector sides
+    with: the drawing's own functions (so the circuit modules need no schemdraw), the stage, the
+    transistor's pins and rails (schemdraw units), and the parts' sizes."""
+
+    place: Callable  # place(role, start, end, n, *, single_loc, ofst, plus_at_start, polar)
+    line: Callable  # line(a, b): a wire
+    dot: Callable  # dot(p): a junction
+    stage: Any
+    nominal: Any  # core Figures: the capacitor polarities
+    members: Mapping[str, Sequence]  # the roles drawn as several parts
+    width: Mapping[str, float]  # how far each role reaches beside its axis
+    span: Mapping[str, float]  # the length each role is drawn with (at least 3, more for several parts)
+    npn: bool
+    e_dir: float  # the emitter side points this way (-1 down, +1 up)
+    xq: float  # the collector and emitter x
+    e_y: float  # the emitter pin's y
+    c_y: float  # the collector pin's y
+    rail_e: float  # the y of the emitter's rail
+    rail_c: float  # the y of the collector's rail
+    lead: float = _LEAD
+    role_room: float = _ROLE_ROOM
+
+
 def schematic_svg(design, nominal, *, members: Mapping[str, Sequence] | None = None) -> str:
     """SVG text of the stage.  ``nominal`` (core Figures) gives the capacitor polarities.
 
@@ -88,9 +114,9 @@ def schematic_svg(design, nominal, *, members: Mapping[str, Sequence] | None = N
 
     stage = design.stage
     npn = stage.polarity == "npn"
-    # the output at the collector: RC above it, the emitter stack below (one circuit or the other
-    # today; a circuit with a drawing of its own would bring it in its module)
-    ce = topology_module(stage.topology).OUTPUT_NODE == "c"
+    # the circuit draws its emitter and collector sides and says how tall they are (its module's
+    # ``schematic_heights`` and ``draw_sides``); the divider, input, output and rails are shared
+    circuit = topology_module(stage.topology)
     parts = stage.parts
     members = {r: list(m) for r, m in (members or {}).items() if len(m) > 1 and r in parts}
     length = {r: _footprint(members.get(r, ()))[0] for r in parts}
@@ -164,13 +190,9 @@ def schematic_svg(design, nominal, *, members: Mapping[str, Sequence] | None = N
         label_at(middle, f"{role} = {_safe(value_label(role, parts[role].value))}", (-n[0], -n[1]), gap=0.55)
 
     e_dir = -1.0 if npn else 1.0  # the emitter side points at this rail
-    right, left, up, down = (1.0, 0.0), (-1.0, 0.0), (0.0, 1.0), (0.0, -1.0)
-    toward_e = (0.0, e_dir)
-    len_re = max(3.0, length["RE"])
-    len_re2 = max(3.0, length.get("RE2", 0.0))
-    len_rc = max(3.0, length.get("RC", 0.0))
-    stack_e = (len_re + (len_re2 if "RE2" in parts else 0.0)) if ce else _LEAD + len_re
-    stack_c = _LEAD + len_rc if ce else 1.5
+    left, up = (-1.0, 0.0), (0.0, 1.0)
+    span = {r: max(3.0, length.get(r, 0.0)) for r in parts}
+    stack_e, stack_c = circuit.schematic_heights(parts, span, _LEAD)
     y_e = 0.7 + stack_e
     y_c = 0.7 + stack_c
     ytop, ybot = (y_c, -y_e) if npn else (y_e, -y_c)
@@ -207,42 +229,14 @@ def schematic_svg(design, nominal, *, members: Mapping[str, Sequence] | None = N
         d += elm.Line().at((x_src, 0)).to((x_in, 0))
     d += elm.SourceSin().at((x_src, ybot)).to((x_src, 0)).label("signal\nsource", loc="top", ofst=0.3)
 
-    # Emitter side; the parts of its roles branch to the right.
-    e_start = (xq, e_pin[1])
-    reach = width["RE"]  # how far right of Q1 the emitter side reaches
-    if ce:
-        n_y = e_pin[1] + e_dir * len_re
-        end_re = (xq, n_y if "RE2" in parts else rail_e)
-        place("RE", e_start, end_re, right, single_loc="bottom")
-        if "RE2" in parts:
-            d += elm.Dot().at((xq, n_y))
-            place("RE2", (xq, n_y), (xq, rail_e), right, single_loc="top")
-            reach = max(reach, width["RE2"])
-            if stage.bypassed:
-                xce = xq + max(2.2, width["RE2"] + 0.6 + (_ROLE_ROOM if "CE" in members else 0.0))
-                d += elm.Line().at((xq, n_y)).to((xce, n_y))
-                ce_plus_at_n = float(nominal.v_ce) >= 0
-                place("CE", (xce, n_y), (xce, rail_e), right,
-                      single_loc="bottom" if (ce_plus_at_n == npn) else "top", plus_at_start=ce_plus_at_n,
-                      polar=parts["CE"].polarized)
-                d += elm.Dot().at((xce, rail_e))
-                reach = max(reach, xce - xq + width["CE"] + 1.2)
-        tap_y = c_pin[1] - e_dir * _LEAD
-        d += elm.Line().at((xq, c_pin[1])).to((xq, tap_y))
-        place("RC", (xq, tap_y), (xq, rail_c), right, single_loc="top" if npn else "bottom")
-        x_c2 = xq + max(1.2, width["RC"] + 0.2)
-        c2_side = (0.0, -e_dir)  # toward the collector's rail, clear of Q1's label
-    else:
-        tap_y = e_pin[1] + e_dir * _LEAD
-        d += elm.Line().at(e_start).to((xq, tap_y))
-        place("RE", (xq, tap_y), (xq, rail_e), right, single_loc="bottom" if npn else "top")
-        d += elm.Line().at((xq, c_pin[1])).to((xq, rail_c))
-        x_c2 = xq + max(1.2, width["RE"] + 0.2)
-        c2_side = toward_e
+    # Emitter and collector sides (the circuit's); the parts of their roles branch to the right.
+    sketch = Sketch(place=place, line=lambda a, b: d.add(elm.Line().at(a).to(b)),
+                    dot=lambda p: d.add(elm.Dot().at(p)), stage=stage, nominal=nominal, members=members,
+                    width=width, span=span, npn=npn, e_dir=e_dir, xq=xq, e_y=e_pin[1], c_y=c_pin[1],
+                    rail_e=rail_e, rail_c=rail_c)
+    tap_y, x_c2, c2_side, reach, rail_e_dot = circuit.draw_sides(sketch)
 
     # Output.
-    if ce and stage.bypassed:
-        x_c2 = max(x_c2, xq + 4.6)
     x_out = x_c2 + max(3.2, length["C2"])
     d += elm.Dot().at((xq, tap_y))
     d += elm.Line().at((xq, tap_y)).to((x_c2, tap_y))
@@ -269,7 +263,7 @@ def schematic_svg(design, nominal, *, members: Mapping[str, Sequence] | None = N
     d += elm.Dot().at((xd, ybot))
     if stage.load is not None:
         d += elm.Dot().at((x_right, ybot))
-    if ce and "RE2" not in parts or not ce:
+    if rail_e_dot:
         d += elm.Dot().at((xq, rail_e))
     d += elm.Dot().at((xq, rail_c))
     svg = d.get_imagedata("svg").decode("utf-8")

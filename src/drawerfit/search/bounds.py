@@ -76,6 +76,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from ..stages.kernels import par_ceiling, par_floor
 from .judge import SearchContext
 from .tables import RoleTable
 from .windows import SLACK, vth as _vth
@@ -115,15 +116,6 @@ class Box:
         return 0.0 if self.nominal or not len(t) else float(t.tol.min())
 
 
-def par_floor(q, rl: float):
-    """The smallest R with R‖rl >= q: 0 where q <= 0, inf where no R reaches it (q >= rl)."""
-    q = np.asarray(q, float)
-    if not np.isfinite(rl):
-        return np.maximum(q, 0.0)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        return np.where(q <= 0, 0.0, np.where(q < rl, q * rl / (rl - q), np.inf))
-
-
 class EmitterBounds:
     """Bounds on RE alone (not RE + RE2) that hold for every set of the problem, and the ingredients
     of the per-divider input-resistance bound.
@@ -137,24 +129,16 @@ class EmitterBounds:
         p, tr = ctx.problem, ctx.tr
         t = p.targets
         rl = p.rl
-        # the output at the emitter: the load is in parallel with RE (swing and base impedance)
-        follower = p.circuit.OUTPUT_NODE == "e"
-        self.follower = follower
+        self.circuit = p.circuit
         self.rl = rl
-        self.re_lo_min, self.re_hi_max = 0.0, np.inf
-        self.ve_min = 0.0
-        s = t.swing or 0.0
-        if follower and s > 0:
-            # down = IE·(RE‖RL) >= s with IE <= ie_max, at the vertex of RE low
-            self.re_lo_min = float(par_floor(s * (1 - SLACK) / t.ie_max, rl))
-            # up = VCC − VCE(sat) − IE·RE >= s and down >= s at one vertex: IE·RE cancels
-            room = p.supply - tr.vce_sat - 2.0 * s + SLACK * p.supply
-            if np.isfinite(rl):
-                self.re_hi_max = rl * room / s
-            elif room < 0:
-                self.re_hi_max = -np.inf
-            # VE = IE·RE >= s·(RE + RL)/RL >= s·(1 + RE low/RL)
-            self.ve_min = s * (1.0 + (self.re_lo_min / rl if np.isfinite(rl) else 0.0))
+        # the circuit's own bounds (its ``emitter_bounds``): the follower's swing bounds on RE and the
+        # most RE‖RL its base can see; the common emitter's headroom, RC need and gain floor
+        own = {"re_lo_min": 0.0, "re_hi_max": np.inf, "ve_min": 0.0, "base_load_max": None, "headroom": None,
+               **p.circuit.emitter_bounds(p.supply, tr.vce_sat, t, rl, box.b_lo, SLACK)}
+        self.re_lo_min, self.re_hi_max, self.ve_min = own["re_lo_min"], own["re_hi_max"], own["ve_min"]
+        self.headroom = own["headroom"]
+        if self.headroom is not None:
+            self.alpha_lo, self.rc_swing, self.gain_min = own["alpha_lo"], own["rc_swing"], own["gain_min"]
         self.rin = None if t.rin_min is None else t.rin_min * (1 - SLACK)
         # re = VT/IE <= VT(hottest)/ie_min at every vertex of a set that keeps IE >= ie_min
         self.re_max = box.vt_max / t.ie_min * (1 + SLACK)
@@ -162,26 +146,12 @@ class EmitterBounds:
         self.rth_min = 0.0
         if self.rin is not None:
             self.rth_min = self.rin
-            if follower:
-                # the base impedance (β+1)(re + RE‖RL) at hFE low, RE‖RL below RL and below RE high‖RL
-                x = rl
-                if np.isfinite(self.re_hi_max):
-                    h = max(self.re_hi_max, 0.0)
-                    x = h if not np.isfinite(rl) else h * rl / (h + rl) if h > 0 else 0.0
+            x = own["base_load_max"]
+            if x is not None:
+                # the base impedance (β+1)(re + X) at hFE low, X below the most the base can see
                 zmax = self.b1 * (self.re_max + x)
                 self.rth_min = (np.inf if zmax <= self.rin else
                                 self.rin if not np.isfinite(zmax) else self.rin * zmax / (zmax - self.rin))
-
-        # common emitter: the headroom VCE >= VCE(sat) + swing at (RC high, RE and RE2 low) holds
-        # IE·RET low + IC·RC high, with IE >= ie_min and IC = α·IE >= α_lo·ie_min; RC's high end
-        # must reach rc_need (gain_min at (RC low, RE high): |gain| < (RC‖RL)/RE; swing up at RC
-        # low: IC·(RC‖RL) >= swing with IC < ie_max)
-        self.headroom = None
-        if not follower:
-            self.headroom = (p.supply - tr.vce_sat - s) / t.ie_min * (1 + SLACK)
-            self.alpha_lo = box.b_lo / (box.b_lo + 1.0)
-            self.rc_swing = float(par_floor(s * (1 - SLACK) / t.ie_max, rl))
-            self.gain_min = None if t.gain_min is None else t.gain_min * (1 - SLACK)
 
     def rc_need(self, re_hi: np.ndarray) -> np.ndarray:
         """Common emitter: the least RC low end (so also high end) that the gain and upward swing
@@ -229,16 +199,7 @@ class EmitterBounds:
         with np.errstate(divide="ignore", invalid="ignore"):
             zneed = np.where(rth_ll > self.rin, self.rin * rth_ll / (rth_ll - self.rin), np.inf)
             q = zneed / self.b1 - self.re_max
-        return par_floor(q, rl) if self.follower else np.maximum(q, 0.0)
-
-
-def par_ceiling(y, rl: float):
-    """The largest R with R‖rl <= y: inf where y >= rl (or no load)."""
-    y = np.asarray(y, float)
-    if not np.isfinite(rl):
-        return y
-    with np.errstate(divide="ignore", invalid="ignore"):
-        return np.where(y < rl, y * rl / (rl - y), np.inf)
+        return self.circuit.base_load_floor(q, rl)
 
 
 def emitter_window(ctx: SearchContext, box: Box, A, B, ia, ib):

@@ -175,6 +175,25 @@ def swing_ceiling(room: float, ie_max: float, rl: float) -> float:
     return min(room / 2.0, ie_max * rl)
 
 
+def emitter_bounds(supply: float, vce_sat: float, targets, rl: float, b_lo: float, slack: float) -> dict:
+    """The search's bounds for the headroom (``search/bounds.py`` proves them): the most RET low +
+    α_lo·RC high may be, α_lo, the least RC‖RL the upward swing needs, the gain floor."""
+    from .kernels import par_floor
+
+    s = targets.swing or 0.0
+    return {"headroom": (supply - vce_sat - s) / targets.ie_min * (1 + slack),
+            "alpha_lo": b_lo / (b_lo + 1.0),
+            "rc_swing": float(par_floor(s * (1 - slack) / targets.ie_max, rl)),
+            "gain_min": None if targets.gain_min is None else targets.gain_min * (1 - slack)}
+
+
+def base_load_floor(q, rl: float):
+    """The least RE whose load on the base beyond re (RE, RE2 bypassed) reaches ``q`` (an array)."""
+    import numpy as np
+
+    return np.maximum(q, 0.0)
+
+
 def base_ceiling(problem, model, vt: float) -> float | None:
     """(hFE_min + 1)·(re_max + RL/gain_min): the most the base can show, None when unbounded."""
     t = problem.targets
@@ -187,6 +206,44 @@ def base_ceiling(problem, model, vt: float) -> float | None:
 
 
 # --- the report ---
+
+def schematic_heights(parts: Mapping[str, object], span: Mapping[str, float], lead: float) -> tuple[float, float]:
+    """(emitter side, collector side) heights of the drawing: RE (and RE2) to the rail; a lead to the
+    output tap, then RC."""
+    return span["RE"] + (span["RE2"] if "RE2" in parts else 0.0), lead + span["RC"]
+
+
+def draw_sides(sk) -> tuple:
+    """Draw the emitter side (RE, RE2 with CE across it) and the collector side (a lead to the output
+    tap, RC to its rail) on ``sk`` (``report.schematic.Sketch``); (tap y, C2's x, C2's label side,
+    reach to the right of the transistor, whether the emitter rail needs a junction under it)."""
+    parts, xq, right = sk.stage.parts, sk.xq, (1.0, 0.0)
+    reach = sk.width["RE"]
+    n_y = sk.e_y + sk.e_dir * sk.span["RE"]
+    end_re = (xq, n_y if "RE2" in parts else sk.rail_e)
+    sk.place("RE", (xq, sk.e_y), end_re, right, single_loc="bottom")
+    if "RE2" in parts:
+        sk.dot((xq, n_y))
+        sk.place("RE2", (xq, n_y), (xq, sk.rail_e), right, single_loc="top")
+        reach = max(reach, sk.width["RE2"])
+        if sk.stage.bypassed:
+            xce = xq + max(2.2, sk.width["RE2"] + 0.6 + (sk.role_room if "CE" in sk.members else 0.0))
+            sk.line((xq, n_y), (xce, n_y))
+            ce_plus_at_n = float(sk.nominal.v_ce) >= 0
+            sk.place("CE", (xce, n_y), (xce, sk.rail_e), right,
+                     single_loc="bottom" if (ce_plus_at_n == sk.npn) else "top", plus_at_start=ce_plus_at_n,
+                     polar=parts["CE"].polarized)
+            sk.dot((xce, sk.rail_e))
+            reach = max(reach, xce - xq + sk.width["CE"] + 1.2)
+    tap_y = sk.c_y - sk.e_dir * sk.lead
+    sk.line((xq, sk.c_y), (xq, tap_y))
+    sk.place("RC", (xq, tap_y), (xq, sk.rail_c), right, single_loc="top" if sk.npn else "bottom")
+    x_c2 = xq + max(1.2, sk.width["RC"] + 0.2)
+    if sk.stage.bypassed:
+        x_c2 = max(x_c2, xq + 4.6)
+    # C2's label toward the collector's rail, clear of the transistor's label
+    return tap_y, x_c2, (0.0, -sk.e_dir), reach, "RE2" not in parts
+
 
 def load_line(stage) -> tuple[float, float, float]:
     """(DC load-line resistance, AC one, output volts per volt of VCE) of the output circuit."""

@@ -152,6 +152,41 @@ def swing_ceiling(room: float, ie_max: float, rl: float) -> float:
     return room - x
 
 
+def emitter_bounds(supply: float, vce_sat: float, targets, rl: float, b_lo: float, slack: float) -> dict:
+    """The search's bounds on RE alone (``search/bounds.py`` proves them): with a swing target, RE's
+    low-end floor and high-end ceiling and the least VE; ``base_load_max`` the most RE‖RL can be."""
+    import numpy as np
+
+    from .kernels import par_floor
+
+    re_lo_min, re_hi_max, ve_min = 0.0, np.inf, 0.0
+    s = targets.swing or 0.0
+    if s > 0:
+        # down = IE·(RE‖RL) >= s with IE <= ie_max, at the vertex of RE low
+        re_lo_min = float(par_floor(s * (1 - slack) / targets.ie_max, rl))
+        # up = VCC − VCE(sat) − IE·RE >= s and down >= s at one vertex: IE·RE cancels
+        room = supply - vce_sat - 2.0 * s + slack * supply
+        if np.isfinite(rl):
+            re_hi_max = rl * room / s
+        elif room < 0:
+            re_hi_max = -np.inf
+        # VE = IE·RE >= s·(RE + RL)/RL >= s·(1 + RE low/RL)
+        ve_min = s * (1.0 + (re_lo_min / rl if np.isfinite(rl) else 0.0))
+    # RE‖RL is below RL and below RE high‖RL
+    x = rl
+    if np.isfinite(re_hi_max):
+        h = max(re_hi_max, 0.0)
+        x = h if not np.isfinite(rl) else h * rl / (h + rl) if h > 0 else 0.0
+    return {"re_lo_min": re_lo_min, "re_hi_max": re_hi_max, "ve_min": ve_min, "base_load_max": x}
+
+
+def base_load_floor(q, rl: float):
+    """The least RE whose load on the base beyond re (RE‖RL) reaches ``q`` (an array)."""
+    from .kernels import par_floor
+
+    return par_floor(q, rl)
+
+
 def base_ceiling(problem, model, vt: float) -> float | None:
     """(hFE_min + 1)·(re_max + X_max), X = RE‖RL: the most the base can show, None when unbounded."""
     t = problem.targets
@@ -169,6 +204,24 @@ def base_ceiling(problem, model, vt: float) -> float | None:
 
 
 # --- the report ---
+
+def schematic_heights(parts: Mapping[str, object], span: Mapping[str, float], lead: float) -> tuple[float, float]:
+    """(emitter side, collector side) heights of the drawing: a lead to the output tap, then RE; the
+    collector straight to its rail."""
+    return lead + span["RE"], 1.5
+
+
+def draw_sides(sk) -> tuple:
+    """Draw the emitter side (a lead to the output tap, RE to its rail) and the collector wire on
+    ``sk`` (``report.schematic.Sketch``); (tap y, C2's x, C2's label side, reach to the right of the
+    transistor, whether the emitter rail needs a junction under the transistor)."""
+    tap_y = sk.e_y + sk.e_dir * sk.lead
+    sk.line((sk.xq, sk.e_y), (sk.xq, tap_y))
+    sk.place("RE", (sk.xq, tap_y), (sk.xq, sk.rail_e), (1.0, 0.0), single_loc="bottom" if sk.npn else "top")
+    sk.line((sk.xq, sk.c_y), (sk.xq, sk.rail_c))
+    x_c2 = sk.xq + max(1.2, sk.width["RE"] + 0.2)
+    return tap_y, x_c2, (0.0, sk.e_dir), sk.width["RE"], True
+
 
 def load_line(stage) -> tuple[float, float, float]:
     """(DC load-line resistance, AC one, output volts per volt of VCE) of the output circuit."""

@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-__all__ = ["parallel", "load_conductance"]
+__all__ = ["parallel", "load_conductance", "par_floor", "par_ceiling"]
 
 
 def parallel(a, b):
@@ -19,3 +19,25 @@ def load_conductance(rl):
     import numpy as np
 
     return np.where(np.isfinite(rl), 1.0 / np.where(np.isfinite(rl), rl, 1.0), 0.0)
+
+
+def par_floor(q, rl: float):
+    """The smallest R with R‖rl >= q: 0 where q <= 0, inf where no R reaches it (q >= rl)."""
+    import numpy as np
+
+    q = np.asarray(q, float)
+    if not np.isfinite(rl):
+        return np.maximum(q, 0.0)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        return np.where(q <= 0, 0.0, np.where(q < rl, q * rl / (rl - q), np.inf))
+
+
+def par_ceiling(y, rl: float):
+    """The largest R with R‖rl <= y: inf where y >= rl (or no load)."""
+    import numpy as np
+
+    y = np.asarray(y, float)
+    if not np.isfinite(rl):
+        return y
+    with np.errstate(divide="ignore", invalid="ignore"):
+        return np.where(y < rl, y * rl / (rl - y), np.inf)

@@ -38,9 +38,9 @@ INTERFACE = (
     "kernel_constants", "stage_transfer", "bypass_corner", "magnitude_constants", "magnitude",
     # the search
     "DESIGN_RESISTORS", "DESIGN_CAPACITORS", "BYPASS_ROLES", "design_roles", "nominal_extras",
-    "swing_ceiling", "base_ceiling",
+    "swing_ceiling", "base_ceiling", "emitter_bounds", "base_load_floor",
     # the report
-    "load_line",
+    "load_line", "schematic_heights", "draw_sides",
 )
 
 

@@ -125,6 +125,61 @@ def test_the_designator_walker_finds_planted_ones(tmp_path):
                                                 "planted.py:3: the string 'Q1\\n'"]
 
 
+def _imported_modules(path: Path) -> set[str]:
+    """The dotted names every import in the file (inside functions too) may load: each module, and
+    each module plus one imported name (``from ..stages import two_stage``)."""
+    package = ["drawerfit", *path.relative_to(PACKAGE).parent.parts]
+    out = set()
+    for node in ast.walk(ast.parse(path.read_text(encoding="utf-8"))):
+        if isinstance(node, ast.Import):
+            out |= {a.name for a in node.names}
+        elif isinstance(node, ast.ImportFrom):
+            base = package[:len(package) - node.level + 1] if node.level else []
+            module = ".".join(base + ([node.module] if node.module else []))
+            out |= {module} | {f"{module}.{a.name}" for a in node.names}
+    return out
+
+
+def _module_name(path: Path) -> str:
+    return ".".join(["drawerfit", *path.relative_to(PACKAGE).with_suffix("").parts])
+
+
+def test_shared_modules_reach_the_two_stage_amplifier_through_the_registry():
+    # shared code asks topologies.assembly_for / assembly_hook; only the two-stage's own modules
+    # (and the registry) import them
+    own = TWO_STAGE_OWN | {PACKAGE / "stages" / "two_stage.py"}
+    names = {_module_name(p) for p in own}
+    found = []
+    for path in sorted(PACKAGE.rglob("*.py")):
+        if path in own or path == REGISTRY:
+            continue
+        found += [f"{path.relative_to(PACKAGE)}: {m}" for m in sorted(_imported_modules(path) & names)]
+    assert found == []
+
+
+def test_the_import_reader_resolves_relative_imports():
+    # the check above can fail: a relative import of the two-stage module is read as its full name
+    path = PACKAGE / "io" / "spec.py"
+    assert "drawerfit.stages.topologies" in _imported_modules(path)
+    assert _module_name(PACKAGE / "stages" / "two_stage.py") == "drawerfit.stages.two_stage"
+    assert "drawerfit.stages.two_stage" in _imported_modules(REGISTRY)
+
+
+@pytest.mark.parametrize("assembly", topologies.ASSEMBLIES, ids=lambda m: m.NAME)
+def test_assembly_names_every_hook(assembly):
+    assert set(assembly.HOOKS) == set(topologies.ASSEMBLY_HOOKS)
+    for hook in topologies.ASSEMBLY_HOOKS:
+        assert callable(topologies.assembly_hook(assembly, hook)), hook
+    assert topologies.assembly_for(assembly.NAME) is assembly
+    # a single stage's name, an unknown one and a value that is no name are not assemblies
+    assert topologies.assembly_for(topologies.TOPOLOGIES[0]) is None
+    assert topologies.assembly_for("no-such-circuit") is None
+    assert topologies.assembly_for(["a", "list"]) is None
+    developers = (ROOT / "DEVELOPERS.md").read_text(encoding="utf-8")
+    section = developers.split("## Adding a circuit", 1)[1].split("\n## ", 1)[0]
+    assert [h for h in topologies.ASSEMBLY_HOOKS if f"`{h}`" not in section] == []
+
+
 def test_registry_lists_every_circuit_module_once():
     assert len(topologies.CIRCUITS) >= 2
     assert all(path.exists() for path in CIRCUIT_FILES)

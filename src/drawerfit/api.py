@@ -42,10 +42,10 @@ def load_stock(stock: Any, *, strict: bool = False):
 def load_spec(spec: Any, stock: Any = None):
     """A ``Spec`` (a ``CascadeSpec`` for a two-stage amplifier) from a TOML spec's path (``stock``
     resolves a transistor given by its label)."""
-    from .io.cascade_spec import CascadeSpec
     from .io.spec import Spec, load_spec as _load
+    from .stages.topologies import ASSEMBLIES, assembly_hook
 
-    if isinstance(spec, (Spec, CascadeSpec)):
+    if isinstance(spec, (Spec, *(assembly_hook(m, "spec_type") for m in ASSEMBLIES))):
         return spec
     return _load(spec, stock=None if stock is None else load_stock(stock))
 
@@ -61,17 +61,17 @@ def analyse(stage: Any, conditions=None, monte_carlo: int = 0, seed: int = 0, ta
     """
     from .analysis import analyse as _analyse
     from .stages import Stage
-    from .stages.two_stage import TwoStage
+    from .stages.topologies import ASSEMBLIES, assembly_for, assembly_hook
 
-    if not isinstance(stage, (Stage, TwoStage)):
+    if not isinstance(stage, (Stage, *(assembly_hook(m, "circuit_type") for m in ASSEMBLIES))):
         spec = load_spec(stage, stock)
         conditions = spec.conditions if conditions is None else conditions
         targets = spec.targets if targets is None else targets
         stage = spec.stage()
-    if isinstance(stage, TwoStage):
-        from .analysis.cascade_result import analyse_cascade
-
-        return analyse_cascade(stage, conditions, monte_carlo=monte_carlo, seed=seed, targets=targets)
+    assembly = assembly_for(stage.topology)
+    if assembly is not None:
+        return assembly_hook(assembly, "analyse")(stage, conditions, monte_carlo=monte_carlo, seed=seed,
+                                                  targets=targets)
     return _analyse(stage, conditions, monte_carlo=monte_carlo, seed=seed, targets=targets)
 
 
@@ -180,10 +180,10 @@ def substitutes(polarity: Any = None, stock: Any = None, *, spec: Any = None, vc
 
 def _single_stage_only(spec, what: str) -> None:
     """SpecError for a two-stage spec where only single stages are served yet."""
-    from .io.cascade_spec import CascadeSpec
     from .parts import SpecError
+    from .stages.topologies import assembly_for
 
-    if isinstance(spec, CascadeSpec):
+    if assembly_for(spec.topology) is not None:
         raise SpecError(f"{spec.path}: {what} works on single stages; a two-stage amplifier is not supported "
                         "there yet (analyze, report, export and take are)")
 
@@ -252,20 +252,14 @@ def design(spec: Any, stock: Any, *, units: int = 1, max_parts: int = 2, guarant
     """
     from .search.design import design as _design
     from .search.problem import problem_from_spec
-
-    from .io.cascade_spec import CascadeSpec
+    from .stages.topologies import assembly_for, assembly_hook
 
     stock = load_stock(stock)
     spec = load_spec(spec, stock)
-    if isinstance(spec, CascadeSpec):  # both stages of a two-stage amplifier, searched together
-        from .search.cascade_result import cascade_problem
-        from .search.cascade_search import WORK_BUDGET, design_cascade
-
-        problem = cascade_problem(spec, units=units, max_parts=max_parts)
-        outcome = design_cascade(problem, list(stock.lines), top=top, exhaustive=exhaustive,
-                                 budget=int(WORK_BUDGET * budget), labels=dict(spec.transistor_labels or {}))
-        outcome.problem, outcome.spec, outcome.stock = problem, spec, stock
-        return outcome
+    assembly = assembly_for(spec.topology)
+    if assembly is not None:  # both stages of a two-stage amplifier, searched together
+        return assembly_hook(assembly, "design")(spec, stock, units=units, max_parts=max_parts, top=top,
+                                                 exhaustive=exhaustive, budget=budget)
     problem = problem_from_spec(spec, units=units, max_parts=max_parts, guarantee=guarantee, prefer=prefer)
     result = _design(problem, stock, top=top, exhaustive=exhaustive, on_step=on_step, budget=budget)
     result.spec, result.stock = spec, stock

@@ -97,10 +97,11 @@ def cautions_for(analysis, *, mains: bool = False) -> list[Caution]:
     amplifier (``analysis.cascade_result.CascadeAnalysis``)."""
     stage = analysis.stage
     polarized = any(p.polarized for r, p in stage.parts.items() if r.startswith("C"))
-    if hasattr(analysis, "circuit"):
-        from .analysis.cascade_checks import cascade_hot_parts
+    from .stages.topologies import assembly_for, assembly_hook
 
-        hot = cascade_hot_parts(analysis.circuit, analysis.worst, POWER_DERATING)
+    assembly = assembly_for(stage.topology)
+    if assembly is not None:
+        hot = assembly_hook(assembly, "hot_parts")(stage, analysis.worst, POWER_DERATING)
     else:
         hot = hot_parts(analysis)
     return stage_cautions(supply=stage.supply, polarized=polarized, hot_parts=hot, mains=mains)

@@ -8,7 +8,7 @@ from ..parts import pin_order_text
 from ..values import format_si
 from .common import emit_json
 
-__all__ = ["run_analyze", "summary_lines", "cascade_summary_lines"]
+__all__ = ["run_analyze", "summary_lines"]
 
 
 def run_analyze(spec_file: str, *, stock_file: str | None = None, as_json: bool = False,
@@ -28,7 +28,10 @@ def run_analyze(spec_file: str, *, stock_file: str | None = None, as_json: bool 
         for c in cautions:
             click.echo(f"caution: {c.text}", err=True)
     else:
-        lines = cascade_summary_lines if hasattr(result, "circuit") else summary_lines
+        from ..stages.topologies import assembly_for, assembly_hook
+
+        assembly = assembly_for(result.stage.topology)
+        lines = summary_lines if assembly is None else assembly_hook(assembly, "summary_lines")
         for line in lines(result, spec, cautions):
             click.echo(line)
     if must_pass and result.warnings:
@@ -155,53 +158,4 @@ def _tail_lines(result, spec, cautions) -> list[str]:
     out.append("Cautions")
     for cau in cautions:
         out.append(f"  * {cau.text}")
-    return out
-
-
-def cascade_summary_lines(result, spec=None, cautions=None) -> list[str]:
-    """The people's summary of a two-stage amplifier (``CascadeAnalysis``), in the single stage's order:
-    warnings, both operating points, the signal, the worst case, the parts, the cautions."""
-    from ..cautions import cautions_for
-
-    if cautions is None:
-        cautions = cautions_for(result, mains=bool(spec and spec.mains))
-    a, f, w, c = result.circuit, result.nominal, result.worst, result.conditions
-    (q1, t1), (q2, t2) = a.transistors.items()
-    out = [_head_line(f"two-stage amplifier ({a.coupling}-coupled)", a, spec),
-           _transistor_line(q1, t1), _transistor_line(q2, t2)]
-    out += _warning_lines(result)
-    out.append("")
-    out.append(f"Operating points at {c.nominal_temp:g} °C, nominal values (node voltages to ground)")
-    states = result.states
-    out.append(f"  {q1}  VB {_v(f.vb1, 'V')}   VE {_v(f.ve1, 'V')}   VC {_v(f.vc1, 'V')}   "
-               f"IE {_v(f.ie1, 'A')}   IC {_v(f.ic1, 'A')}   VCE {_v(f.vce1, 'V')}   {states[q1]}")
-    out.append(f"  {q2}  VB {_v(f.vb2, 'V')}   VE {_v(f.ve2, 'V')}   "
-               f"IE {_v(f.ie2, 'A')}   IC {_v(f.ic2, 'A')}   VCE {_v(f.vce2, 'V')}   {states[q2]}")
-    if result.active:
-        sw = result.swing()
-        out.append("Signal, mid-band")
-        out.append(f"  input {_v(f.rin, 'ohm')}   output {_v(f.rout, 'ohm')}   gain {float(f.gain):.4g} "
-                   f"(source to load; stage 1 {float(f.gain1):.4g}, follower {float(f.gain2):.4g})")
-        own = ", ".join(f"{k} alone {format_si(v, 'Hz')}" for k, v in result.corners().items() if v)
-        out.append(f"  low corner {_v(f.f_low, 'Hz')} for the whole amplifier" + (f" ({own})" if own else ""))
-        out.append(f"  swing ±{_v(f.swing_peak, 'V')} peak into the load, limited by {sw['transistor']} "
-                   f"({sw['limit']})")
-    out.append(f"Worst case over tolerances, hFE {t1.hfe_min:g}–{t1.hfe_max:g} ({q1}) and {t2.hfe_min:g}–"
-               f"{t2.hfe_max:g} ({q2}), {c.ambient_min:g}–{c.ambient_max:g} °C ({w.vertices} corners)")
-    out.append(f"  IE1 {_range(w.low['ie1'], w.high['ie1'], 'A')}   IE2 {_range(w.low['ie2'], w.high['ie2'], 'A')}   "
-               f"VC1 {_range(w.low['vc1'], w.high['vc1'], 'V')}")
-    if bool(w.all_active):
-        g = sorted((abs(float(w.low["gain"])), abs(float(w.high["gain"]))))
-        out.append(f"  |gain| {g[0]:.4g} … {g[1]:.4g}   low corner up to {_v(w.high['f_low'], 'Hz')}   "
-                   f"swing at least ±{_v(w.low['swing_peak'], 'V')}")
-    else:
-        out.append(f"  {q1} or {q2} leaves the active region inside this range: signal figures not given")
-    out.append("Parts")
-    by_name = {ch.name: ch for ch in result.checks}
-    out += _part_lines(a.parts, by_name)
-    for name in a.transistors:
-        ch = by_name[f"{name} power"]
-        out.append(f"  {name}   up to {_v(ch.value, 'W')}"
-                   + (f" of {_v(ch.limit, 'W')} allowed" if ch.limit else ", no PD given"))
-    out += _tail_lines(result, spec, cautions)
     return out

@@ -151,12 +151,11 @@ def run_design(spec_file: str, stock_file: str, *, units: int = 1, max_parts: in
     if not quiet:
         report_problems(stock)
     spec = api.load_spec(spec_file, stock)
-    from ..io.cascade_spec import CascadeSpec
+    from ..stages.topologies import assembly_for, assembly_hook
 
-    if isinstance(spec, CascadeSpec):  # the two-stage amplifier: both stages searched together
-        from .design_two_stage import run_cascade_design
-
-        run_cascade_design(spec, stock, stock_file, units=units, max_parts=max_parts, top=top, as_json=as_json,
+    assembly = assembly_for(spec.topology)
+    if assembly is not None:  # the two-stage amplifier: both stages searched together
+        assembly_hook(assembly, "design_command")(spec, stock, stock_file, units=units, max_parts=max_parts, top=top, as_json=as_json,
                            save=save, exhaustive=exhaustive, quiet=quiet, budget=budget, report=report)
         return
     with progress("design", quiet=quiet) as tick:

@@ -18,7 +18,7 @@ from pathlib import Path
 from typing import Mapping
 
 from ..parts import SpecError
-from ..stages import CAPACITOR_ROLES, RESISTOR_ROLES, Conditions, Stage, topologies, two_stage
+from ..stages import CAPACITOR_ROLES, RESISTOR_ROLES, Conditions, Stage, topologies
 from ..values import ValueParseError, parse_tolerance, parse_value
 
 __all__ = ["PlacedPart", "RoleChoice", "PickItem", "DesignFile", "load_design", "read_design_tree", "DESIGN_KEYS",
@@ -122,7 +122,8 @@ def _source(raw) -> dict:
 # role and transistor: the single stages' and the two-stage amplifier's, from their circuit modules
 _TRANSISTOR_NAMES = tuple(dict.fromkeys(t for m in topologies.CIRCUITS + topologies.ASSEMBLIES
                                         for t in m.TRANSISTORS))
-_KNOWN_ROLES = tuple(dict.fromkeys(RESISTOR_ROLES + CAPACITOR_ROLES + two_stage.ROLES + _TRANSISTOR_NAMES))
+_KNOWN_ROLES = tuple(dict.fromkeys(RESISTOR_ROLES + CAPACITOR_ROLES + sum((m.ROLES for m in topologies.ASSEMBLIES), ())
+                                   + _TRANSISTOR_NAMES))
 
 
 def _roles(path: str, table: Mapping) -> dict[str, RoleChoice]:

@@ -15,7 +15,9 @@ from typing import Any, Mapping
 
 from ..constants import TOL_CERAMIC, TOL_ELECTROLYTIC, TOL_RESISTOR
 from ..parts import SpecError
-from ..stages.topologies import CIRCUITS, TOPOLOGY_ROLES, topology_module
+from ..stages.topologies import (
+    ASSEMBLY_NAMES, CIRCUITS, TOPOLOGY_ROLES, assembly_for, assembly_hook, topology_module,
+)
 from ..values import ValueParseError, parse_tolerance, parse_value, parse_value_and_tolerance
 
 __all__ = ["Spec", "load_spec", "parse_spec", "POLARIZED_FROM"]
@@ -185,19 +187,18 @@ def load_spec(path: str | Path, stock=None, *, label_may_be_absent: bool = False
 def parse_spec(data: Mapping[str, Any], path: str = "<spec>", stock=None, *, label_may_be_absent: bool = False) -> Spec:
     """Build a ``Spec`` from an already-parsed TOML tree (see ``load_spec``)."""
     from ..analysis.targets import IE_WINDOW, Targets
-    from ..stages import Conditions, two_stage
+    from ..stages import Conditions
     from .readable_toml import restore
 
     r = _Reader(path)
-    if isinstance(data, Mapping) and data.get("topology") == two_stage.NAME:
-        from .cascade_spec import parse_cascade_spec
-
-        return parse_cascade_spec(data, path, stock, label_may_be_absent=label_may_be_absent)
+    assembly = assembly_for(data.get("topology")) if isinstance(data, Mapping) else None
+    if assembly is not None:
+        return assembly_hook(assembly, "parse_spec")(data, path, stock, label_may_be_absent=label_may_be_absent)
     r.table("", data, _TOP_KEYS | {"exact"})
     data, notes = restore(data, path)  # a saved design's exact numbers in place of their rounded text
     topology = data.get("topology")
     if not isinstance(topology, str) or topology not in TOPOLOGY_ROLES:
-        known = (*TOPOLOGY_ROLES, two_stage.NAME)
+        known = (*TOPOLOGY_ROLES, *ASSEMBLY_NAMES)
         raise r.fail("topology", topology, f"expected one of {', '.join(known)}")
     polarity, supply, rs, load, mains, title = _surroundings(r, data)
     bypass = data.get("bypass", False)

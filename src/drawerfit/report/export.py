@@ -38,12 +38,11 @@ def _num(x: float) -> str:
 
 def design_netlist(design: DesignFile, *, analyses: bool = True) -> str:
     """The deck as text.  ``analyses`` adds .op and an .ac sweep around the corner."""
-    from ..stages.two_stage import TwoStage
+    from ..stages.topologies import assembly_for, assembly_hook
 
-    if isinstance(design.stage, TwoStage):
-        from .export_two_stage import two_stage_netlist
-
-        return two_stage_netlist(design, analyses=analyses)
+    assembly = assembly_for(design.stage.topology)
+    if assembly is not None:
+        return assembly_hook(assembly, "netlist")(design, analyses=analyses)
     from ..analysis.core import evaluate
     from .bom import roles_in_order
     from .figures import gather, polarity_text

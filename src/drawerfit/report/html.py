@@ -57,12 +57,11 @@ def _several(members, stage) -> str:
 def render_report(design: DesignFile, *, monte_carlo: int = 2000, seed: int = 0, stock_note: str = "",
                   on_step: Callable[..., None] = NO_PROGRESS) -> str:
     """The report as one HTML string."""
-    from ..stages.two_stage import TwoStage
+    from ..stages.topologies import assembly_for, assembly_hook
 
-    if isinstance(design.stage, TwoStage):
-        from .report_two_stage import render_two_stage_report
-
-        return render_two_stage_report(design, monte_carlo=monte_carlo, seed=seed, stock_note=stock_note,
+    assembly = assembly_for(design.stage.topology)
+    if assembly is not None:
+        return assembly_hook(assembly, "report")(design, monte_carlo=monte_carlo, seed=seed, stock_note=stock_note,
                                        on_step=on_step)
     from .. import __version__
     from .export import role_members

@@ -23,9 +23,9 @@ def link_stock(design: DesignFile, stock) -> tuple[DesignFile, str]:
             notes.append("stock file checked: unchanged since the design was made")
         else:
             notes.append("the stock file has changed since the design was made: check the bins before you pick")
-    from ..stages.two_stage import TwoStage
+    from ..stages.topologies import assembly_for
 
-    if isinstance(design.stage, TwoStage):  # its file names both transistors' bins itself
+    if assembly_for(design.stage.topology) is not None:  # a two-stage file names both transistors' bins itself
         return design, "; ".join(notes)
     t = design.stage.transistor
     if not design.transistor_location and t.label:

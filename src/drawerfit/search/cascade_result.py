@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from ..parts import SpecError
 
-__all__ = ["cascade_problem", "cascade_design_dict"]
+__all__ = ["cascade_problem", "cascade_design_dict", "design_two_stage"]
 
 
 def cascade_problem(spec, *, units: int, max_parts: int):
@@ -20,6 +20,18 @@ def cascade_problem(spec, *, units: int, max_parts: int):
     return CascadeProblem(spec.polarity, spec.supply, spec.coupling, spec.targets,
                           conditions=spec.conditions or Conditions(), source_resistance=spec.source_resistance,
                           load=spec.load, bypass=spec.bypass, max_parts=max_parts, units=units)
+
+
+def design_two_stage(spec, stock, *, units: int, max_parts: int, top: int, exhaustive: bool, budget: float):
+    """``drawerfit.design`` on a two-stage spec: both stages searched together, the outcome with its
+    problem, spec and stock attached (``stock`` a loaded ``Stock``)."""
+    from .cascade_search import WORK_BUDGET, design_cascade
+
+    problem = cascade_problem(spec, units=units, max_parts=max_parts)
+    outcome = design_cascade(problem, list(stock.lines), top=top, exhaustive=exhaustive,
+                             budget=int(WORK_BUDGET * budget), labels=dict(spec.transistor_labels or {}))
+    outcome.problem, outcome.spec, outcome.stock = problem, spec, stock
+    return outcome
 
 
 def cascade_design_dict(problem, outcome, analysis=None) -> dict:

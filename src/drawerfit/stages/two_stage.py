@@ -33,6 +33,20 @@ REQUIRED = {
 OPTIONAL = ("RE2", "CE")
 TRANSISTORS = ("Q1", "Q2")
 OUTPUT_NODE = "e2"
+# Where the rest of this circuit lives, for the shared code that serves it (topologies.assembly_hook;
+# DEVELOPERS.md, "Adding a circuit", gives each one's call): imported only when called.
+HOOKS = {
+    "circuit_type": "drawerfit.stages.two_stage:TwoStage",
+    "spec_type": "drawerfit.io.cascade_spec:CascadeSpec",
+    "parse_spec": "drawerfit.io.cascade_spec:parse_cascade_spec",
+    "analyse": "drawerfit.analysis.cascade_result:analyse_cascade",
+    "hot_parts": "drawerfit.analysis.cascade_checks:cascade_hot_parts",
+    "summary_lines": "drawerfit.commands.design_two_stage:cascade_summary_lines",
+    "design": "drawerfit.search.cascade_result:design_two_stage",
+    "design_command": "drawerfit.commands.design_two_stage:run_cascade_design",
+    "netlist": "drawerfit.report.export_two_stage:two_stage_netlist",
+    "report": "drawerfit.report.report_two_stage:render_two_stage_report",
+}
 
 
 def validate_roles(parts: Mapping[str, object], coupling: str) -> None:

@@ -35,23 +35,23 @@ def _lo(worst, name):
 
 def stage_checks(stage, conditions, nominal, worst, targets: Targets | None) -> list[Check]:
     """All checks, most serious first: state, targets, ratings, polarity, advice."""
-    t = stage.transistor
+    t, q = stage.transistor, stage.transistor_name
     out: list[Check] = []
     state = int(nominal.state)
     if state == ACTIVE and bool(worst.all_active):
-        msg = "Q1 is in the active region at nominal values and across the tolerance box"
+        msg = f"{q} is in the active region at nominal values and across the tolerance box"
         ok = True
     elif state == CUTOFF:
-        msg = "Q1 is cut off: the divider puts the base below the turn-on voltage; no signal passes"
+        msg = f"{q} is cut off: the divider puts the base below the turn-on voltage; no signal passes"
         ok = False
     elif state == SATURATED:
-        msg = (f"Q1 is saturated (VCE {format_si(float(nominal.vce), 'V')}): the collector "
+        msg = (f"{q} is saturated (VCE {format_si(float(nominal.vce), 'V')}): the collector "
                "resistor or the bias current is too large; the stage does not amplify")
         ok = False
     else:
-        msg = "Q1 leaves the active region somewhere in the tolerance, hFE or temperature range"
+        msg = f"{q} leaves the active region somewhere in the tolerance, hFE or temperature range"
         ok = False
-    out.append(Check("Q1 state", ok, float(nominal.vce), t.vce_sat, msg, "V", "state"))
+    out.append(Check(f"{q} state", ok, float(nominal.vce), t.vce_sat, msg, "V", "state"))
 
     if targets is not None and targets.given():
         low = {k: np.asarray(v) for k, v in worst.low.items()}
@@ -72,7 +72,7 @@ def stage_checks(stage, conditions, nominal, worst, targets: Targets | None) -> 
                 value = _lo(worst, fig) if side == "low" else _hi(worst, fig)
             word = "at least" if side == "low" else "at most"
             if not np.isfinite(value):
-                shown = "no value (Q1 not active throughout)"
+                shown = f"no value ({q} not active throughout)"
             else:
                 shown = f"{value:.4g}" if unit == "" else format_si(value, unit)
             goal = f"{bound:.4g}" if unit == "" else format_si(bound, unit)
@@ -96,7 +96,6 @@ def stage_checks(stage, conditions, nominal, worst, targets: Targets | None) -> 
                          f"up to {format_si(p, 'W')} against {format_si(limit, 'W')} "
                          f"({conditions.resistor_derating:.0%} of its {format_si(rating, 'W')} rating)", "W"))
 
-    q = stage.transistor_name
     pq = _hi(worst, "p_q")
     if t.pd is None:
         out.append(Check(f"{q} power", None, pq, None,
